@@ -15,7 +15,7 @@ tangent to both neighbours. On a section:
   "Centrobaryca", 1635-1641).
 * `min_wall` gives the thinnest wall as the contract defines it: rays cast along the inward normal
   from points on every surface segment, intersected exactly with lines and circles, counted where
-  they meet the opposite face within 40 degrees of head-on (not a corner or chamfer), the thinnest
+  they meet the opposite face within 20 degrees of head-on (not a corner, chamfer or rim fillet), the thinnest
   ray refined with Brent's bounded minimisation (R. P. Brent, "Algorithms for Minimization without
   Derivatives", 1973, ch. 5, as in scipy's `minimize_scalar(method="bounded")`).
 
@@ -64,7 +64,7 @@ _WALL_END_OFFSET = 1e-12
 _WALL_REFINED_SEGMENTS = 8
 # A ray measures a wall only where it leaves the material through a face turned at most this much from
 # head-on; kept clear of the usual 30 and 45 degree chamfers so that rounding cannot flip the answer.
-_WALL_MAX_INCIDENCE_DEG = 40.0
+_WALL_MAX_INCIDENCE_DEG = 20.0   # a 0.3 mm fillet on a 1 mm rim then reads >= 0.98 of the wall
 _WALL_XATOL = 1e-11
 _RAYS_PER_BATCH = 256  # rays intersected with all segments at once (bounds the size of the work arrays)
 
@@ -985,7 +985,7 @@ def min_wall(section: Section) -> float:
     """The thinnest wall [mm]: the smallest distance from a boundary point, along its inward normal
     through the material, to the opposite boundary (for a tube OD/2 - ID/2).
 
-    The opposite boundary is one the ray meets within 40 degrees of head-on, i.e. a face within 40
+    The opposite boundary is one the ray meets within 20 degrees of head-on, i.e. a face within 20
     degrees of parallel to the one the ray starts from. A ray leaving through a face at a steeper angle
     measures a corner (a square end face meets the tapered OD of a wall at 87 degrees, and the metal
     there thins to nothing at the tip) or a chamfer, not a wall, and is left out; only if no ray at all

@@ -1,0 +1,165 @@
+"""The `deflect` command: parses options, calls the pipeline, prints or writes the results.
+
+No physics here. Bad input ends with one `error:` line on stderr and exit code 2; warnings go to stderr
+with `warning:`; with `--json` stdout holds exactly one JSON object.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+import click
+
+from deflect.errors import InputError, ModelError
+
+EXIT_BAD_INPUT = 2
+
+
+def emit_json(payload: dict) -> None:
+    click.echo(json.dumps(payload, indent=2))
+
+
+def warn(lines: list[str], path: str) -> None:
+    for line in lines:
+        click.echo(f"warning: {path}: {line}", err=True)
+
+
+def parse_pair(text: str, option: str, names: str) -> tuple[float, float]:
+    """'R,Z' -> (R, Z); an InputError naming the option otherwise."""
+    parts = text.split(",")
+    try:
+        if len(parts) != 2:
+            raise ValueError
+        first, second = float(parts[0]), float(parts[1])
+    except ValueError:
+        raise InputError(option, f"expects {names} as two numbers with a comma, got {text!r}") from None
+    return first, second
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="deflect")
+def cli():
+    """Predict how thin turned walls push away from the tool, and what that leaves on the part.
+
+    Lengths in mm, forces in N, moduli in MPa, density g/cm3, mass g. Predictions are estimates to be
+    confirmed on first articles; the machine's and chuck maker's limits and local safety rules come first.
+    """
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+def section(job_file, as_json):
+    """Mass properties and thinnest wall of the finished part in JOB_FILE."""
+    from deflect.job import read_job
+    from deflect.report import section_table
+    from deflect.section import mass_properties, min_wall
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    props = mass_properties(job.section, job.material.density_g_cm3)
+    wall_mm = min_wall(job.section)
+    payload = {
+        "area_mm2": props.area_mm2,
+        "volume_mm3": props.volume_mm3,
+        "mass_g": props.mass_g,
+        "centroid_r_mm": props.centroid_r_mm,
+        "centroid_z_mm": props.centroid_z_mm,
+        "inertia_axial_kg_mm2": props.inertia_axial_kg_mm2,
+        "min_wall_mm": wall_mm,
+        "material": job.material.name,
+        "density_g_cm3": job.material.density_g_cm3,
+    }
+    if as_json:
+        emit_json(payload)
+    else:
+        click.echo(section_table(job.title, payload))
+
+
+MATRIX_AXES = ["normal (into the material)", "circumferential", "along the boundary"]
+
+
+def point_record(point) -> dict:
+    return {"r": point.r_mm, "z": point.z_mm, "nr": point.nr, "nz": point.nz,
+            "compliance_mm_per_N": point.normal_mm_per_n,
+            "matrix_mm_per_N": point.matrix_mm_per_n.tolist(),
+            "stiffness_N_per_mm": 1.0 / point.normal_mm_per_n if point.normal_mm_per_n > 0 else None,
+            "harmonics": point.harmonics}
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--at", "at", multiple=True, metavar="R,Z",
+              help="A point on (or near) the section boundary, in the job's units; repeat for several.")
+@click.option("--patch", default="2,2", show_default=True, metavar="A,W",
+              help="Contact patch: A along the section boundary, W around the circumference (job's units).")
+@click.option("--tol", "tolerance", default=1e-3, show_default=True, type=float,
+              help="Relative truncation tolerance of the Fourier-harmonic sum.")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
+              help="Without --at: draw the compliance map along the boundary into this PNG file.")
+def compliance(job_file, at, patch, tolerance, as_json, plot_file):
+    """Compliance of the held part at boundary points: how far the wall gives per newton.
+
+    A unit force presses into the material along the boundary normal, spread over the patch. Without
+    --at, the whole boundary is mapped.
+    """
+    from deflect.compliance import Patch, WallModel
+    from deflect.job import MM_PER_INCH, read_job
+    from deflect.report import compliance_table
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    factor = MM_PER_INCH if job.units == "inch" else 1.0
+    length, width = parse_pair(patch, "--patch", "A,W")
+    if not (tolerance > 0 and tolerance < 0.5):
+        raise InputError("--tol", f"must lie between 0 and 0.5, got {tolerance:g}")
+    points = [parse_pair(text, "--at", "R,Z") for text in at]
+    try:
+        model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
+                          Patch(length * factor, width * factor), tolerance)
+        if points:
+            results = model.at_points([(r * factor, z * factor) for r, z in points])
+        else:
+            results = model.map()
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    payload = {"points": [point_record(p) for p in results],
+               "matrix_axes": MATRIX_AXES,
+               "patch_mm": {"length": length * factor, "width": width * factor},
+               "tolerance": tolerance}
+    if plot_file and not points:
+        from deflect.plots import compliance_map_plot
+        compliance_map_plot(job.section, results, job.title, plot_file)
+    if as_json:
+        emit_json(payload)
+    else:
+        click.echo(compliance_table(job.title, results, mapped=not points))
+        if plot_file and not points:
+            click.echo(f"compliance map drawn in {plot_file}")
+
+
+def main(argv: list[str] | None = None) -> None:
+    """Entry point: runs the click group and turns every input problem into one `error:` line, exit 2."""
+    try:
+        cli.main(args=argv, prog_name="deflect", standalone_mode=False)
+    except (InputError, ModelError) as exc:
+        click.echo(exc.line(), err=True)
+        sys.exit(EXIT_BAD_INPUT)
+    except click.exceptions.NoArgsIsHelp as exc:
+        click.echo(exc.ctx.get_help() if exc.ctx else str(exc))
+        sys.exit(EXIT_BAD_INPUT)
+    except click.UsageError as exc:
+        command = exc.ctx.command_path if exc.ctx else "deflect"
+        click.echo(f"error: {command}: {exc.format_message()}", err=True)
+        sys.exit(EXIT_BAD_INPUT)
+    except click.Abort:
+        click.echo("error: aborted", err=True)
+        sys.exit(1)
+    except click.exceptions.Exit as exc:
+        sys.exit(exc.exit_code)
+    except click.ClickException as exc:
+        click.echo(f"error: {exc.format_message()}", err=True)
+        sys.exit(EXIT_BAD_INPUT)
