@@ -141,6 +141,91 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
             click.echo(f"compliance map drawn in {plot_file}")
 
 
+def run_prediction(job_file: str, show_progress: bool):
+    """Read, check and simulate a machining job (shared by `predict` and `demo`)."""
+    from deflect.job import read_job
+    from deflect.process import process_from_job
+    from deflect.simulate import simulate
+
+    job = read_job(job_file)
+    try:
+        process = process_from_job(job)
+        warn(job.warnings + process.warnings, job_file)
+
+        def progress(pass_name, cut):
+            if show_progress:
+                click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
+
+        return simulate(job, process, progress=progress)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+
+
+def write_outputs(pred, csv_dir, plot_dir) -> list:
+    written = []
+    if csv_dir:
+        from deflect.export import write_csv
+        written += write_csv(pred, csv_dir)
+    if plot_dir:
+        from deflect.plots import predict_plots
+        written += predict_plots(pred, plot_dir)
+    return written
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
+              help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
+@click.option("--plot", "plot_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the section, the deviation and the pass forces as PNG files into this folder.")
+@click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
+def predict(job_file, as_json, csv_dir, plot_dir, quiet):
+    """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
+
+    Reports the push-off at every station, the material left on each finished surface, the mass gain over
+    nominal with its range for the spread of the force constants, cycle time and peak power.
+    """
+    from deflect.payload import prediction_payload
+    from deflect.report_predict import predict_report
+
+    pred = run_prediction(job_file, show_progress=not (quiet or as_json))
+    written = write_outputs(pred, csv_dir, plot_dir)
+    if as_json:
+        emit_json(prediction_payload(pred))
+    else:
+        click.echo(predict_report(pred))
+        for path in written:
+            click.echo(f"wrote {path}")
+
+
+@cli.command()
+@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="deflect-demo", show_default=True,
+              help="Folder for the demo's report, JSON, CSV files and figures.")
+def demo(out_dir):
+    """Predict the shipped example: a thin-walled aluminium instrument housing (data/examples/housing.toml)."""
+    from pathlib import Path
+
+    from deflect.materials import library_path
+    from deflect.payload import prediction_payload
+    from deflect.report_predict import predict_report
+
+    job_file = str(library_path().parent / "examples" / "housing.toml")
+    click.echo(f"deflect demo: predicting {job_file}", err=True)
+    pred = run_prediction(job_file, show_progress=True)
+    out = Path(out_dir)
+    out.mkdir(parents=True, exist_ok=True)
+    report = predict_report(pred)
+    (out / "report.txt").write_text(report + "\n")
+    (out / "prediction.json").write_text(json.dumps(prediction_payload(pred), indent=2))
+    written = write_outputs(pred, out / "csv", out / "figures")
+    click.echo(report)
+    click.echo(f"\nreport, JSON, CSV and figures written to {out.resolve()}:")
+    for path in [out / "report.txt", out / "prediction.json", *written]:
+        click.echo(f"  {path}")
+
+
 def main(argv: list[str] | None = None) -> None:
     """Entry point: runs the click group and turns every input problem into one `error:` line, exit 2."""
     try:

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class StationTable:
     """The tool's positions along one cut, in feed order (arrays of equal length K)."""
 
@@ -46,8 +46,8 @@ class PassResult:
     mass_left_g: float               # material this pass left on the finished part (its share of the gain)
 
 
-@dataclass(frozen=True)
-class Deviation:
+@dataclass(frozen=True, eq=False)
+class SurfaceDeviation:
     """Material left beyond the finished surface, along its outward normal (> 0: thicker than drawn)."""
 
     points_rz: np.ndarray            # (P, 2) points along the finished boundary
@@ -71,7 +71,7 @@ class SurfaceCheck:
 
 
 @dataclass(frozen=True)
-class Spread:
+class SpreadValue:
     """A headline figure with its range for the stated spread of the force constants."""
 
     value: float
@@ -79,22 +79,22 @@ class Spread:
     high: float
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Prediction:
     title: str
     material: str
     force_spread: float                       # relative spread of the Kienzle constants used for the ranges
     nominal_mass_g: float
     nominal_inertia_kg_mm2: float
-    predicted_mass_g: Spread
+    predicted_mass_g: SpreadValue
     predicted_inertia_kg_mm2: float
-    mass_gain_g: Spread
-    max_deviation_mm: Spread
+    mass_gain_g: SpreadValue
+    max_deviation_mm: SpreadValue
     cycle_time_s: float
     machine_power_kw: float
     peak_power_kw: float
     passes: list[PassResult]
-    deviation: Deviation
+    deviation: SurfaceDeviation
     surfaces: list[SurfaceCheck]
     wall: list[dict]                          # wall thickness against nominal at the checked heights
     machined_rz: np.ndarray                   # the as-machined half-section (CCW polygon)

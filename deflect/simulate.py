@@ -1,0 +1,364 @@
+"""Machining simulation: every pass over the in-process part, with the wall giving way under the tool.
+
+Takes a checked `Job` and its `Process` (stock, tools, passes, machine); gives a `results.Prediction`.
+
+For each pass, cut by cut (roughing steps, the finishing cut, spring cuts), station by station along the
+tool path:
+1. the depth of material the tool meets beyond its target, on the part as it is before this cut
+   (`inprocess.depth_of_material`); earlier push-off is already in it, so leftover becomes extra depth;
+2. the 3x3 compliance of the part as it is while the tool stands there: material this cut has removed up
+   to the tool is gone, material ahead is still there (`inprocess.remove(..., upto=k)`, then a new shell
+   model of that shape, `compliance.WallModel`). It is computed at a few key stations of each cut and
+   interpolated along the path between them (`KEY_STATIONS`; the convergence test doubles them);
+3. the cutting, feed and passive forces of the chip actually taken (`cutting.cutting_forces`: Kienzle on
+   Colwell's equivalent edge) and the force-deflection equilibrium
+       a = a_met - delta(a),   delta = C_nn F_p + C_nt F_feed,t + c_tool F_p,
+   solved by bisection (delta grows with a, so the root is unique and bracketed by [0, 2 a_met]);
+4. the surface the cut leaves is the target pushed out by delta (`inprocess.remove`).
+
+The force constants are uncertain (batch, wear): the whole chain is run again with every force scaled by
+1 - spread and 1 + spread, reusing the compliances (they do not depend on the force constants), to give the
+range of every headline figure.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from shapely.geometry import Polygon
+from shapely.geometry.polygon import orient
+
+from deflect.compliance import Patch, WallModel
+from deflect.cutting import cutting_forces, cutting_time_s
+from deflect.inprocess import (POLYGON_CHORD_MM, CutPath, cuts_for_pass, depth_of_material, deviation_along,
+                               polygon_mass, remove)
+from deflect.process import Pass, Process
+from deflect.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.section import Line, Section, mass_properties
+
+STATION_SPACING_MM = 0.1        # tool positions along a path; fine enough for the chords of 1 mm fillets
+KEY_STATIONS = 6                # compliance evaluations per cut, interpolated between (convergence-tested)
+# The tool's contact: 1 mm along the meridian (of the order of the chip width), 2 mm around. A 1 x 1 mm
+# patch reads about 2 % more compliant on a 1.2 mm aluminium wall, well inside the force constants' spread.
+CONTACT_PATCH = Patch(length_mm=1.0, width_mm=2.0)
+ELEMENT_MM = 0.5                # meridian elements: within 0.3 % of a 4x finer mesh on thin walls, 2 % at junctions
+HARMONIC_TOLERANCE = 1e-2       # bound on the series' tail; the true truncation error is far smaller
+RUN_TURN_DEG = 10.0             # a path's stretch of constant normal ends where the normal has turned this much
+SHORTEST_RUN_SHARE = 0.1        # stretches shorter than this share of a cut get no key station of their own
+SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
+DEVIATION_SPACING_MM = 0.1
+MIN_CHIP_MM = 0.005             # below this the edge rubs rather than cuts (common practice, honed carbide)
+RUBBING_SHARE = 0.25            # ... or where the tool takes less than this share of the depth it meets
+BISECTION_STEPS = 60            # halves the bracket to 2^-60 of the met depth
+
+
+@dataclass(frozen=True)
+class SimulationSettings:
+    station_spacing_mm: float = STATION_SPACING_MM
+    key_stations: int = KEY_STATIONS
+    patch: Patch = CONTACT_PATCH
+    element_mm: float = ELEMENT_MM
+    harmonic_tolerance: float = HARMONIC_TOLERANCE
+
+
+def section_of_polygon(rz: np.ndarray) -> Section:
+    """A Section made of the straight edges of a counter-clockwise polygon (already valid), with points that
+    lie within SIMPLIFY_MM of a straight line dropped."""
+    simple = shapely.simplify(Polygon(rz), SIMPLIFY_MM, preserve_topology=True)
+    ring = np.asarray(orient(simple, 1.0).exterior.coords)[:-1]
+    points = [tuple(map(float, p)) for p in ring]
+    return Section(tuple(Line(points[i], points[(i + 1) % len(points)]) for i in range(len(points))))
+
+
+def straight_runs(normals: np.ndarray, turn_deg: float = RUN_TURN_DEG) -> list[tuple[int, int]]:
+    """Stretches of a path whose normal stays within turn_deg of its first station's (od, bore, face, and
+    short pieces of a fillet): (first, last) station indices."""
+    runs, first = [], 0
+    cos_turn = math.cos(math.radians(turn_deg))
+    for k in range(1, len(normals)):
+        if np.dot(normals[k], normals[first]) < cos_turn:
+            runs.append((first, k - 1))
+            first = k
+    runs.append((first, len(normals) - 1))
+    return runs
+
+
+def key_indices(path: CutPath, met_depth_mm: np.ndarray, count: int, lead_in: int) -> np.ndarray:
+    """Stations where the compliance is computed. Interpolating across a corner of the path would mix
+    compliances along different normals, so keys are placed on each stretch of constant normal where the
+    tool cuts, from `lead_in` stations after its start (once the tool has a cut surface behind it to bear on)
+    to its end, about `count` in all; stretches shorter than SHORTEST_RUN_SHARE of the cut (fillets, a short
+    shoulder) take their neighbours' values. A path with no such stretch gets one key in the middle of its cut."""
+    cutting = np.flatnonzero(met_depth_mm > 0.0)
+    if len(cutting) == 0:
+        return cutting
+    runs = []
+    shortest = max(2 * lead_in, round(SHORTEST_RUN_SHARE * len(cutting)))
+    for first, last in straight_runs(path.normals):
+        inside = cutting[(cutting >= first) & (cutting <= last)]
+        if len(inside) > shortest:
+            runs.append((inside[0] + lead_in, inside[-1]))
+    if not runs:
+        return np.array([cutting[len(cutting) // 2]])
+    total = sum(last - first for first, last in runs)
+    keys = [first + (last - first) * clustered(max(2, round(count * (last - first) / total)))
+            for first, last in runs]
+    return np.unique(np.concatenate(keys).round().astype(int))
+
+
+def clustered(m: int) -> np.ndarray:
+    """m points on [0, 1], closer together at the ends (Chebyshev-Lobatto), where the compliance of a wall
+    changes fastest: at its free end and where it is held."""
+    return 0.5 * (1.0 - np.cos(np.pi * np.arange(m) / (m - 1)))
+
+
+def contact_point(path: CutPath, k: int, behind_mm: float) -> np.ndarray:
+    """Where the tool bears on the part: on the freshly cut surface just behind the tool tip."""
+    travelled = np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1))])
+    shift = min(behind_mm, 0.5 * travelled[k])   # near the start: midway between the part's end and the tool
+    return path.points_rz[k] - shift * path.feed_dir[k]
+
+
+def cut_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, met_depth_mm: np.ndarray,
+                   settings: SimulationSettings) -> np.ndarray:
+    """(K, 3, 3) compliance of the part along a cut: normal, circumferential, along the boundary (CCW)."""
+    count = len(path.points_rz)
+    behind_mm = 0.5 * settings.patch.length_mm
+    keys = key_indices(path, met_depth_mm, settings.key_stations, math.ceil(behind_mm / settings.station_spacing_mm))
+    matrices = np.zeros((count, 3, 3))
+    if len(keys) == 0:
+        return matrices
+    at_keys = np.array([key_compliance(job, current_rz, path, p, int(k), behind_mm, settings) for k in keys])
+    # compliance changes by orders of magnitude from the held end to a free rim: interpolate the normal
+    # compliance in log scale, the other entries in proportion to it
+    stations = np.arange(count)
+    normal = np.maximum(at_keys[:, 0, 0], 1e-15)
+    normal_at = np.exp(np.interp(stations, keys, np.log(normal)))
+    for i in range(3):
+        for j in range(3):
+            matrices[:, i, j] = normal_at * np.interp(stations, keys, at_keys[:, i, j] / normal)
+    return matrices
+
+
+def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,
+                   settings: SimulationSettings) -> np.ndarray:
+    """3x3 compliance with the tool at station k, the part cut up to there."""
+    shape = remove(current_rz, path, np.zeros(len(path.points_rz)), p.surface, upto=k, name=f"'{p.name}'")
+    model = WallModel(section_of_polygon(shape), job.held, job.material.E_mpa, job.material.nu,
+                      settings.patch, settings.harmonic_tolerance, strict_patch=False,
+                      element_mm=settings.element_mm)
+    r, z = contact_point(path, k, behind_mm)
+    return model.at_contacts([(r, z)], [path.normals[k]])[0].matrix_mm_per_n
+
+
+def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.ndarray, tool_c: float,
+                job, tool, p: Pass, force_scale: float):
+    """Depth actually cut and the forces there, where the push-off and the chip agree.
+
+    delta(a) = C_nn F_p + C_na s F_f + c_tool F_p along the inward normal (away from the tool), with s the sign
+    of the feed direction along the boundary tangent; the cutting force is circumferential and, at the load
+    point, does not move the surface along the normal (C_nt = 0 by symmetry). Bisection on
+    g(a) = a + delta(a) - a_met, g(0) = -a_met <= 0.
+    """
+    c_nn = compliance[:, 0, 0]
+    c_na = compliance[:, 0, 2]
+
+    def push_off(depth):
+        forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min, force_scale=force_scale)
+        passive, feed = np.asarray(forces.passive_n), np.asarray(forces.feed_n)
+        return (c_nn + tool_c) * passive + c_na * feed_sign * feed, forces
+
+    low = np.zeros_like(met_depth_mm)
+    high = 2.0 * met_depth_mm
+    for _ in range(BISECTION_STEPS):
+        middle = 0.5 * (low + high)
+        delta, _ = push_off(middle)
+        above = middle + delta - met_depth_mm > 0.0
+        high = np.where(above, middle, high)
+        low = np.where(above, low, middle)
+    depth = 0.5 * (low + high)
+    delta, forces = push_off(depth)
+    return depth, delta, forces
+
+
+def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarray, compliance: np.ndarray,
+            force_scale: float, cut_index: int) -> tuple[StationTable, np.ndarray]:
+    """One cut: equilibrium at every station and the part it leaves."""
+    tool = process.tools[p.tool]
+    met = depth_of_material(current_rz, path)
+    tangent = np.column_stack([-path.normals[:, 1], path.normals[:, 0]])   # CCW tangent of the boundary
+    feed_sign = np.sign(np.einsum("ij,ij->i", path.feed_dir, tangent))
+    tool_c = tool.compliance_mm_per_n()
+    depth, delta, forces = equilibrium(met, compliance, feed_sign, tool_c, job, tool, p, force_scale)
+    left = np.where(met > 0.0, delta, 0.0)
+    after = remove(current_rz, path, left, p.surface, name=f"'{p.name}'")
+    chip = np.asarray(forces.chip.chip_thickness_mm) * np.ones_like(depth)
+    rubbing = (met > 0.0) & ((depth < RUBBING_SHARE * met) | (chip < MIN_CHIP_MM))
+    table = StationTable(
+        r_mm=path.points_rz[:, 0].copy(), z_mm=path.points_rz[:, 1].copy(), normal_rz=path.normals.copy(),
+        met_depth_mm=met, depth_mm=np.where(met > 0.0, depth, 0.0),
+        chip_thickness_mm=np.where(met > 0.0, chip, 0.0),
+        cutting_n=np.where(met > 0.0, forces.cutting_n, 0.0), feed_n=np.where(met > 0.0, forces.feed_n, 0.0),
+        passive_n=np.where(met > 0.0, forces.passive_n, 0.0), compliance_mm_per_n=compliance[:, 0, 0].copy(),
+        tool_compliance_mm_per_n=tool_c, deflection_mm=left,
+        power_kw=np.where(met > 0.0, forces.power_kw, 0.0), rubbing=rubbing, cut=cut_index)
+    return table, after
+
+
+def run_passes(job, process: Process, settings: SimulationSettings, force_scale: float,
+               cache: dict, nominal_rz: np.ndarray, progress=None):
+    """All passes in order; returns the per-pass station tables and the as-machined polygon."""
+    current = process.stock_rz
+    per_pass = []
+    for i, p in enumerate(process.passes):
+        tables = []
+        for j, path in enumerate(cuts_for_pass(current, nominal_rz, p, settings.station_spacing_mm)):
+            if (i, j) not in cache:
+                met = depth_of_material(current, path)
+                cache[(i, j)] = cut_compliance(job, current, path, p, met, settings)
+            compliance = cache[(i, j)]
+            if len(compliance) != len(path.points_rz):     # a different cut layout in a spread run
+                compliance = cut_compliance(job, current, path, p, depth_of_material(current, path), settings)
+            table, current = run_cut(job, process, p, path, current, compliance, force_scale, j)
+            tables.append(table)
+            if progress:
+                progress(p.name, j)
+        per_pass.append(tables)
+    return per_pass, current
+
+
+def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
+    return float(sum(cutting_time_s(t.r_mm, t.z_mm, p.feed_mm, p.speed_m_min, max_rpm) for t in tables))
+
+
+def finished_by(deviation, process: Process, per_pass: list[list[StationTable]]) -> tuple[list[str], list[str]]:
+    """For each deviation point: the kind of surface and the name of the last pass that cut there."""
+    surfaces = ["unmachined"] * len(deviation.points_rz)
+    names = [""] * len(deviation.points_rz)
+    for p, tables in zip(process.passes, per_pass):
+        final = tables[-1]
+        path = np.column_stack([final.r_mm, final.z_mm])
+        reach = abs(p.allowance_mm + p.offset_mm) + 0.05
+        for k, (point, normal) in enumerate(zip(deviation.points_rz, deviation.normals)):
+            facing = {"od": normal[0] > 0.3, "id": normal[0] < -0.3, "face": normal[1] > 0.3}[p.surface]
+            if facing and np.min(np.linalg.norm(path - point, axis=1)) <= reach + STATION_SPACING_MM:
+                surfaces[k], names[k] = p.surface, p.name
+    return surfaces, names
+
+
+def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
+    """Mass of the layer each deviation point stands for: rho 2 pi (r + d n_r / 2) d ds (Pappus)."""
+    spacing = np.linalg.norm(np.diff(np.vstack([points_rz, points_rz[:1]]), axis=0), axis=1)
+    ds = 0.5 * (spacing + np.roll(spacing, 1))
+    mid_r = points_rz[:, 0] + 0.5 * deviation_mm * normals[:, 0]
+    return density_g_cm3 * 1e-3 * 2.0 * math.pi * mid_r * deviation_mm * ds
+
+
+def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
+    """Push-off at the chuck end (low z), the middle and the free end of each finished od and id."""
+    checks = []
+    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, density)
+    for surface in ("od", "id"):
+        chosen = [k for k, s in enumerate(deviation.surface) if s == surface and abs(deviation.normals[k][0]) > 0.9]
+        if len(chosen) < 3:
+            continue
+        z = deviation.points_rz[chosen, 1]
+        order = np.array(chosen)[np.argsort(z)]
+        picks = {"chuck end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
+        positions = {name: tuple(map(float, deviation.points_rz[k])) for name, k in picks.items()}
+        left = {name: float(deviation.deviation_mm[k]) for name, k in picks.items()}
+        nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
+        predicted = {name: 2.0 * (deviation.points_rz[k][0] + deviation.deviation_mm[k] * deviation.normals[k][0])
+                     for name, k in picks.items()}
+        mine = [k for k, s in enumerate(deviation.surface) if s == surface]
+        checks.append(SurfaceCheck(surface=surface, positions=positions, deviation_mm=left,
+                                   nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
+                                   predicted_diameter_mm={k: float(v) for k, v in predicted.items()},
+                                   max_deviation_mm=float(np.max(deviation.deviation_mm[mine])),
+                                   mass_left_g=float(layer[mine].sum())))
+    return checks
+
+
+def wall_checks(checks: list[SurfaceCheck], deviation: SurfaceDeviation) -> list[dict]:
+    """Wall thickness against nominal at the od's chuck end, middle and free end, where a bore faces it."""
+    by_surface = {c.surface: c for c in checks}
+    if "od" not in by_surface or "id" not in by_surface:
+        return []
+    bore = [k for k, s in enumerate(deviation.surface) if s == "id"]
+    bore_z = deviation.points_rz[bore, 1]
+    order = np.argsort(bore_z)
+    rows = []
+    for name, (r_od, z) in by_surface["od"].positions.items():
+        if not (bore_z.min() <= z <= bore_z.max()):
+            continue
+        r_id = float(np.interp(z, bore_z[order], deviation.points_rz[bore, 0][order]))
+        left_id = float(np.interp(z, bore_z[order], deviation.deviation_mm[bore][order]))
+        nominal = r_od - r_id
+        rows.append({"where": name, "z_mm": z, "nominal_mm": nominal,
+                     "predicted_mm": nominal + by_surface["od"].deviation_mm[name] + left_id})
+    return rows
+
+
+def simulate(job, process: Process, settings: SimulationSettings = SimulationSettings(), progress=None) -> Prediction:
+    """Machine the part pass by pass; the nominal constants and their +/- spread."""
+    material = job.material
+    nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
+    cache: dict = {}
+    per_pass, machined = run_passes(job, process, settings, 1.0, cache, nominal_rz, progress)
+    spread = material.force_spread
+    ranges = [run_passes(job, process, settings, scale, cache, nominal_rz)[1]
+              for scale in (1.0 - spread, 1.0 + spread)]
+
+    nominal = mass_properties(job.section, material.density_g_cm3)
+    mass, inertia, _ = polygon_mass(machined, material.density_g_cm3)
+    range_masses = [polygon_mass(rz, material.density_g_cm3)[0] for rz in ranges]
+
+    raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
+    surfaces, names = finished_by(raw, process, per_pass)
+    deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals, deviation_mm=raw.deviation_mm,
+                                 surface=surfaces, finished_by=names)
+    range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm))
+                 for rz in ranges]
+    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, material.density_g_cm3)
+
+    passes = []
+    for p, tables in zip(process.passes, per_pass):
+        mine = np.array([n == p.name for n in names], bool)
+        passes.append(PassResult(
+            name=p.name, surface=p.surface, tool=p.tool, feed_mm=p.feed_mm, speed_m_min=p.speed_m_min,
+            cuts=tables, cycle_time_s=pass_time_s(tables, p, process.machine.max_rpm),
+            max_deflection_mm=float(max(t.deflection_mm.max(initial=0.0) for t in tables)),
+            peak_power_kw=float(max(t.power_kw.max(initial=0.0) for t in tables)),
+            mass_left_g=float(layer[mine].sum()) if mine.any() else 0.0))
+
+    by_surface = {}
+    for name in ("od", "id", "face", "unmachined"):
+        mine = np.array([s == name for s in surfaces], bool)
+        if mine.any():
+            by_surface[name] = float(layer[mine].sum())
+    checks = surface_checks(deviation, material.density_g_cm3)
+    peak_power = max((p.peak_power_kw for p in passes), default=0.0)
+    warnings = list(process.warnings)
+    if peak_power > process.machine.power_kw:
+        warnings.append(f"peak cutting power {peak_power:.2f} kW exceeds the machine's {process.machine.power_kw:g} kW")
+    rubbing = sum(int(t.rubbing.sum()) for tables in per_pass for t in tables)
+    if rubbing:
+        warnings.append(f"{rubbing} station(s) rub rather than cut: the wall gives way so far that the tool "
+                        "barely takes a chip (see the 'rubbing' column)")
+    max_dev = float(np.max(deviation.deviation_mm))
+    gains = [m - nominal.mass_g for m in range_masses]
+    return Prediction(
+        title=job.title, material=material.name, force_spread=spread,
+        nominal_mass_g=nominal.mass_g, nominal_inertia_kg_mm2=nominal.inertia_axial_kg_mm2,
+        predicted_mass_g=SpreadValue(mass, min(range_masses), max(range_masses)),
+        predicted_inertia_kg_mm2=inertia,
+        mass_gain_g=SpreadValue(mass - nominal.mass_g, min(gains), max(gains)),
+        max_deviation_mm=SpreadValue(max_dev, min(range_max), max(range_max)),
+        cycle_time_s=float(sum(p.cycle_time_s for p in passes)),
+        machine_power_kw=process.machine.power_kw, peak_power_kw=peak_power,
+        passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(checks, deviation),
+        machined_rz=machined, nominal_rz=nominal_rz, stock_rz=process.stock_rz,
+        mass_gain_by_surface_g=by_surface, warnings=warnings)
