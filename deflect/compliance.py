@@ -91,6 +91,10 @@ class WallModel:
         self.tolerance = tolerance
         self.geometry: ShellGeometry = shell_from_section(section, held, element_mm or element_size_mm(section, patch))
         self.shell = HarmonicShell(self.geometry.mesh, E_mpa, nu)
+        # Where the wall is held, the compliance tends to zero and a relative tolerance means nothing; there
+        # the series is summed to tol times the contact scale of the patch, (1 - nu^2) / (E sqrt(A W)) (the
+        # order of a half-space's compliance under such a patch, Johnson, Contact Mechanics, 1985, ch. 3).
+        self.floor_mm_per_n = (1.0 - nu**2) / (E_mpa * math.sqrt(patch.length_mm * patch.width_mm))
         r_min, r_max, z_min, z_max = section.bounds()
         self.far_mm = max(FAR_FROM_BOUNDARY_MM, 0.02 * max(r_max - r_min, z_max - z_min))
         self.step_mm = section.perimeter() / 4000.0
@@ -156,7 +160,8 @@ class WallModel:
             loads.append(self.load_at(s, point, normal))
             directions.append([-normal, tangent])
             located.append((point, normal))
-        matrices, harmonics = harmonic_compliance(self.shell, loads, np.array(directions), tol=self.tolerance)
+        matrices, harmonics = harmonic_compliance(self.shell, loads, np.array(directions), tol=self.tolerance,
+                                                  floor_mm_per_n=self.floor_mm_per_n)
         return [PointCompliance(r_mm=float(p[0]), z_mm=float(p[1]), nr=float(n[0]), nz=float(n[1]),
                                 matrix_mm_per_n=matrices[i], harmonics=int(harmonics))
                 for i, (p, n) in enumerate(located)]

@@ -34,7 +34,8 @@ def compliance_map_plot(section, points: list, title: str, path: str) -> None:
     ax_section.fill(closed[:, 0], closed[:, 1], color="0.88", label="section")
     ax_section.plot(closed[:, 0], closed[:, 1], color="0.3", lw=0.8)
     shown = ax_section.scatter(r, z, c=values_um, cmap="viridis", s=14,
-                               norm=LogNorm(vmin=values_um.min(), vmax=values_um.max()), label="loaded points")
+                               norm=LogNorm(vmin=max(values_um.min(), values_um.max() * 1e-4), vmax=values_um.max()),
+                               label="loaded points (held zones off the scale)")
     fig.colorbar(shown, ax=ax_section, label="normal compliance [um/N]")
     ax_section.set_aspect("equal")
     ax_section.set_xlabel("r [mm]")
@@ -43,6 +44,7 @@ def compliance_map_plot(section, points: list, title: str, path: str) -> None:
     ax_section.legend(loc="best", fontsize=8)
 
     ax_line.semilogy(np.arange(len(points)), values_um, ".-", lw=0.8, label="normal compliance")
+    ax_line.set_ylim(bottom=max(values_um.min(), values_um.max() * 1e-4) / 2.0)
     ax_line.set_xlabel("point along the boundary (counter-clockwise from the first outline node)")
     ax_line.set_ylabel("compliance [um/N]")
     ax_line.set_title("compliance along the boundary")

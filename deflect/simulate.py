@@ -24,6 +24,9 @@ range of every headline figure.
 from __future__ import annotations
 
 import math
+import multiprocessing
+import os
+from concurrent.futures import ProcessPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -47,11 +50,15 @@ CONTACT_PATCH = Patch(length_mm=1.0, width_mm=2.0)
 ELEMENT_MM = 0.5                # meridian elements: within 0.3 % of a 4x finer mesh on thin walls, 2 % at junctions
 HARMONIC_TOLERANCE = 1e-2       # bound on the series' tail; the true truncation error is far smaller
 RUN_TURN_DEG = 10.0             # a path's stretch of constant normal ends where the normal has turned this much
+MET_TURN_DEG = 30.0             # where the path turns this much, the depth met is measured on the part as cut so far
 SHORTEST_RUN_SHARE = 0.1        # stretches shorter than this share of a cut get no key station of their own
+MAX_WORKERS = 4                 # processes for the key stations' shell models
+KEEP_MM = 1e-6                  # the in-process part keeps its shape to this (far below any push-off)
 SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
 DEVIATION_SPACING_MM = 0.1
-MIN_CHIP_MM = 0.005             # below this the edge rubs rather than cuts (common practice, honed carbide)
-RUBBING_SHARE = 0.25            # ... or where the tool takes less than this share of the depth it meets
+MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubbing (common practice: a honed
+                                # carbide edge needs a chip of a few um to cut at all)
+RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
 BISECTION_STEPS = 60            # halves the bracket to 2^-60 of the met depth
 
 
@@ -64,12 +71,17 @@ class SimulationSettings:
     harmonic_tolerance: float = HARMONIC_TOLERANCE
 
 
+def simplified(rz: np.ndarray, tolerance_mm: float) -> np.ndarray:
+    """The counter-clockwise polygon with the points that lie within tolerance_mm of a straight line dropped
+    (the station points of a straight cut, for instance)."""
+    simple = shapely.simplify(Polygon(rz), tolerance_mm, preserve_topology=True)
+    return np.asarray(orient(simple, 1.0).exterior.coords)[:-1]
+
+
 def section_of_polygon(rz: np.ndarray) -> Section:
-    """A Section made of the straight edges of a counter-clockwise polygon (already valid), with points that
-    lie within SIMPLIFY_MM of a straight line dropped."""
-    simple = shapely.simplify(Polygon(rz), SIMPLIFY_MM, preserve_topology=True)
-    ring = np.asarray(orient(simple, 1.0).exterior.coords)[:-1]
-    points = [tuple(map(float, p)) for p in ring]
+    """A Section made of the straight edges of a counter-clockwise polygon (already valid), simplified to
+    SIMPLIFY_MM for the shell model."""
+    points = [tuple(map(float, p)) for p in simplified(rz, SIMPLIFY_MM)]
     return Section(tuple(Line(points[i], points[(i + 1) % len(points)]) for i in range(len(points))))
 
 
@@ -115,6 +127,26 @@ def clustered(m: int) -> np.ndarray:
     return 0.5 * (1.0 - np.cos(np.pi * np.arange(m) / (m - 1)))
 
 
+def met_depth(current_rz: np.ndarray, path: CutPath, p: Pass) -> np.ndarray:
+    """Depth of material the tool meets at each station, on the part as it is when the tool arrives there.
+
+    Along the first stretch of the path this is the stock beyond the target on the part before the cut. Once
+    the path turns a corner (down a shoulder after the longitudinal cut, say), the material beyond the target
+    along the new normal was partly taken by this very cut on the earlier stretches: the depth there is
+    measured on the part with the earlier stretches already cut."""
+    met = depth_of_material(current_rz, path)
+    runs = straight_runs(path.normals, MET_TURN_DEG)
+    for first, last in runs[1:]:
+        if not (met[first:last + 1] > 0.0).any():
+            continue
+        arrived = remove(current_rz, path, np.zeros(len(path.points_rz)), p.surface, upto=first - 1,
+                         name=f"'{p.name}'")
+        stretch = CutPath(points_rz=path.points_rz[first:last + 1], normals=path.normals[first:last + 1],
+                          feed_dir=path.feed_dir[first:last + 1])
+        met[first:last + 1] = depth_of_material(arrived, stretch)
+    return met
+
+
 def contact_point(path: CutPath, k: int, behind_mm: float) -> np.ndarray:
     """Where the tool bears on the part: on the freshly cut surface just behind the tool tip."""
     travelled = np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1))])
@@ -131,7 +163,8 @@ def cut_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, met_dept
     matrices = np.zeros((count, 3, 3))
     if len(keys) == 0:
         return matrices
-    at_keys = np.array([key_compliance(job, current_rz, path, p, int(k), behind_mm, settings) for k in keys])
+    tasks = [(job, current_rz, path, p, int(k), behind_mm, settings) for k in keys]
+    at_keys = np.array(list(parallel_map(key_compliance, tasks)))
     # compliance changes by orders of magnitude from the held end to a free rim: interpolate the normal
     # compliance in log scale, the other entries in proportion to it
     stations = np.arange(count)
@@ -141,6 +174,16 @@ def cut_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, met_dept
         for j in range(3):
             matrices[:, i, j] = normal_at * np.interp(stations, keys, at_keys[:, i, j] / normal)
     return matrices
+
+
+def parallel_map(function, tasks: list[tuple]):
+    """function(*task) for every task, on the machine's cores (each key station is its own shell model, so
+    they are independent; the results come back in order, so the answer does not depend on the core count)."""
+    workers = min(len(tasks), os.cpu_count() or 1, MAX_WORKERS)
+    if workers < 2:
+        return [function(*task) for task in tasks]
+    with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
+        return list(pool.map(function, *zip(*tasks)))
 
 
 def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,
@@ -185,18 +228,17 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
 
 
 def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarray, compliance: np.ndarray,
-            force_scale: float, cut_index: int) -> tuple[StationTable, np.ndarray]:
-    """One cut: equilibrium at every station and the part it leaves."""
+            met: np.ndarray, force_scale: float, cut_index: int) -> tuple[StationTable, np.ndarray]:
+    """One cut: equilibrium at every station and the part it leaves (met: depth of material the tool meets)."""
     tool = process.tools[p.tool]
-    met = depth_of_material(current_rz, path)
     tangent = np.column_stack([-path.normals[:, 1], path.normals[:, 0]])   # CCW tangent of the boundary
     feed_sign = np.sign(np.einsum("ij,ij->i", path.feed_dir, tangent))
     tool_c = tool.compliance_mm_per_n()
     depth, delta, forces = equilibrium(met, compliance, feed_sign, tool_c, job, tool, p, force_scale)
     left = np.where(met > 0.0, delta, 0.0)
-    after = remove(current_rz, path, left, p.surface, name=f"'{p.name}'")
+    after = simplified(remove(current_rz, path, left, p.surface, name=f"'{p.name}'"), KEEP_MM)
     chip = np.asarray(forces.chip.chip_thickness_mm) * np.ones_like(depth)
-    rubbing = (met > 0.0) & ((depth < RUBBING_SHARE * met) | (chip < MIN_CHIP_MM))
+    rubbing = (met > MIN_CHIP_MM) & (depth < RUBBING_SHARE * met)
     table = StationTable(
         r_mm=path.points_rz[:, 0].copy(), z_mm=path.points_rz[:, 1].copy(), normal_rz=path.normals.copy(),
         met_depth_mm=met, depth_mm=np.where(met > 0.0, depth, 0.0),
@@ -216,13 +258,15 @@ def run_passes(job, process: Process, settings: SimulationSettings, force_scale:
     for i, p in enumerate(process.passes):
         tables = []
         for j, path in enumerate(cuts_for_pass(current, nominal_rz, p, settings.station_spacing_mm)):
-            if (i, j) not in cache:
-                met = depth_of_material(current, path)
-                cache[(i, j)] = cut_compliance(job, current, path, p, met, settings)
-            compliance = cache[(i, j)]
-            if len(compliance) != len(path.points_rz):     # a different cut layout in a spread run
-                compliance = cut_compliance(job, current, path, p, depth_of_material(current, path), settings)
-            table, current = run_cut(job, process, p, path, current, compliance, force_scale, j)
+            # The spread runs reuse the nominal run's compliance and met depth: the compliance does not depend
+            # on the force constants, and the met depth changes only by the difference in the earlier passes'
+            # push-off (micrometres on tenths), which moves this cut's push-off by far less than the spread.
+            entry = cache.get((i, j))
+            if entry is None or len(entry[1]) != len(path.points_rz):   # new, or a spread run's own layout
+                met = met_depth(current, path, p)
+                entry = (cut_compliance(job, current, path, p, met, settings), met)
+                cache[(i, j)] = entry
+            table, current = run_cut(job, process, p, path, current, entry[0], entry[1], force_scale, j)
             tables.append(table)
             if progress:
                 progress(p.name, j)
@@ -262,7 +306,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
     checks = []
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, density)
     for surface in ("od", "id"):
-        chosen = [k for k, s in enumerate(deviation.surface) if s == surface and abs(deviation.normals[k][0]) > 0.9]
+        chosen = [k for k, s in enumerate(deviation.surface) if s == surface and abs(deviation.normals[k][0]) > 0.999]
         if len(chosen) < 3:
             continue
         z = deviation.points_rz[chosen, 1]

@@ -606,11 +606,12 @@ class _Setup:
 # the harmonic sum
 
 FIRST_TAIL_HARMONIC = 4  # the tail estimate is trusted from this harmonic on
+MERIDIAN_PLANE = [0, 2]  # the entries (dir0, dir1) whose tails decide where the sum stops
 CONVERGED_IN_A_ROW = 2  # harmonics in a row that must meet the tolerance
 
 
 def compliance(shell: HarmonicShell, loads: list[ShellLoad], directions: np.ndarray, tol: float = 1e-3,
-               n_max: int = 4000) -> tuple[np.ndarray, int]:
+               n_max: int = 4000, floor_mm_per_n: float = 0.0) -> tuple[np.ndarray, int]:
     """Compliance (P, 3, 3) [mm/N] of each load, C_ij = sum_n w_n f_i^T K_n^-1 f_j, and the highest n used.
 
     loads : unit-force patches; directions : (P, 2, 2) two meridian-plane unit vectors per load.
@@ -621,8 +622,15 @@ def compliance(shell: HarmonicShell, loads: list[ShellLoad], directions: np.ndar
     patch factor g_n^2 swings to zero at n = k pi / a, which would make that estimate falsely small, so the
     estimate uses the envelope min(1, 1/(n a))^2 >= g_n^2 instead. Each load's sum stops when, for 2
     harmonics in a row (n >= 4), every entry's estimated tail is below tol * sqrt(|C_ii C_jj|) of its
-    partial sums; so a load's result does not depend on which other loads are computed with it. A full ring
-    (half-angle pi) is done after n = 0.
+    partial sums, or below tol * floor_mm_per_n where the compliance is smaller than that floor (a point in
+    or next to a held zone, whose compliance is near zero and whose relative error means nothing); so a
+    load's result does not depend on which other loads are computed with it. A full ring (half-angle pi) is
+    done after n = 0.
+    The stopping rule looks at the meridian-plane entries (dir0, dir1: the normal and along-the-boundary
+    directions, the ones that move the cut surface). The circumferential entry is summed over the same
+    harmonics. On a thin wall its terms fall as fast; on a thick region loaded at its surface (a hub, a
+    junction) its raw terms tend to a constant, the rigid fibre turning a circumferential force into a
+    twisting moment, so there it is known only to about tail/C ~ 1/n_used.
     Raises ModelError if a load has not converged by n_max (a patch too small for the mesh).
     """
     directions = np.asarray(directions, dtype=float).reshape(len(loads), 2, 2)
@@ -644,8 +652,9 @@ def compliance(shell: HarmonicShell, loads: list[ShellLoad], directions: np.ndar
         envelope = np.minimum(1.0, 1.0 / np.maximum(ns[:, None] * half[active], 1e-300)) ** 2 / np.pi
         tail = np.abs(raw) * (envelope * ns[:, None] / 2.0)[:, :, None, None]
         diag = np.abs(np.diagonal(partial, axis1=2, axis2=3))
-        scale = tol * np.sqrt(diag[..., :, None] * diag[..., None, :]) + 1e-300
-        excess = np.max(tail / scale, axis=(2, 3))  # (H, P): > 1 where the tail is still too big
+        scale = tol * np.maximum(np.sqrt(diag[..., :, None] * diag[..., None, :]), floor_mm_per_n) + 1e-300
+        # the meridian-plane entries (dir0, dir1) decide; see the docstring for the circumferential one
+        excess = np.max((tail / scale)[:, :, MERIDIAN_PLANE][:, :, :, MERIDIAN_PLANE], axis=(2, 3))
         met = (excess <= 1.0) & (ns >= FIRST_TAIL_HARMONIC)[:, None]
         run = _runs(met, in_a_row[active])  # harmonics in a row that met tol, up to each one
         done = run >= CONVERGED_IN_A_ROW
