@@ -11,11 +11,11 @@ Every problem is raised as `InputError` carrying the file name, the dotted key a
 
 from __future__ import annotations
 
-import math
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from deflect.checks import check_keys, check_range, check_table, is_number
 from deflect.errors import InputError
 from deflect.materials import Material, material_from_job
 from deflect.section import Section, section_from_outline, unit_size_warning
@@ -50,33 +50,6 @@ class Job:
     held: list[HeldBox]
     tables: dict = field(default_factory=dict)   # machining tables (stock, tool, pass, ...), lengths in mm
     warnings: list[str] = field(default_factory=list)
-
-
-def is_number(value) -> bool:
-    """True for a finite int or float (TOML booleans are not numbers)."""
-    return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
-
-
-def check_table(value, key: str) -> dict:
-    if not isinstance(value, dict):
-        raise InputError(key, f"must be a table, got {type(value).__name__}")
-    return value
-
-
-def check_keys(table: dict, allowed: tuple[str, ...], key: str) -> None:
-    for name in table:
-        if name not in allowed:
-            raise InputError(f"{key}.{name}", f"unknown key; [{key}] takes {', '.join(allowed)}")
-
-
-def check_range(value, key: str) -> tuple[float, float]:
-    """A two-number [low, high] range with low <= high."""
-    if not (isinstance(value, list) and len(value) == 2 and all(is_number(v) for v in value)):
-        raise InputError(key, "must be a range of two numbers, e.g. [0.0, 5.0]")
-    low, high = float(value[0]), float(value[1])
-    if low > high:
-        raise InputError(key, f"range [{low:g}, {high:g}] runs backwards; write the smaller number first")
-    return low, high
 
 
 def scale_lengths(value, factor: float):

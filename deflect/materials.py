@@ -16,11 +16,11 @@ E, nu and density. `require_cutting_constants` checks them where forces are due.
 
 from __future__ import annotations
 
-import math
 import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
+from deflect.checks import check_keys, number
 from deflect.errors import InputError
 
 KIENZLE_KEYS = ("kc11", "mc", "kf11", "mf", "kp11", "mp")
@@ -91,16 +91,6 @@ def library_path() -> Path:
     return Path(__file__).parent.parent / "data" / "materials.toml"
 
 
-def _number(value, key: str) -> float:
-    # bool is an int subclass in Python; `true` where a number is due is a mistake.
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise InputError(key, f"must be a number, got {value!r}")
-    value = float(value)
-    if not math.isfinite(value):
-        raise InputError(key, f"must be a finite number, got {value!r}")
-    return value
-
-
 def _check_range(name: str, value: float, key: str) -> None:
     """Physical range of each material value; `name` is the job-file key."""
     if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11"):
@@ -132,18 +122,10 @@ def _parse_numbers(table: dict, prefix: str) -> dict[str, float]:
     values = {}
     for name in NUMBER_KEYS:
         if name in table:
-            value = _number(table[name], f"{prefix}.{name}")
+            value = number(table[name], f"{prefix}.{name}")
             _check_range(name, value, f"{prefix}.{name}")
             values[name] = value
     return values
-
-
-def _check_keys(table: dict, allowed: tuple[str, ...], prefix: str) -> None:
-    for name in table:
-        if name not in allowed:
-            raise InputError(
-                f"{prefix}.{name}", f"unknown key; allowed keys: {', '.join(allowed)}"
-            )
 
 
 def _check_kienzle_complete(values: dict[str, float], prefix: str) -> None:
@@ -173,7 +155,7 @@ def _library_entry(name: str, table, file: str) -> Material:
     try:
         if not isinstance(table, dict):
             raise InputError(prefix, "must be a table of material values")
-        _check_keys(table, LIBRARY_KEYS, prefix)
+        check_keys(table, LIBRARY_KEYS, prefix)
         values = _parse_numbers(table, prefix)
         for required in ("E", "nu", "density"):
             if required not in values:
@@ -185,7 +167,7 @@ def _library_entry(name: str, table, file: str) -> Material:
                 f"{prefix}.sources",
                 "missing: give a [<name>.sources] table with a source for every number",
             )
-        _check_keys(sources, NUMBER_KEYS, f"{prefix}.sources")
+        check_keys(sources, NUMBER_KEYS, f"{prefix}.sources")
         for key in values:
             text = sources.get(key)
             if not isinstance(text, str) or not text.strip():
@@ -233,7 +215,7 @@ def material_from_job(table, key: str = "material") -> Material:
     """
     if not isinstance(table, dict):
         raise InputError(key, "must be a table: give name = \"...\" or E, nu, density")
-    _check_keys(table, JOB_KEYS, key)
+    check_keys(table, JOB_KEYS, key)
     values = _parse_numbers(table, key)
     description = table.get("description")
     if description is not None and not isinstance(description, str):

@@ -22,7 +22,7 @@ from shapely.geometry import Point, Polygon
 
 from deflect.errors import InputError, ModelError
 from deflect.inprocess import POLYGON_CHORD_MM, SURFACES, remove, target_surface
-from deflect.job import check_keys, check_table, is_number
+from deflect.checks import check_keys, check_table, is_number
 from deflect.section import section_from_outline
 from deflect.tooling import Tool, tool_from_job
 

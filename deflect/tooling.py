@@ -20,6 +20,7 @@ import math
 import re
 from dataclasses import dataclass
 
+from deflect.checks import check_keys, number
 from deflect.errors import InputError
 
 # ISO 1832 position 1: insert shape -> corner (included) angle, deg; None = round.
@@ -195,32 +196,17 @@ class Tool:
         return self.bar.compliance_mm_per_n() if self.bar is not None else 0.0
 
 
-def _number(value, key: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise InputError(key, f"must be a number, got {value!r}")
-    value = float(value)
-    if not math.isfinite(value):
-        raise InputError(key, f"must be a finite number, got {value!r}")
-    return value
-
-
-def _unknown_keys(table: dict, allowed: tuple[str, ...], key: str) -> None:
-    for name in table:
-        if name not in allowed:
-            raise InputError(f"{key}.{name}", f"unknown key; allowed keys: {', '.join(allowed)}")
-
-
 def _bar_from_job(table, key: str) -> BoringBar:
     if not isinstance(table, dict):
         raise InputError(key, "must be a table: bar = { diameter = 16.0, overhang = 60.0, E = 210000.0 }")
-    _unknown_keys(table, BAR_KEYS, key)
+    check_keys(table, BAR_KEYS, key)
     values = {}
     for name in BAR_KEYS:
         if name not in table:
             if name == "E":
                 continue
             raise InputError(f"{key}.{name}", "missing: a boring bar needs diameter and overhang (mm)")
-        value = _number(table[name], f"{key}.{name}")
+        value = number(table[name], f"{key}.{name}")
         if value <= 0.0:
             raise InputError(f"{key}.{name}", f"must be > 0, got {value:g}")
         values[name] = value
@@ -240,7 +226,7 @@ def tool_from_job(table, key: str = "tool[0]") -> Tool:
     """
     if not isinstance(table, dict):
         raise InputError(key, "must be a table with name, insert or nose_radius, approach, rake")
-    _unknown_keys(table, TOOL_KEYS, key)
+    check_keys(table, TOOL_KEYS, key)
 
     name = table.get("name")
     if not isinstance(name, str) or not name.strip():
@@ -249,7 +235,7 @@ def tool_from_job(table, key: str = "tool[0]") -> Tool:
     insert = parse_iso1832(table["insert"], f"{key}.insert") if "insert" in table else None
 
     if "nose_radius" in table:
-        nose_radius = _number(table["nose_radius"], f"{key}.nose_radius")
+        nose_radius = number(table["nose_radius"], f"{key}.nose_radius")
         radius_key = f"{key}.nose_radius"
     elif insert is not None:
         nose_radius = insert.nose_radius_mm
@@ -270,11 +256,11 @@ def tool_from_job(table, key: str = "tool[0]") -> Tool:
 
     if "approach" not in table:
         raise InputError(f"{key}.approach", "missing: give the entering angle kappa_r in degrees (e.g. 93)")
-    approach = _number(table["approach"], f"{key}.approach")
+    approach = number(table["approach"], f"{key}.approach")
     if not 0.0 < approach < 180.0:
         raise InputError(f"{key}.approach", f"must lie between 0 and 180 deg, got {approach:g}")
 
-    rake = _number(table["rake"], f"{key}.rake") if "rake" in table else DEFAULT_RAKE_DEG
+    rake = number(table["rake"], f"{key}.rake") if "rake" in table else DEFAULT_RAKE_DEG
     low, high = RAKE_RANGE_DEG
     if not low < rake < high:
         raise InputError(f"{key}.rake", f"must lie between {low:g} and {high:g} deg, got {rake:g}")
