@@ -240,9 +240,6 @@ def main(argv: list[str] | None = None) -> None:
     except (InputError, ModelError) as exc:
         click.echo(exc.line(), err=True)
         sys.exit(EXIT_BAD_INPUT)
-    except click.exceptions.NoArgsIsHelp as exc:
-        click.echo(exc.ctx.get_help() if exc.ctx else str(exc))
-        sys.exit(EXIT_BAD_INPUT)
     except click.UsageError as exc:
         command = exc.ctx.command_path if exc.ctx else "deflect"
         click.echo(f"error: {command}: {exc.format_message()}", err=True)

@@ -24,6 +24,9 @@ class InputError(Exception):
         self.message = message
         self.file = file
 
+    def __reduce__(self):  # so that the error survives the trip back from a worker process
+        return (type(self), (self.key, self.message, self.file))
+
     def line(self) -> str:
         where = f"{self.file}: " if self.file else ""
         return f"error: {where}{self.key}: {self.message}"
@@ -37,6 +40,9 @@ class ModelError(Exception):
         self.key = key
         self.message = message
         self.file = file
+
+    def __reduce__(self):
+        return (type(self), (self.message, self.key, self.file))
 
     def line(self) -> str:
         where = f"{self.file}: " if self.file else ""

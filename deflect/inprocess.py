@@ -59,6 +59,8 @@ POLYGON_CHORD_MM = 1e-5
 BUFFER_CHORD_MM = 1e-4
 _MIN_QUAD_SEGS = 8
 _MAX_QUAD_SEGS = 512
+# A piece cut loose that is smaller than this share of the section's area is a chip, not a second part.
+CHIP_SHARE = 1e-3
 # Lengths below this fraction of the part's size count as zero (float rounding is ~1e-16 of it).
 _REL_TOL = 1e-9
 # Most entries of the (slabs x edges) and (rays x edges) work arrays handled at once.
@@ -159,7 +161,31 @@ def _quad_segs(distance_mm: float) -> int:
     return int(min(_MAX_QUAD_SEGS, max(_MIN_QUAD_SEGS, math.ceil(math.pi / (4.0 * half_angle)))))
 
 
-def _offset_envelope(nominal_uv: np.ndarray, offset_mm: float, v_lo: float, v_hi: float, tol: float) -> np.ndarray:
+def _face_without_walls(envelope: np.ndarray, v_lo: float, v_hi: float, tol: float) -> np.ndarray:
+    """A face pass's envelope that never runs down a wall: from the face (the highest point within the pass's
+    extent) outwards, where the envelope drops at constant v (down the OD or into the bore, as the face's
+    highest-z view sees them), it carries on at the level above the drop instead, as a facing tool that
+    overruns the edge of the face does."""
+    within = np.flatnonzero((envelope[:, 1] >= v_lo - tol) & (envelope[:, 1] <= v_hi + tol))
+    if len(within) == 0:
+        return envelope
+    held = envelope.copy()
+    top = int(within[np.argmax(envelope[within, 0])])
+    for step in (1, -1):
+        level = None
+        i = top
+        while 0 <= i + step < len(held):
+            here, there = held[i], envelope[i + step]
+            if level is None and abs(there[1] - here[1]) <= tol and there[0] < here[0] - tol:
+                level = here[0]
+            if level is not None:
+                held[i + step, 0] = level
+            i += step
+    return _drop_repeats_and_collinear(held, tol)
+
+
+def _offset_envelope(nominal_uv: np.ndarray, offset_mm: float, v_lo: float, v_hi: float, tol: float,
+                     hold_walls: bool = False) -> np.ndarray:
     """The nominal's visible envelope offset by offset_mm towards +u, over [v_lo, v_hi], in (u, v).
 
     The envelope is first carried on at constant u beyond the part's ends (the tool keeps its last
@@ -171,6 +197,8 @@ def _offset_envelope(nominal_uv: np.ndarray, offset_mm: float, v_lo: float, v_hi
     part_lo, part_hi = nominal_uv[:, 1].min(), nominal_uv[:, 1].max()
     envelope = _upper_envelope(np.column_stack([nominal_uv, np.roll(nominal_uv, -1, axis=0)]),
                                part_lo, part_hi, tol)
+    if hold_walls:
+        envelope = _face_without_walls(envelope, v_lo, v_hi, tol)
     size = float(np.ptp(nominal_uv, axis=0).max())
     margin = abs(offset_mm) + 1.0
     ext_lo, ext_hi = min(part_lo, v_lo) - margin, max(part_hi, v_hi) + margin
@@ -237,7 +265,8 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
     offset_mm : distance of the target outside the finished contour [mm]; negative cuts deeper
     start_mm, end_mm : the pass's extent, z for od / id and r for face [mm]; start -> end is the feed
         direction. Where the extent runs beyond the part the target carries on at its last radius (od, id)
-        or height (face).
+        or height (face); a face pass whose extent runs past the edge of its face carries on at the face's
+        edge height rather than running down the wall beyond it.
     spacing_mm : most distance between two target points [mm]
     """
     frame = _frame(surface)
@@ -247,7 +276,7 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
         raise ValueError("a pass needs a start and an end that differ")
     nominal_uv = np.asarray(nominal_rz, float) @ frame
     envelope = _offset_envelope(nominal_uv, float(offset_mm), min(start_mm, end_mm), max(start_mm, end_mm),
-                                _tolerance(nominal_uv))
+                                _tolerance(nominal_uv), hold_walls=surface == "face")
     return _cut_path(envelope, frame, start_mm, end_mm, spacing_mm)
 
 
@@ -435,8 +464,10 @@ def remove(current_rz: np.ndarray, path: CutPath, left_mm: np.ndarray, surface: 
     surface_uv = left_surface @ frame
     u_far = max(current_uv[:, 0].max(), surface_uv[:, 0].max()) + 1.0
     region = shapely.transform(_region_beyond(surface_uv, u_far), lambda xy: xy @ frame)
+    # a scrap far smaller than the part (the skin an earlier push-off left, cut loose at an edge) comes
+    # off as a chip; only a real second piece means the pass cuts the part in two
     pieces = [piece for piece in shapely.get_parts(current.difference(region))
-              if piece.geom_type == "Polygon" and piece.area > _REL_TOL * current.area]
+              if piece.geom_type == "Polygon" and piece.area > CHIP_SHARE * current.area]
     if not pieces:
         raise ModelError(f"{name} consumes the wall: nothing of the part is left beyond its target; "
                          "check its allowance, offset and extent")

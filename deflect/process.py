@@ -272,13 +272,26 @@ def _check_wall(p: Pass, nominal_rz: np.ndarray) -> None:
     """The pass's target must leave a wall: cutting the finished part to it must leave one piece."""
     total = p.allowance_mm + p.offset_mm
     size = float(np.ptp(nominal_rz, axis=0).max())
+    key = f"{p.key}.offset" if p.offset_mm < 0.0 else p.key
     try:
         target = target_surface(nominal_rz, p.surface, total, p.start_mm, p.end_mm, spacing_mm=size)
         remove(nominal_rz, target, np.zeros(len(target.points_rz)), p.surface, name=f"pass {p.name!r}")
     except ModelError as exc:
-        key = f"{p.key}.offset" if p.offset_mm < 0.0 else p.key
         raise InputError(key, f"would cut through the wall: its target (the finished contour offset by allowance "
                               f"+ offset = {total:g} mm) leaves a wall of 0 or less ({exc.message})") from None
+    if total < 0.0 and p.surface in ("od", "id"):
+        # a target inside the part must stay inside it wherever the part has a wall at that height; one that
+        # comes out on the far side has taken the whole wall there (the part may still hang together below)
+        fine = target_surface(nominal_rz, p.surface, total, p.start_mm, p.end_mm, spacing_mm=min(0.5, size / 200))
+        r, z = fine.points_rz.T
+        z_lo, z_hi = nominal_rz[:, 1].min() - total, nominal_rz[:, 1].max() + total
+        level = (z > z_lo) & (z < z_hi)
+        outside = level & ~shapely.contains_xy(Polygon(nominal_rz).buffer(STOCK_FIT_TOL_MM), r, z)
+        if outside.any():
+            k = int(np.flatnonzero(outside)[0])
+            raise InputError(key, f"would cut through the wall: its target (the finished contour offset by "
+                                  f"allowance + offset = {total:g} mm) leaves the part at r = {r[k]:.4g}, "
+                                  f"z = {z[k]:.4g}, where the wall is thinner than {-total:g} mm")
 
 
 # ---------------------------------------------------------------------------------------------------

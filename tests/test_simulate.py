@@ -11,15 +11,21 @@ finishing pass, as in shared/tools/contract_check.py. Each test names the relati
   of the equivalent edge and turns more of the thrust into passive force, which pushes the wall away;
 * O. Kienzle, "Die Bestimmung von Kraeften und Leistungen an spanenden Werkzeugen und Werkzeugmaschinen",
   VDI-Z 94 (1952) 299-305: the force grows with the chip section, so with the feed;
-* the cantilever: a sleeve held at one end gives most at its free end (the deflection of a shell held at
-  one edge grows away from it; Timoshenko & Woinowsky-Krieger, Theory of Plates and Shells, 1959, ch. 15);
+* the cantilevered shell: a sleeve held at one end is stiffest where it is held and gives most at its free
+  rim, so the OD comes out larger and the bore smaller towards the free end;
 * the force-deflection equilibrium stated in deflect/simulate.py: delta = (C_nn + c_tool) F_p + C_na s F_f;
 * Pappus-Guldinus (P. Guldin, Centrobaryca, 1635-1641): a layer of thickness delta on a surface of
   revolution has the mass dm = rho 2 pi r delta ds;
 * the issue's convergence rule: halving the station spacing and doubling the key stations changes the
   mass gain and the largest deviation by less than 1 %.
 
-Heavier studies (the shipped housing) are marked slow.
+The shipped examples run through `deflect predict --json` and must give the keys of shared/CONTRACT.md; bad
+passes through the command line must end with exit 2 and one `error:` line naming the file and the key.
+Heavier studies (the shipped housing's convergence) are marked slow.
+
+Three tests fail on purpose: they show product bugs, described beside them (a face pass starting outside
+the rim runs down the OD; a pass that takes the whole wall above a base is accepted; the steel bushing
+example stops on the first of these).
 """
 
 import copy
@@ -110,11 +116,11 @@ def toml_text(tables: dict) -> str:
     return "\n".join(lines) + "\n"
 
 
-def variant(base: dict, material=None, tool=None, **pass_keys) -> dict:
+def variant(base: dict, material_keys=None, tool_keys=None, **pass_keys) -> dict:
     """A copy of a job's tables with material, first tool and first pass keys changed."""
     tables = copy.deepcopy(base)
-    tables["material"].update(material or {})
-    tables["tool"][0].update(tool or {})
+    tables["material"].update(material_keys or {})
+    tables["tool"][0].update(tool_keys or {})
     tables["pass"][0].update(pass_keys)
     return tables
 
@@ -167,7 +173,7 @@ def id_run(folder):
 
 def test_leftover_vanishes_like_one_over_E(folder):
     E = OD_SLEEVE["material"]["E"]
-    runs = {k: predict(folder, f"rigid{k}", variant(OD_SLEEVE, material={"E": k * E}), COARSE)[2]
+    runs = {k: predict(folder, f"rigid{k}", variant(OD_SLEEVE, material_keys={"E": k * E}), COARSE)[2]
             for k in (1, 10, 100, 1000)}
     delta_1 = max_deflection(runs[1])
     # the bound's premise: between the depth cut on the softest wall and the full stock, every force
@@ -202,7 +208,7 @@ def test_leftover_grows_with_nose_radius_below_the_depth_of_cut(folder):
     """Colwell 1954: ap = 0.3 mm < r. A larger nose lowers the effective approach angle, so more passive force."""
     radii = (0.4, 0.8, 1.2)
     assert all(STOCK_MM < r for r in radii)
-    preds = [predict(folder, f"nose{r}", variant(OD_SLEEVE, tool={"nose_radius": r}), COARSE)[2] for r in radii]
+    preds = [predict(folder, f"nose{r}", variant(OD_SLEEVE, tool_keys={"nose_radius": r}), COARSE)[2] for r in radii]
     left = [max_deflection(p) for p in preds]
     approach = [chip_geometry(STOCK_MM, 0.1, r, 93.0).effective_approach_deg for r in radii]
     middle = [p.passes[0].cuts[0] for p in preds]
@@ -215,28 +221,35 @@ def test_leftover_grows_with_nose_radius_below_the_depth_of_cut(folder):
 # ---------------------------------------------------------------------------------------------------
 # 3. held at one end: the OD comes out larger towards the free end
 
-def test_od_grows_towards_the_free_end(od_run):
-    _, _, pred = od_run
+@pytest.mark.parametrize("run", ["od_run", "id_run"])
+def test_material_left_grows_towards_the_free_end(run, request):
+    """The OD comes out larger, the bore smaller, towards the free end (z = 40) than at the chuck (z <= 5)."""
+    _, _, pred = request.getfixturevalue(run)
+    surface = "od" if run == "od_run" else "id"
+    sign = 1.0 if surface == "od" else -1.0            # the outward normal: +r on the OD, -r in the bore
     dev = pred.deviation
-    on_od = (dev.normals[:, 0] > 0.999) & (dev.points_rz[:, 1] >= 6.0)
-    order = np.argsort(dev.points_rz[on_od, 1])
-    z, left = dev.points_rz[on_od, 1][order], dev.deviation_mm[on_od][order]
+    on_surface = (sign * dev.normals[:, 0] > 0.999) & (dev.points_rz[:, 1] >= 6.0)
+    order = np.argsort(dev.points_rz[on_surface, 1])
+    z, left = dev.points_rz[on_surface, 1][order], dev.deviation_mm[on_surface][order]
     chuck, middle, free = np.interp([7.0, 23.0, 39.0], z, left)
     assert 0.0 < chuck < middle < free, (chuck, middle, free)
-    check = next(c for c in pred.surfaces if c.surface == "od")
+    check = next(c for c in pred.surfaces if c.surface == surface)
     diameter = check.predicted_diameter_mm
-    assert diameter["chuck end"] < diameter["middle"] < diameter["free end"]
-    assert diameter["free end"] == pytest.approx(40.0 + 2.0 * check.deviation_mm["free end"], rel=SAME_FLOAT)
+    assert sign * diameter["chuck end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
+    drawn = 40.0 if surface == "od" else 38.0
+    assert diameter["free end"] == pytest.approx(drawn + sign * 2.0 * check.deviation_mm["free end"], rel=SAME_FLOAT)
 
 
 # ---------------------------------------------------------------------------------------------------
 # 4. every station: deflection = (C_nn + c_tool) F_p + C_na s F_f
 
 def cut_setup(job, process):
+    """The test sleeves' one pass and its one cut, laid out as the simulation lays it out."""
     p = process.passes[0]
-    path = cuts_for_pass(process.stock_rz, job.section.polygon(POLYGON_CHORD_MM), p, SimulationSettings().station_spacing_mm)
-    assert len(path) == 1
-    return p, path[0]
+    nominal = job.section.polygon(POLYGON_CHORD_MM)
+    paths = cuts_for_pass(process.stock_rz, nominal, p, SimulationSettings().station_spacing_mm)
+    assert len(paths) == 1
+    return p, paths[0]
 
 
 @pytest.mark.parametrize("run", ["od_run", "id_run"])
@@ -284,7 +297,9 @@ def test_key_station_end_to_end_with_an_own_wall_model(run, request):
     model = WallModel(section_of_polygon(shape), job.held, job.material.E_mpa, job.material.nu, settings.patch,
                       settings.harmonic_tolerance, strict_patch=False, element_mm=settings.element_mm)
     r, z = contact_point(path, k, behind)
-    assert (r, z) == pytest.approx((table.r_mm[k], table.z_mm[k] + behind), abs=1e-12)   # behind the tip
+    # on the surface just cut, behind the tip (near the start: midway between the tip and the part's end)
+    shift = min(behind, 0.5 * (40.0 - table.z_mm[k]))
+    assert (r, z) == pytest.approx((table.r_mm[k], table.z_mm[k] + shift), abs=1e-12)
     matrix = model.at_contacts([(r, z)], [path.normals[k]])[0].matrix_mm_per_n
     # a circumferential (cutting) force does not move the loaded patch along the normal (symmetry)
     assert abs(matrix[0, 1]) < 1e-6 * matrix[0, 0]
@@ -342,10 +357,10 @@ def test_finer_stations_change_the_sleeve_by_less_than_one_percent(od_run):
     assert all(abs(v) < CONVERGED for v in changes.values()), changes
 
 
-# Measured: mass gain 0.11266 -> 0.11379 g (+1.0 %), largest deviation 10.94 -> 10.76 um (-1.6 %).
+# Measured: mass gain 0.11191 -> 0.11314 g (+1.1 %), largest deviation 10.80 -> 10.62 um (-1.7 %).
 @pytest.mark.slow
 @pytest.mark.xfail(strict=True, reason="halving the spacing and doubling the keys moves the housing's largest "
-                                       "deviation by -1.6 % and its mass gain by +1.0 %")
+                                       "deviation by -1.7 % and its mass gain by +1.1 %")
 def test_finer_stations_change_the_housing_by_less_than_one_percent():
     job = read_job(EXAMPLES / "housing.toml")
     changes = refinement_changes(job, process_from_job(job))
@@ -399,22 +414,26 @@ def test_face_pass_starting_outside_the_rim_stays_at_the_rim(folder):
     tables["pass"] = [{"name": "face rim", "surface": "face", "tool": "T1", "allowance": 0.0, "feed": 0.08,
                        "speed": 200.0, "r": [20.3, 19.0]}]
     _, _, pred = predict(folder, "face", tables, COARSE)
-    table = pred.passes[0].cuts[0]
-    assert table.z_mm.min() >= 40.0 - 1e-9, f"the face pass reaches down to z = {table.z_mm.min():g}"
+    lowest = float(pred.passes[0].cuts[0].z_mm.min())
+    assert lowest >= 40.0 - 1e-9, f"the face pass reaches down to z = {lowest:g}"
 
 
 # ---------------------------------------------------------------------------------------------------
 # 9. bad machining input through the command line: exit 2, one `error:` line naming file and key
 
 BAD_PASSES = [
-    ({"offset": -1.2}, "pass[0].offset", "cut through the wall"),
-    ({"tool": "T9"}, "pass[0].tool", "no tool named 'T9'"),
-    ({"z": [50.0, 45.0]}, "pass[0].z", "outside the stock"),
-    ({"feed": 0.0}, "pass[0].feed", "zero feed"),
+    pytest.param({"offset": -1.2, "z": [40.0, 0.0]}, "pass[0].offset", "cut through the wall",
+                 id="through the wall"),
+    # FAILS today: the same target over z = 40 -> 6 takes the whole wall above the base, which stays one
+    # piece, so process._check_wall lets it through and predict reports -85 % mass and a diameter of -27.8 mm
+    pytest.param({"offset": -1.2}, "pass[0].offset", "cut through the wall", id="through the wall above a base"),
+    pytest.param({"tool": "T9"}, "pass[0].tool", "no tool named 'T9'", id="undefined tool"),
+    pytest.param({"z": [50.0, 45.0]}, "pass[0].z", "outside the stock", id="outside the stock"),
+    pytest.param({"feed": 0.0}, "pass[0].feed", "zero feed", id="zero feed"),
 ]
 
 
-@pytest.mark.parametrize("keys, key, words", BAD_PASSES, ids=[k for _, k, _ in BAD_PASSES])
+@pytest.mark.parametrize("keys, key, words", BAD_PASSES)
 def test_predict_refuses_a_bad_pass(folder, keys, key, words):
     path = write_job(folder, "bad", variant(OD_SLEEVE, **keys))
     code, out, err = run_cli(["predict", str(path), "--json"])

@@ -75,6 +75,15 @@ class SurfacePatch:
     half_angle_rad: float
 
 
+def face_patch(point_rz, outward_normal, length_mm: float, width_mm: float) -> SurfacePatch:
+    """The patch of a unit force into the material at a point of a straight face: `length_mm` along the face,
+    centred on the point, and `width_mm` around the circumference at the point's radius."""
+    point = np.asarray(point_rz, float)
+    normal = np.asarray(outward_normal, float)
+    along = 0.5 * length_mm * np.array([-normal[1], normal[0]])
+    return SurfacePatch(tuple(point - along), tuple(point + along), tuple(-normal), width_mm / (2.0 * point[0]))
+
+
 def graded_lines(breaks, fine_mm: float, coarse_mm: float, foci=(), growth: float = 0.2) -> np.ndarray:
     """Grid lines through every break, spacing h(x) = min(coarse, fine + growth * distance to the nearest focus)
     (just `coarse` without foci): each interval between breaks gets ceil(int dx / h) equal steps of the
@@ -90,6 +99,22 @@ def graded_lines(breaks, fine_mm: float, coarse_mm: float, foci=(), growth: floa
         steps = max(1, math.ceil(stretched[-1] - 1e-9))
         lines.append(np.interp(np.linspace(0.0, stretched[-1], steps + 1), stretched, x)[1:])
     return np.concatenate(lines)
+
+
+def structured_solid(rects: list[Rect], held: list[Rect], patches: list[SurfacePatch], E_mpa: float, nu: float,
+                     fine_mm: float, coarse_mm: float, growth: float = 0.2) -> SolidOfRevolution:
+    """The solid on a grid through every edge of the rectangles and held boxes (inside the part's extent) and
+    every patch end, `fine_mm` at the patch ends growing to `coarse_mm` away from them (`graded_lines`)."""
+    lines = []
+    for axis in (0, 1):  # r, then z
+        spans = [(box.r_mm, box.z_mm)[axis] for box in rects + held]
+        low = min(min(span) for span in spans[: len(rects)])
+        high = max(max(span) for span in spans[: len(rects)])
+        ends = [x for patch in patches for x in (patch.start[axis], patch.end[axis])]
+        breaks = [x for span in spans for x in span] + ends
+        breaks = [x for x in breaks if low <= x <= high]
+        lines.append(graded_lines(breaks, fine_mm, coarse_mm, ends, growth))
+    return SolidOfRevolution(rects, lines[0], lines[1], E_mpa, nu, held)
 
 
 def quadratic_shape(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -147,7 +172,8 @@ class SolidOfRevolution:
                          for key, dofs in self.free.items()}
         for parts in self._reduced.values():
             for part in parts[1:]:
-                if not (np.array_equal(part.indices, parts[0].indices) and np.array_equal(part.indptr, parts[0].indptr)):
+                same = np.array_equal(part.indices, parts[0].indices) and np.array_equal(part.indptr, parts[0].indptr)
+                if not same:
                     raise RuntimeError("internal: K0, K1, K2 do not share one sparsity pattern")
 
     # -- mesh and matrices -------------------------------------------------------------------------
@@ -216,14 +242,14 @@ class SolidOfRevolution:
         self._parts = [sp.csr_matrix((k.ravel(), (rows, cols)), shape=shape) for k in (k0, k1, k2)]
 
     def stiffness(self, n: int) -> sp.csr_matrix:
-        """K_n over all DOFs [N/mm per radian of circumference], nothing fixed."""
+        """K_n over all DOFs [N/mm], nothing fixed; harmonic n stores pi q^T K_n q / 2 (2 pi for n = 0)."""
         return (self._parts[0] + n * self._parts[1] + n * n * self._parts[2]).tocsr()
 
     def _factor(self, n: int):
         parts = self._reduced[0 if n == 0 else 1]
         data = parts[0].data + n * parts[1].data + n * n * parts[2].data
         k = sp.csc_matrix((data, parts[0].indices, parts[0].indptr), shape=parts[0].shape)
-        return splu(k, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
+        return splu(k, permc_spec="COLAMD", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
 
     def solve(self, n: int, loads: np.ndarray) -> np.ndarray:
         """Amplitudes (n_dofs, k) of harmonic n under load amplitudes (n_dofs, k): K_n q = f, held DOFs 0."""
