@@ -384,12 +384,13 @@ def test_held_box_holds_the_nodes_whose_fibre_it_touches():
     z = mesh.nodes_rz[:, 1]
     assert np.array_equal(mesh.fixed.all(axis=1), z <= 5.0)
     assert np.array_equal(mesh.fixed.any(axis=1), z <= 5.0)        # a held node has all six DOFs fixed
-    assert held_z(geometry) == pytest.approx([0.0, 2.0, 4.0])
+    # a node where the wall leaves the box (z = 5), the stretch below it split evenly at <= 2 mm
+    assert held_z(geometry) == pytest.approx(np.linspace(0.0, 5.0, 4))
 
 
 def test_mandrel_touching_only_the_bore_holds_through_the_fibre():
     geometry = derive(SLEEVE, [HeldBox((0.0, 19.0), (0.0, 5.0), "held[0]")])
-    assert held_z(geometry) == pytest.approx([0.0, 2.0, 4.0])
+    assert held_z(geometry) == pytest.approx(np.linspace(0.0, 5.0, 4))
 
 
 def test_face_plate_touching_only_the_end_face_holds_the_end_node():
@@ -398,8 +399,10 @@ def test_face_plate_touching_only_the_end_face_holds_the_end_node():
 
 
 def test_box_between_fibres_holds_the_nearest_node():
-    geometry = derive(SLEEVE, [HeldBox((19.9, 20.0), (10.3, 10.4), "held[0]")])   # fibres at z = 10 and 12
-    assert np.allclose(geometry.mesh.nodes_rz[geometry.mesh.held_nodes], [[19.5, 10.0]], atol=POSITION_MM)
+    # the mesh puts a node where the wall enters the box (z = 10.3); its exit at 10.4 is closer to that node
+    # than a tenth of an element, so no second node is made there, and the one node holds
+    geometry = derive(SLEEVE, [HeldBox((19.9, 20.0), (10.3, 10.4), "held[0]")])
+    assert np.allclose(geometry.mesh.nodes_rz[geometry.mesh.held_nodes], [[19.5, 10.3]], atol=POSITION_MM)
 
 
 def test_no_box_no_held_node():
@@ -414,7 +417,7 @@ def test_box_away_from_the_part_names_its_key():
 
 def test_box_inside_the_material_holds():
     geometry = derive(THICK_SLEEVE, [HeldBox((16.0, 18.0), (19.0, 21.0), "held[0]")])
-    assert held_z(geometry) == pytest.approx([20.0])
+    assert held_z(geometry) == pytest.approx([19.0, 21.0])   # nodes where the wall enters and leaves the box
 
 
 def test_box_with_reversed_range_is_refused():

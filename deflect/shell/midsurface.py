@@ -164,7 +164,7 @@ def derive_shell(polygon_rz: np.ndarray, held: list[HeldBox], element_size_mm: f
     for box in held:
         _check_box(box)
     skeleton = _medial_axis(outline, key, sample_spacing_mm)
-    nodes, thickness, elements, branches = _mesh_branches(skeleton, size)
+    nodes, thickness, elements, branches = _mesh_branches(skeleton, size, held)
     nodes, thickness, elements, branches = _renumber(nodes, thickness, elements, branches)
     fixed = np.zeros((len(nodes), DOFS_PER_NODE), bool)
     for box in held:
@@ -794,9 +794,46 @@ def _finish(outline: np.ndarray, chains: list[list[int]], xy: np.ndarray, radius
 # ---------------------------------------------------------------------------------------------------
 # 5. smoothing and meshing
 
-def _smooth_resample(points: np.ndarray, radii: np.ndarray, spacing: float, size: float
-                     ) -> tuple[np.ndarray, np.ndarray]:
-    """A branch's chain smoothed at the sample spacing, resampled at <= `size`, >= 2 elements."""
+def _box_crossings(fine: np.ndarray, fine_s: np.ndarray, held: list[HeldBox]) -> np.ndarray:
+    """Arclengths where a branch's mid-surface crosses an edge line of a held box (near the box): nodes put
+    there make the held stretch end where the box ends, not up to one element short of it or past it."""
+    found = []
+    for box in held:
+        for axis, other, lines, other_range in ((0, 1, box.r_range, box.z_range), (1, 0, box.z_range, box.r_range)):
+            reach = fine[:, 2]   # within a wall's half thickness of the box's other extent
+            for line in lines:
+                side = fine[:, axis] - line
+                k = np.flatnonzero(np.sign(side[:-1]) * np.sign(side[1:]) < 0)
+                for i in k:
+                    t = side[i] / (side[i] - side[i + 1])
+                    at_other = fine[i, other] + t * (fine[i + 1, other] - fine[i, other])
+                    if other_range[0] - reach[i] <= at_other <= other_range[1] + reach[i]:
+                        found.append(fine_s[i] + t * (fine_s[i + 1] - fine_s[i]))
+    return np.unique(np.array(found))
+
+
+def _node_arclengths(length: float, size: float, breaks: np.ndarray) -> np.ndarray:
+    """Node positions along a branch: every break (kept clear of the ends and of each other by a tenth of
+    an element) and evenly <= size apart between them, at least two elements in all."""
+    clear = 0.1 * size
+    kept = []
+    for b in np.sort(breaks):
+        if clear < b < length - clear and (not kept or b - kept[-1] > clear):
+            kept.append(float(b))
+    edges = [0.0, *kept, length]
+    nodes = [0.0]
+    for a, b in zip(edges[:-1], edges[1:]):
+        n = max(1, math.ceil((b - a) / size - 1e-9))
+        nodes.extend(np.linspace(a, b, n + 1)[1:].tolist())
+    if len(nodes) < 3:
+        nodes = np.linspace(0.0, length, 3).tolist()
+    return np.array(nodes)
+
+
+def _smooth_resample(points: np.ndarray, radii: np.ndarray, spacing: float, size: float,
+                     held: list[HeldBox] = ()) -> tuple[np.ndarray, np.ndarray]:
+    """A branch's chain smoothed at the sample spacing, resampled at <= `size`, >= 2 elements, with nodes
+    where it crosses the edges of held boxes."""
     s = _arclength(points)
     distinct = np.concatenate([[True], np.diff(s) > 0])
     distinct[-1] = True
@@ -809,21 +846,20 @@ def _smooth_resample(points: np.ndarray, radii: np.ndarray, spacing: float, size
     for _ in range(SMOOTH_PASSES):
         fine[1:-1] = 0.25 * fine[:-2] + 0.5 * fine[1:-1] + 0.25 * fine[2:]
     fine_s = _arclength(fine[:, :2])
-    n_elements = max(2, math.ceil(fine_s[-1] / size - 1e-9))
-    node_s = np.linspace(0.0, fine_s[-1], n_elements + 1)
+    node_s = _node_arclengths(fine_s[-1], size, _box_crossings(fine, fine_s, list(held)))
     nodes = np.column_stack([np.interp(node_s, fine_s, fine[:, k]) for k in range(3)])
     nodes[0], nodes[-1] = fine[0], fine[-1]
     return nodes[:, :2], nodes[:, 2]
 
 
-def _mesh_branches(skeleton: _Skeleton, size: float):
+def _mesh_branches(skeleton: _Skeleton, size: float, held: list[HeldBox] = ()):
     """Nodes (end nodes first), thickness, elements and node chains of the branches."""
     nodes = [skeleton.node_xy]
     thickness = [2.0 * skeleton.node_radius]
     n = len(skeleton.node_xy)
     elements, chains = [], []
     for a, b, points, radii in skeleton.branches:
-        xy, rad = _smooth_resample(points, radii, skeleton.spacing, size)
+        xy, rad = _smooth_resample(points, radii, skeleton.spacing, size, held)
         inner = np.arange(n, n + len(xy) - 2)
         n += len(inner)
         nodes.append(xy[1:-1])
