@@ -59,10 +59,11 @@ KEEP_MM = 1e-6                  # the in-process part keeps its shape to this (f
 SLIVER_MM = 0.005               # half the thickness of the thinnest sliver the shell model is given
 SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
 DEVIATION_SPACING_MM = 0.1
+RANGE_DEVIATION_SPACING_MM = 0.25   # the spread runs' largest deviation: a coarser look is enough for a range
 MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubbing (common practice: a honed
                                 # carbide edge needs a chip of a few um to cut at all)
 RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
-BISECTION_STEPS = 60            # halves the bracket to 2^-60 of the met depth
+BISECTION_STEPS = 45            # halves the bracket to 2^-45 (3e-14) of the met depth
 
 
 @dataclass(frozen=True)
@@ -166,19 +167,19 @@ def contact_point(path: CutPath, k: int, behind_mm: float) -> np.ndarray:
     return path.points_rz[k] - shift * path.feed_dir[k]
 
 
-def cut_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, met_depth_mm: np.ndarray,
-                   settings: SimulationSettings) -> np.ndarray:
-    """(K, 3, 3) compliance of the part along a cut: normal, circumferential, along the boundary (CCW)."""
-    count = len(path.points_rz)
+def behind_and_lead_in(settings: SimulationSettings) -> tuple[float, int]:
+    """How far behind the tool it bears on the cut surface [mm], and that in stations."""
     behind_mm = 0.5 * settings.patch.length_mm
-    keys = key_indices(path, met_depth_mm, settings.key_stations, math.ceil(behind_mm / settings.station_spacing_mm))
+    return behind_mm, math.ceil(behind_mm / settings.station_spacing_mm)
+
+
+def interpolated(count: int, keys: np.ndarray, at_keys: np.ndarray) -> np.ndarray:
+    """(count, 3, 3) compliance at every station from its values at the key stations. Compliance changes by
+    orders of magnitude from the held end to a free rim: the normal compliance is interpolated in log scale,
+    the other entries in proportion to it."""
     matrices = np.zeros((count, 3, 3))
     if len(keys) == 0:
         return matrices
-    tasks = [(job, current_rz, path, p, int(k), behind_mm, settings) for k in keys]
-    at_keys = np.array(list(parallel_map(key_compliance, tasks)))
-    # compliance changes by orders of magnitude from the held end to a free rim: interpolate the normal
-    # compliance in log scale, the other entries in proportion to it
     stations = np.arange(count)
     normal = np.maximum(at_keys[:, 0, 0], 1e-15)
     normal_at = np.exp(np.interp(stations, keys, np.log(normal)))
@@ -186,6 +187,31 @@ def cut_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, met_dept
         for j in range(3):
             matrices[:, i, j] = normal_at * np.interp(stations, keys, at_keys[:, i, j] / normal)
     return matrices
+
+
+def plan_compliance(job, process: Process, settings: SimulationSettings, nominal_rz: np.ndarray) -> dict:
+    """Cut paths and in-process compliance of every cut, computed once for all runs.
+
+    The key stations' shapes are those of a part cut exactly to its targets: the push-off changes a wall by
+    micrometres, its compliance by far less than the force constants' spread. So every key station of every
+    cut is known before any equilibrium is solved, and all of them go to the cores at once.
+    Returns {i: cut paths of pass i, (i, j): (K, 3, 3) compliance along cut j of pass i}.
+    """
+    behind_mm, lead_in = behind_and_lead_in(settings)
+    plan, tasks, owners = {}, [], []
+    current = process.stock_rz
+    for i, p in enumerate(process.passes):
+        plan[i] = cuts_for_pass(current, nominal_rz, p, settings.station_spacing_mm)
+        for j, path in enumerate(plan[i]):
+            keys = key_indices(path, met_depth(current, path, p), settings.key_stations, lead_in)
+            owners.append((i, j, len(path.points_rz), keys))
+            tasks += [(job, current, path, p, int(k), behind_mm, settings) for k in keys]
+            current = simplified(remove(current, path, np.zeros(len(path.points_rz)), p.surface,
+                                        name=f"'{p.name}'"), KEEP_MM)
+    values = iter(parallel_map(key_compliance, tasks))
+    for i, j, count, keys in owners:
+        plan[(i, j)] = interpolated(count, keys, np.array([next(values) for _ in keys]).reshape(-1, 3, 3))
+    return plan
 
 
 def parallel_map(function, tasks: list[tuple]):
@@ -267,23 +293,20 @@ def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarra
     return table, after
 
 
-def run_passes(job, process: Process, settings: SimulationSettings, force_scale: float,
-               cache: dict, nominal_rz: np.ndarray, progress=None):
-    """All passes in order; returns the per-pass station tables and the as-machined polygon."""
+def run_passes(job, process: Process, force_scale: float, plan: dict, progress=None):
+    """All passes in order on the planned cuts (`plan_compliance`); returns the per-pass station tables and
+    the as-machined polygon."""
     current = process.stock_rz
     per_pass = []
     for i, p in enumerate(process.passes):
         tables = []
-        for j, path in enumerate(cuts_for_pass(current, nominal_rz, p, settings.station_spacing_mm)):
-            # The spread runs reuse the nominal run's compliance and met depth: the compliance does not depend
-            # on the force constants, and the met depth changes only by the difference in the earlier passes'
-            # push-off (micrometres on tenths), which moves this cut's push-off by far less than the spread.
-            entry = cache.get((i, j))
-            if entry is None or len(entry[1]) != len(path.points_rz):   # new, or a spread run's own layout
-                met = met_depth(current, path, p)
-                entry = (cut_compliance(job, current, path, p, met, settings), met)
-                cache[(i, j)] = entry
-            table, current = run_cut(job, process, p, path, current, entry[0], entry[1], force_scale, j)
+        for j, path in enumerate(plan[i]):
+            # the spread runs reuse the nominal run's met depth: the part differs only by the earlier passes'
+            # push-off (micrometres on tenths), which moves this cut's push-off far less than the spread does
+            if ("met", i, j) not in plan:
+                plan[("met", i, j)] = met_depth(current, path, p)
+            table, current = run_cut(job, process, p, path, current, plan[(i, j)], plan[("met", i, j)],
+                                     force_scale, j)
             tables.append(table)
             if progress:
                 progress(p.name, j)
@@ -367,11 +390,10 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     """Machine the part pass by pass; the nominal constants and their +/- spread."""
     material = job.material
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
-    cache: dict = {}
-    per_pass, machined = run_passes(job, process, settings, 1.0, cache, nominal_rz, progress)
+    plan = plan_compliance(job, process, settings, nominal_rz)
+    per_pass, machined = run_passes(job, process, 1.0, plan, progress)
     spread = material.force_spread
-    ranges = [run_passes(job, process, settings, scale, cache, nominal_rz)[1]
-              for scale in (1.0 - spread, 1.0 + spread)]
+    ranges = [run_passes(job, process, scale, plan)[1] for scale in (1.0 - spread, 1.0 + spread)]
 
     nominal = mass_properties(job.section, material.density_g_cm3)
     mass, inertia, _ = polygon_mass(machined, material.density_g_cm3)
@@ -381,7 +403,7 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     surfaces, names = finished_by(raw, process, per_pass)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals, deviation_mm=raw.deviation_mm,
                                  surface=surfaces, finished_by=names)
-    range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm))
+    range_max = [float(np.max(deviation_along(job.section, rz, RANGE_DEVIATION_SPACING_MM).deviation_mm))
                  for rz in ranges]
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, material.density_g_cm3)
 

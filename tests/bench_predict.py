@@ -58,7 +58,7 @@ def measure(spacing_mm: float | None, one_core: bool) -> dict:
         return keys
 
     simulate_module.key_indices = counted_keys
-    simulate_module.cut_compliance = timed("compliance", simulate_module.cut_compliance)
+    simulate_module.plan_compliance = timed("compliance", simulate_module.plan_compliance)
     simulate_module.equilibrium = timed("equilibrium", simulate_module.equilibrium)
 
     start = time.perf_counter()

@@ -44,7 +44,7 @@ from deflect.cutting import chip_geometry, cutting_forces
 from deflect.inprocess import POLYGON_CHORD_MM, cuts_for_pass, depth_of_material, remove
 from deflect.job import read_job
 from deflect.process import process_from_job
-from deflect.simulate import (SimulationSettings, contact_point, cut_compliance, key_indices, section_of_polygon,
+from deflect.simulate import (SimulationSettings, contact_point, plan_compliance, key_indices, section_of_polygon,
                               simulate)
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
@@ -269,7 +269,7 @@ def test_station_deflection_is_compliance_times_force(run, request):
     # the equilibrium a = a_met - delta at every station
     assert np.allclose(table.depth_mm[cutting] + table.deflection_mm[cutting], met[cutting], rtol=0, atol=1e-12)
     # the push-off from the simulation's own (interpolated) 3x3 compliance and the reported forces
-    matrices = cut_compliance(job, process.stock_rz, path, p, met, settings)
+    matrices = plan_compliance(job, process, settings, job.section.polygon(POLYGON_CHORD_MM))[(0, 0)]
     tangent = np.column_stack([-path.normals[:, 1], path.normals[:, 0]])
     s = np.sign(np.einsum("ij,ij->i", path.feed_dir, tangent))
     assert np.all(s == (1.0 if p.surface == "id" else -1.0))     # both feed towards the chuck, -z
