@@ -92,7 +92,7 @@ def point_record(point) -> dict:
             "compliance_mm_per_N": point.normal_mm_per_n,
             "matrix_mm_per_N": point.matrix_mm_per_n.tolist(),
             "stiffness_N_per_mm": 1.0 / point.normal_mm_per_n if point.normal_mm_per_n > 0 else None,
-            "harmonics": point.harmonics}
+            "highest_harmonic": point.harmonics}
 
 
 @cli.command()

@@ -49,7 +49,7 @@ class PointCompliance:
     nr: float                      # unit outward normal there
     nz: float
     matrix_mm_per_n: np.ndarray    # (3, 3): normal, circumferential, along the boundary (module docstring)
-    harmonics: int                 # highest Fourier harmonic the sum needed
+    harmonics: int                 # highest Fourier harmonic summed (over the points computed together)
 
     @property
     def normal_mm_per_n(self) -> float:

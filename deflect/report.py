@@ -38,13 +38,13 @@ def section_table(title: str, props: dict) -> str:
 
 def compliance_table(title: str, points: list, mapped: bool) -> str:
     """Compliance per point: normal, circumferential and along-boundary diagonal, and the stiffness."""
-    header = ["r mm", "z mm", "nr", "nz", "normal um/N", "circ. um/N", "along um/N", "stiffness N/um", "harm."]
+    header = ["r mm", "z mm", "nr", "nz", "normal um/N", "circ. um/N", "along um/N", "stiffness N/um"]
     rows = []
     for p in points:
         c = p.matrix_mm_per_n
         stiffness = f"{1e-3 / c[0, 0]:.3g}" if c[0, 0] > 0 else "held"
         rows.append([f"{p.r_mm:.3f}", f"{p.z_mm:.3f}", f"{p.nr:+.2f}", f"{p.nz:+.2f}",
-                     f"{1e3 * c[0, 0]:.4g}", f"{1e3 * c[1, 1]:.4g}", f"{1e3 * c[2, 2]:.4g}", stiffness,
-                     str(p.harmonics)])
+                     f"{1e3 * c[0, 0]:.4g}", f"{1e3 * c[1, 1]:.4g}", f"{1e3 * c[2, 2]:.4g}", stiffness])
     what = "along the whole boundary" if mapped else "at the asked points"
-    return f"Compliance of the held part {what}: {title}\n" + grid(header, rows)
+    summed = f"(Fourier harmonics 0..{max(p.harmonics for p in points)} summed)" if points else ""
+    return f"Compliance of the held part {what}: {title} {summed}\n" + grid(header, rows)
