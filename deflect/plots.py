@@ -11,6 +11,9 @@ from pathlib import Path
 import numpy as np
 
 
+DPI = 120
+
+
 def _pyplot():
     import matplotlib
 
@@ -18,6 +21,13 @@ def _pyplot():
     import matplotlib.pyplot as plt
 
     return plt
+
+
+def _save(plt, fig, path) -> None:
+    """Lay the figure out, write it as PNG at a readable resolution, free it."""
+    fig.tight_layout()
+    fig.savefig(path, dpi=DPI)
+    plt.close(fig)
 
 
 def compliance_map_plot(section, points: list, title: str, path: str) -> None:
@@ -51,9 +61,7 @@ def compliance_map_plot(section, points: list, title: str, path: str) -> None:
     ax_line.grid(True, which="both", alpha=0.3)
     ax_line.legend(loc="best")
     fig.suptitle(f"Compliance map: {title}")
-    fig.tight_layout()
-    fig.savefig(path, dpi=120)
-    plt.close(fig)
+    _save(plt, fig, path)
 
 
 SURFACE_LABELS = {"od": "OD", "id": "bore (ID)", "face": "faces"}
@@ -114,9 +122,7 @@ def section_plot(pred, path: Path) -> Path:
     ax.legend(loc="best", fontsize=8)
     ax.set_title(f"Section: {pred.title}\nmaterial left x {factor:.0f} "
                  f"(largest {1e3 * pred.max_deviation_mm.value:.1f} um a side)")
-    fig.tight_layout()
-    fig.savefig(path, dpi=120)
-    plt.close(fig)
+    _save(plt, fig, path)
     return path
 
 
@@ -144,9 +150,7 @@ def deviation_plot(pred, path: Path) -> Path:
         ax.grid(True, alpha=0.3)
         ax.legend(loc="best", fontsize=8)
     fig.suptitle(f"Material left beyond the drawn surface (> 0 thicker): {pred.title}")
-    fig.tight_layout()
-    fig.savefig(path, dpi=120)
-    plt.close(fig)
+    _save(plt, fig, path)
     return path
 
 
@@ -180,9 +184,7 @@ def passes_plot(pred, path: Path) -> Path:
             if passes:
                 ax.legend(loc="best", fontsize=8)
     fig.suptitle(f"Forces and push-off along the passes: {pred.title}")
-    fig.tight_layout()
-    fig.savefig(path, dpi=120)
-    plt.close(fig)
+    _save(plt, fig, path)
     return path
 
 
