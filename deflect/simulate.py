@@ -4,16 +4,18 @@ Takes a checked `Job` and its `Process` (stock, tools, passes, machine); gives a
 
 For each pass, cut by cut (roughing steps, the finishing cut, spring cuts), station by station along the
 tool path:
-1. the depth of material the tool meets beyond its target, on the part as it is before this cut
-   (`inprocess.depth_of_material`); earlier push-off is already in it, so leftover becomes extra depth;
+1. the depth of material the tool meets beyond its target, on the part as it is when the tool arrives
+   (`met_depth`); earlier push-off is already in it, so leftover becomes extra depth;
 2. the 3x3 compliance of the part as it is while the tool stands there: material this cut has removed up
    to the tool is gone, material ahead is still there (`inprocess.remove(..., upto=k)`, then a new shell
-   model of that shape, `compliance.WallModel`). It is computed at a few key stations of each cut and
+   model of that shape, `compliance.WallModel`). It is computed at key stations of each cut, all of them
+   planned before any equilibrium is solved (`plan_compliance`, on the part cut to its targets), and
    interpolated along the path between them (`KEY_STATIONS`; the convergence test doubles them);
 3. the cutting, feed and passive forces of the chip actually taken (`cutting.cutting_forces`: Kienzle on
    Colwell's equivalent edge) and the force-deflection equilibrium
-       a = a_met - delta(a),   delta = C_nn F_p + C_nt F_feed,t + c_tool F_p,
-   solved by bisection (delta grows with a, so the root is unique and bracketed by [0, 2 a_met]);
+       a = a_met - delta(a),   delta = (C_nn + c_tool) F_p + C_na s F_f,
+   (C_na the normal response to a force along the boundary, s the sign of the feed along it), solved by
+   bisection (delta grows with a, so the root is unique and bracketed by [0, 2 a_met]);
 4. the surface the cut leaves is the target pushed out by delta (`inprocess.remove`).
 
 The force constants are uncertain (batch, wear): the whole chain is run again with every force scaled by
