@@ -7,6 +7,7 @@ with `warning:`; with `--json` stdout holds exactly one JSON object.
 from __future__ import annotations
 
 import json
+import math
 import os
 import sys
 
@@ -39,6 +40,8 @@ def parse_pair(text: str, option: str, names: str) -> tuple[float, float]:
         if len(parts) != 2:
             raise ValueError
         first, second = float(parts[0]), float(parts[1])
+        if not (math.isfinite(first) and math.isfinite(second)):
+            raise ValueError
     except ValueError:
         raise InputError(option, f"expects {names} as two numbers with a comma, got {text!r}") from None
     return first, second
@@ -65,8 +68,12 @@ def section(job_file, as_json):
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
-    props = mass_properties(job.section, job.material.density_g_cm3)
-    wall_mm = min_wall(job.section)
+    try:
+        props = mass_properties(job.section, job.material.density_g_cm3)
+        wall_mm = min_wall(job.section)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
     payload = {
         "area_mm2": props.area_mm2,
         "volume_mm3": props.volume_mm3,
@@ -139,7 +146,10 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
                "tolerance": tolerance}
     if plot_file and not points:
         from deflect.plots import compliance_map_plot
-        compliance_map_plot(job.section, results, job.title, plot_file)
+        try:
+            compliance_map_plot(job.section, results, job.title, plot_file)
+        except OSError as exc:
+            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
     if as_json:
         emit_json(payload)
     else:
@@ -151,11 +161,13 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
 def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`)."""
     from deflect.job import read_job
+    from deflect.materials import require_cutting_constants
     from deflect.process import process_from_job
     from deflect.simulate import simulate
 
     job = read_job(job_file)
     try:
+        require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
         warn(job.warnings + process.warnings, job_file)
 
@@ -222,10 +234,13 @@ def demo(out_dir):
     click.echo(f"deflect demo: predicting {job_file}", err=True)
     pred = run_prediction(job_file, show_progress=True)
     out = Path(out_dir)
-    out.mkdir(parents=True, exist_ok=True)
     report = predict_report(pred)
-    (out / "report.txt").write_text(report + "\n")
-    (out / "prediction.json").write_text(json.dumps(prediction_payload(pred), indent=2))
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        (out / "report.txt").write_text(report + "\n")
+        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred), indent=2))
+    except OSError as exc:
+        raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
     written = write_outputs(pred, out / "csv", out / "figures")
     click.echo(report)
     click.echo(f"\nreport, JSON, CSV and figures written to {out.resolve()}:")

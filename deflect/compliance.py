@@ -122,12 +122,35 @@ class WallModel:
                 reach += step
             ends.append(reach)
         low, high = arclength - ends[0], arclength + ends[1]
-        if self.strict_patch and ends[0] < half and ends[1] < half:
-            face = high - low
-            if face < self.patch.length_mm * (1.0 - 1e-6):
+        if self.strict_patch and min(ends) < half:
+            # the whole patch must lie on the point's face: near a corner it slides away from the corner so
+            # that all A mm of it bear on the face (the load's centre moves by the overhang, under A/2)
+            face = self.face_span(arclength, normal)
+            if face[1] - face[0] < self.patch.length_mm * (1.0 - 1e-6):
                 raise InputError("--patch", f"the patch is {self.patch.length_mm:g} mm long but the face it sits "
-                                            f"on is only {face:.3g} mm between its corners; give a shorter patch")
+                                            f"on is only {face[1] - face[0]:.3g} mm between its corners; "
+                                            "give a shorter patch")
+            low = min(max(arclength - half, face[0]), face[1] - self.patch.length_mm)
+            high = low + self.patch.length_mm
         return low, high
+
+    def face_span(self, arclength: float, normal: np.ndarray) -> tuple[float, float]:
+        """Arclength interval of the face a point lies on: as far each way as the boundary turns less than
+        CORNER_ANGLE_DEG from the point's normal (at most the patch length and a half, which is all the
+        sliding patch can need)."""
+        cos_corner = math.cos(math.radians(CORNER_ANGLE_DEG))
+        limit = 1.5 * self.patch.length_mm
+        ends = []
+        for sign in (-1.0, 1.0):
+            reach = 0.0
+            while reach < limit:
+                step = min(self.step_mm, limit - reach)
+                _, n_next = self.section.point_at(arclength + sign * (reach + step))
+                if np.dot(n_next, normal) < cos_corner:
+                    break
+                reach += step
+            ends.append(reach)
+        return arclength - ends[0], arclength + ends[1]
 
     def load_at(self, arclength: float, point: np.ndarray, normal: np.ndarray) -> ShellLoad:
         """The unit load spread over the patch, as load points on the shell's mid-surface."""

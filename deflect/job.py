@@ -30,7 +30,6 @@ PART_KEYS = ("outline",)
 HELD_KEYS = ("r", "z")
 
 # Lengths inside the machining tables, converted for inch jobs (key names as in CONTRACT.md).
-STOCK_LENGTH_KEYS = ("diameter", "od", "id", "z")
 TOOL_LENGTH_KEYS = ("nose_radius",)
 BAR_LENGTH_KEYS = ("diameter", "overhang")
 PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset")

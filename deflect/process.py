@@ -231,6 +231,12 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
     if feed <= 0.0:
         raise InputError(f"{key}.feed", f"must be more than 0 mm/rev, got {feed:g} (zero feed: the tool "
                                         "would never advance); give e.g. feed = 0.1")
+    nose_mm = tools[tool].nose_radius_mm
+    if feed >= 2.0 * nose_mm:
+        # the nose-radius chip (and the cusp it leaves) needs the feed inside the nose: f < 2 r
+        raise InputError(f"{key}.feed", f"{feed:g} mm/rev is not smaller than twice the nose radius of {tool!r} "
+                                        f"({nose_mm:g} mm): the nose would not reach the last cut's surface; "
+                                        f"give a feed below {2.0 * nose_mm:g}")
     speed = _positive(table, "speed", key, "the cutting speed in m/min, e.g. speed = 200.0")
     start, end = _extent(table, surface, key)
     depth = None

@@ -15,7 +15,8 @@ tool path:
    Colwell's equivalent edge) and the force-deflection equilibrium
        a = a_met - delta(a),   delta = (C_nn + c_tool) F_p + C_na s F_f,
    (C_na the normal response to a force along the boundary, s the sign of the feed along it), solved by
-   bisection (delta grows with a, so the root is unique and bracketed by [0, 2 a_met]);
+   bisection on [0, 2 a_met] (delta grows with a unless the feed force pulls the wall into the tool; a station
+   left unbalanced is reported as a cut that digs in);
 4. the surface the cut leaves is the target pushed out by delta (`inprocess.remove`).
 
 The force constants are uncertain (batch, wear): the whole chain is run again with every force scaled by
@@ -62,11 +63,11 @@ KEEP_MM = 1e-6                  # the in-process part keeps its shape to this (f
 SLIVER_MM = 0.005               # half the thickness of the thinnest sliver the shell model is given
 SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
 DEVIATION_SPACING_MM = 0.1
-RANGE_DEVIATION_SPACING_MM = 0.25   # the spread runs' largest deviation: a coarser look is enough for a range
 MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubbing (common practice: a honed
                                 # carbide edge needs a chip of a few um to cut at all)
 RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
 BISECTION_STEPS = 45            # halves the bracket to 2^-45 (3e-14) of the met depth
+EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
 
 
 @dataclass(frozen=True)
@@ -270,6 +271,13 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
         low = np.where(above, low, middle)
     depth = 0.5 * (low + high)
     delta, forces = push_off(depth)
+    unbalanced = np.abs(depth + delta - met_depth_mm) > EQUILIBRIUM_TOLERANCE * np.maximum(met_depth_mm, 1e-3)
+    if unbalanced.any():
+        # delta fell with depth so fast that no depth in [0, 2 a_met] balances: the feed force pulls the wall
+        # into the tool by more than the chip it meets, and the cut would dig in
+        raise ModelError(f"pass '{p.name}' digs in: at {int(unbalanced.sum())} station(s) the feed force draws the "
+                         "wall into the tool further than the depth it meets, so no steady cut exists; use a "
+                         "smaller feed, a tool with a smaller approach angle, or a stiffer set-up", key=p.key)
     return depth, delta, forces
 
 
@@ -328,11 +336,13 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
     for p, tables in zip(process.passes, per_pass):
         final = tables[-1]
         path = np.column_stack([final.r_mm, final.z_mm])
-        reach = abs(p.allowance_mm + p.offset_mm) + 0.05
-        for k, (point, normal) in enumerate(zip(deviation.points_rz, deviation.normals)):
-            facing = {"od": normal[0] > 0.3, "id": normal[0] < -0.3, "face": normal[1] > 0.3}[p.surface]
-            if facing and np.min(np.linalg.norm(path - point, axis=1)) <= reach + STATION_SPACING_MM:
-                surfaces[k], names[k] = p.surface, p.name
+        reach = abs(p.allowance_mm + p.offset_mm) + 0.05 + STATION_SPACING_MM
+        gaps = np.linalg.norm(deviation.points_rz[:, None, :] - path[None, :, :], axis=2)   # (points, stations)
+        nearest = np.argmin(gaps, axis=1)
+        # a point this pass finished lies at its final target and faces the way the cut surface there faces
+        facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > 0.3
+        for k in np.flatnonzero(facing & (gaps[np.arange(len(nearest)), nearest] <= reach)):
+            surfaces[k], names[k] = p.surface, p.name
     return surfaces, names
 
 
@@ -406,7 +416,7 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     surfaces, names = finished_by(raw, process, per_pass)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals, deviation_mm=raw.deviation_mm,
                                  surface=surfaces, finished_by=names)
-    range_max = [float(np.max(deviation_along(job.section, rz, RANGE_DEVIATION_SPACING_MM).deviation_mm))
+    range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm))
                  for rz in ranges]
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, material.density_g_cm3)
 

@@ -16,7 +16,6 @@ from dataclasses import dataclass
 import numpy as np
 
 DOFS_PER_NODE = 6
-DOF_NAMES = ("u_r", "u_theta", "u_z", "w_r", "w_theta", "w_z")
 
 
 @dataclass(frozen=True)

@@ -68,9 +68,9 @@ def diameter_changes(width, n_el):
 
 
 def test_castigliano_coefficients_re_evaluated():
-    short, longer = castigliano_coefficients()
     """The lengthening matches REFERENCE.md's 0.136620. Its shortening figure 0.148679 is not what its own formula
     gives: pi/4 - 2/pi = 0.148778 (the digits 7 and 6 swapped); the formula and the energy integral agree."""
+    short, longer = castigliano_coefficients()
     assert short == pytest.approx(np.pi / 4 - 2 / np.pi, rel=1e-10)
     assert short == pytest.approx(0.148778, rel=1e-5)
     assert longer == pytest.approx(2 / np.pi - 1 / 2, rel=1e-10)
