@@ -67,6 +67,7 @@ MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubb
                                 # carbide edge needs a chip of a few um to cut at all)
 RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
 BISECTION_STEPS = 45            # halves the bracket to 2^-45 (3e-14) of the met depth
+CYLINDER_COS = 0.999            # a finished od or bore point counts as cylindrical within 2.6 degrees of radial
 EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
 
 
@@ -359,11 +360,9 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
     checks = []
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, density)
     for surface in ("od", "id"):
-        chosen = [k for k, s in enumerate(deviation.surface) if s == surface and abs(deviation.normals[k][0]) > 0.999]
-        if len(chosen) < 3:
+        order = straight_points(deviation, surface)
+        if len(order) < 3:
             continue
-        z = deviation.points_rz[chosen, 1]
-        order = np.array(chosen)[np.argsort(z)]
         picks = {"chuck end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
         positions = {name: tuple(map(float, deviation.points_rz[k])) for name, k in picks.items()}
         left = {name: float(deviation.deviation_mm[k]) for name, k in picks.items()}
@@ -379,23 +378,29 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
     return checks
 
 
-def wall_checks(checks: list[SurfaceCheck], deviation: SurfaceDeviation) -> list[dict]:
-    """Wall thickness against nominal at the od's chuck end, middle and free end, where a bore faces it."""
-    by_surface = {c.surface: c for c in checks}
-    if "od" not in by_surface or "id" not in by_surface:
+def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
+    """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets), by z."""
+    chosen = np.array([k for k, s in enumerate(deviation.surface)
+                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS], int)
+    return chosen[np.argsort(deviation.points_rz[chosen, 1])] if len(chosen) else chosen
+
+
+def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
+    """Wall thickness against nominal at the chuck end, middle and free end of the height over which a
+    cylindrical od and a cylindrical bore face each other (fillets left out, as a machinist measures)."""
+    od, bore = straight_points(deviation, "od"), straight_points(deviation, "id")
+    if len(od) < 3 or len(bore) < 3:
         return []
-    bore = [k for k, s in enumerate(deviation.surface) if s == "id"]
-    bore_z = deviation.points_rz[bore, 1]
-    order = np.argsort(bore_z)
+    z_od, z_bore = deviation.points_rz[od, 1], deviation.points_rz[bore, 1]
+    low, high = max(z_od[0], z_bore[0]), min(z_od[-1], z_bore[-1])
+    if high <= low:
+        return []
     rows = []
-    for name, (r_od, z) in by_surface["od"].positions.items():
-        if not (bore_z.min() <= z <= bore_z.max()):
-            continue
-        r_id = float(np.interp(z, bore_z[order], deviation.points_rz[bore, 0][order]))
-        left_id = float(np.interp(z, bore_z[order], deviation.deviation_mm[bore][order]))
-        nominal = r_od - r_id
-        rows.append({"where": name, "z_mm": z, "nominal_mm": nominal,
-                     "predicted_mm": nominal + by_surface["od"].deviation_mm[name] + left_id})
+    for name, z in (("chuck end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
+        r_od = float(np.interp(z, z_od, deviation.points_rz[od, 0]))
+        r_id = float(np.interp(z, z_bore, deviation.points_rz[bore, 0]))
+        left = float(np.interp(z, z_od, deviation.deviation_mm[od]) + np.interp(z, z_bore, deviation.deviation_mm[bore]))
+        rows.append({"where": name, "z_mm": float(z), "nominal_mm": r_od - r_id, "predicted_mm": r_od - r_id + left})
     return rows
 
 
@@ -455,6 +460,6 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
         max_deviation_mm=SpreadValue(max_dev, min(range_max), max(range_max)),
         cycle_time_s=float(sum(p.cycle_time_s for p in passes)),
         machine_power_kw=process.machine.power_kw, peak_power_kw=peak_power,
-        passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(checks, deviation),
+        passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(deviation),
         machined_rz=machined, nominal_rz=nominal_rz, stock_rz=process.stock_rz,
         mass_gain_by_surface_g=by_surface, warnings=warnings)
