@@ -24,7 +24,9 @@ Published methods:
   R. F. Fowle, P. Mathew, P. L. B. Oxley, "Prediction of chip flow direction,
   cutting forces and surface roughness in finish turning", J. Manuf. Sci. Eng.
   120(1) (1998) 1-12. It is what makes the radial (passive) force grow when the
-  depth of cut is small compared with the nose radius.
+  depth of cut is small compared with the nose radius. The approach angle enters only
+  through this chip geometry: the material record's reference approach angle is kept
+  for the record, and no further approach-angle correction of the constants is made.
 * Roughness of the circular cusps left by the nose (peak-to-valley and arithmetic
   mean), as in G. Boothroyd, W. A. Knight, *Fundamentals of Machining and Machine
   Tools*, but for the exact circular arc rather than its parabolic approximation.
