@@ -110,22 +110,11 @@ class WallModel:
     def patch_span(self, arclength: float, normal: np.ndarray) -> tuple[float, float]:
         """Arclength interval of the patch: centred on the point, clipped where the face ends at a corner."""
         half = self.patch.length_mm / 2.0
-        cos_corner = math.cos(math.radians(CORNER_ANGLE_DEG))
-        ends = []
-        for sign in (-1.0, 1.0):
-            reach = 0.0
-            while reach < half:
-                step = min(self.step_mm, half - reach)
-                _, n_next = self.section.point_at(arclength + sign * (reach + step))
-                if np.dot(n_next, normal) < cos_corner:
-                    break
-                reach += step
-            ends.append(reach)
-        low, high = arclength - ends[0], arclength + ends[1]
-        if self.strict_patch and min(ends) < half:
+        low, high = self.face_span(arclength, normal, half)
+        if self.strict_patch and min(arclength - low, high - arclength) < half:
             # the whole patch must lie on the point's face: near a corner it slides away from the corner so
             # that all A mm of it bear on the face (the load's centre moves by the overhang, under A/2)
-            face = self.face_span(arclength, normal)
+            face = self.face_span(arclength, normal, 1.5 * self.patch.length_mm)
             if face[1] - face[0] < self.patch.length_mm * (1.0 - 1e-6):
                 raise InputError("--patch", f"the patch is {self.patch.length_mm:g} mm long but the face it sits "
                                             f"on is only {face[1] - face[0]:.3g} mm between its corners; "
@@ -134,17 +123,15 @@ class WallModel:
             high = low + self.patch.length_mm
         return low, high
 
-    def face_span(self, arclength: float, normal: np.ndarray) -> tuple[float, float]:
-        """Arclength interval of the face a point lies on: as far each way as the boundary turns less than
-        CORNER_ANGLE_DEG from the point's normal (at most the patch length and a half, which is all the
-        sliding patch can need)."""
+    def face_span(self, arclength: float, normal: np.ndarray, limit_mm: float) -> tuple[float, float]:
+        """Arclength interval of the face a point lies on, up to limit_mm each way: as far as the boundary
+        turns less than CORNER_ANGLE_DEG from the point's normal."""
         cos_corner = math.cos(math.radians(CORNER_ANGLE_DEG))
-        limit = 1.5 * self.patch.length_mm
         ends = []
         for sign in (-1.0, 1.0):
             reach = 0.0
-            while reach < limit:
-                step = min(self.step_mm, limit - reach)
+            while reach < limit_mm:
+                step = min(self.step_mm, limit_mm - reach)
                 _, n_next = self.section.point_at(arclength + sign * (reach + step))
                 if np.dot(n_next, normal) < cos_corner:
                     break
@@ -173,21 +160,25 @@ class WallModel:
     def at_boundary(self, arclengths: list[float], normals: list | None = None) -> list[PointCompliance]:
         """Compliance at boundary points given by their arclength, loaded along the boundary's own inward
         normal there, or along the given outward normals (a tool bearing on a corner of the cut)."""
-        loads, directions, located = [], [], []
+        placed = []
         for i, s in enumerate(arclengths):
             point, normal = self.section.point_at(s)
             if normals is not None:
                 normal = normals[i]
             point, normal = np.asarray(point, float), np.asarray(normal, float)
-            tangent = np.array([-normal[1], normal[0]])   # CCW tangent: the outward normal turned left
-            loads.append(self.load_at(s, point, normal))
-            directions.append([-normal, tangent])
-            located.append((point, normal))
-        matrices, harmonics = harmonic_compliance(self.shell, loads, np.array(directions), tol=self.tolerance,
+            placed.append((self.load_at(s, point, normal), point, normal))
+        return self.solve(placed)
+
+    def solve(self, placed: list[tuple[ShellLoad, np.ndarray, np.ndarray]]) -> list[PointCompliance]:
+        """Compliance of (load, point, outward normal) triples, all summed over the harmonics together."""
+        loads = [load for load, _, _ in placed]
+        # axes: into the material, and the CCW tangent (the outward normal turned left)
+        directions = np.array([[-n, [-n[1], n[0]]] for _, _, n in placed])
+        matrices, harmonics = harmonic_compliance(self.shell, loads, directions, tol=self.tolerance,
                                                   floor_mm_per_n=self.floor_mm_per_n)
         return [PointCompliance(r_mm=float(p[0]), z_mm=float(p[1]), nr=float(n[0]), nz=float(n[1]),
                                 matrix_mm_per_n=matrices[i], harmonics=int(harmonics))
-                for i, (p, n) in enumerate(located)]
+                for i, (_, p, n) in enumerate(placed)]
 
     def at_points(self, points_rz: list[tuple[float, float]]) -> list[PointCompliance]:
         """Compliance at the boundary points nearest to the asked points."""
@@ -209,13 +200,13 @@ class WallModel:
         """Compliance along the whole boundary (not on the axis, not where the patch does not fit its face)."""
         spacing = spacing_mm or max(self.patch.length_mm / 2.0, self.section.perimeter() / 300.0)
         samples = self.section.sample(spacing)
-        chosen = []
-        for s, point, normal, segment in zip(samples.arclength, samples.points, samples.normals, samples.segment):
+        placed = []
+        for s, segment in zip(samples.arclength, samples.segment):
             if on_axis(self.section, int(segment)):
                 continue
+            point, normal = (np.asarray(v, float) for v in self.section.point_at(float(s)))
             try:
-                self.load_at(float(s), point, normal)
+                placed.append((self.load_at(float(s), point, normal), point, normal))
             except InputError:
                 continue   # a face shorter than the patch (a thin rim face): no value there
-            chosen.append(float(s))
-        return self.at_boundary(chosen)
+        return self.solve(placed)
