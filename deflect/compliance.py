@@ -70,11 +70,6 @@ def element_size_mm(section: Section, patch: Patch) -> float:
     return float(np.clip(size, half_perimeter / 1600.0, half_perimeter / 40.0))
 
 
-def on_axis(section: Section, segment_index: int) -> bool:
-    segment = section.segments[segment_index]
-    return abs(segment.start[0]) < 1e-9 and abs(segment.end[0]) < 1e-9
-
-
 class WallModel:
     """The shell model of one held section, built once and asked for compliance at many points."""
 
@@ -202,7 +197,7 @@ class WallModel:
         samples = self.section.sample(spacing)
         placed = []
         for s, segment in zip(samples.arclength, samples.segment):
-            if on_axis(self.section, int(segment)):
+            if self.section.on_axis(int(segment)):
                 continue
             point, normal = (np.asarray(v, float) for v in self.section.point_at(float(s)))
             try:

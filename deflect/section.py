@@ -307,6 +307,10 @@ class Section:
     def _tol(self) -> float:
         return _REL_TOL * max(abs(v) for v in self.bounds())
 
+    def on_axis(self, index: int) -> bool:
+        """Whether segment `index` is a line lying on the spin axis: a cut through the solid, not a surface."""
+        return _on_axis(self.segments[index], self._tol)
+
     def perimeter(self) -> float:
         """Length of the whole boundary [mm]."""
         return float(sum(self._lengths))
