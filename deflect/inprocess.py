@@ -327,24 +327,26 @@ def _ray_hits(polygon_rz: np.ndarray, origins: np.ndarray, directions: np.ndarra
     side the ray goes into.
     """
     a, b = polygon_rz, np.roll(polygon_rz, -1, axis=0)
-    tol = _tolerance(np.vstack([polygon_rz, origins]))
-    inside = np.empty(len(origins), bool)
-    first = np.empty(len(origins))
-    rows = max(1, _WORK_ENTRIES // len(a))
-    for lo in range(0, len(origins), rows):
-        o, d = origins[lo:lo + rows], directions[lo:lo + rows]
-        # lean * cross(d, p - o): > 0 on the side the ray is shifted away from
-        offset = d[:, :1] * o[:, 1:] - d[:, 1:] * o[:, :1]
-        side_a = lean * (d[:, :1] * a[:, 1] - d[:, 1:] * a[:, 0] - offset)
-        side_b = lean * (d[:, :1] * b[:, 1] - d[:, 1:] * b[:, 0] - offset)
-        crosses = (side_a > 0.0) != (side_b > 0.0)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            share = side_a / (side_a - side_b)          # where along the edge it meets the ray's line
-        t = (d[:, :1] * (a[:, 0] - o[:, :1]) + d[:, 1:] * (a[:, 1] - o[:, 1:])
-             + share * (d[:, :1] * (b[:, 0] - a[:, 0]) + d[:, 1:] * (b[:, 1] - a[:, 1])))
-        ahead = crosses & (t > tol)
-        inside[lo:lo + rows] = ahead.sum(axis=1) % 2 == 1
-        first[lo:lo + rows] = np.where(ahead, t, np.inf).min(axis=1)
+    both = np.vstack([polygon_rz, origins])
+    tol = _tolerance(both)
+    # only edges whose bounding box meets the ray (cut at twice the size of everything) can cross it: an
+    # R-tree of the edges gives those pairs, so the work grows with the crossings, not rays x edges
+    reach = 2.0 * float(np.ptp(both, axis=0).max()) + 1.0
+    rays = shapely.linestrings(np.stack([origins, origins + reach * directions], axis=1))
+    ray, edge = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1))).query(rays)
+    o, d, a, b = origins[ray], directions[ray], a[edge], b[edge]
+    # lean * cross(d, p - o): > 0 on the side the ray is shifted away from
+    side_a = lean * (d[:, 0] * (a[:, 1] - o[:, 1]) - d[:, 1] * (a[:, 0] - o[:, 0]))
+    side_b = lean * (d[:, 0] * (b[:, 1] - o[:, 1]) - d[:, 1] * (b[:, 0] - o[:, 0]))
+    crosses = (side_a > 0.0) != (side_b > 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = side_a / (side_a - side_b)          # where along the edge it meets the ray's line
+    t = (d[:, 0] * (a[:, 0] - o[:, 0]) + d[:, 1] * (a[:, 1] - o[:, 1])
+         + share * (d[:, 0] * (b[:, 0] - a[:, 0]) + d[:, 1] * (b[:, 1] - a[:, 1])))
+    ahead = crosses & (t > tol)
+    inside = np.bincount(ray[ahead], minlength=len(origins)) % 2 == 1
+    first = np.full(len(origins), np.inf)
+    np.minimum.at(first, ray[ahead], t[ahead])
     return inside, first
 
 

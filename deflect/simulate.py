@@ -34,8 +34,10 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
+from scipy.interpolate import PchipInterpolator
 from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
+from threadpoolctl import threadpool_limits
 
 from deflect.compliance import Patch, WallModel
 from deflect.cutting import cutting_forces, cutting_time_s
@@ -47,9 +49,9 @@ from deflect.results import PassResult, Prediction, SpreadValue, StationTable, S
 from deflect.section import Line, Section, mass_properties
 
 STATION_SPACING_MM = 0.1        # tool positions along a path; fine enough for the chords of 1 mm fillets
-KEY_STATIONS = 12               # compliance evaluations per cut, interpolated between; doubling them (and halving
-                                # the station spacing) moves the housing's mass gain 0.3 %, the test sleeve's
-                                # largest deviation 1.4 % (6 keys: 2 % and 4.6 %; tests/test_simulate.py)
+KEY_STATIONS = 8                # compliance evaluations per cut, interpolated between; doubling them (and halving
+                                # the station spacing) moves the housing's mass gain 0.12 %, the test sleeve's
+                                # largest deviation 0.00 % (6 keys: 1.3 % and 0.1 %; tests/test_simulate.py)
 # The tool's contact: 1 mm along the meridian (of the order of the chip width), 2 mm around. A 1 x 1 mm
 # patch reads about 2 % more compliant on a 1.2 mm aluminium wall, well inside the force constants' spread.
 CONTACT_PATCH = Patch(length_mm=1.0, width_mm=2.0)
@@ -119,8 +121,8 @@ def straight_runs(normals: np.ndarray, turn_deg: float = RUN_TURN_DEG) -> list[t
 def key_indices(path: CutPath, met_depth_mm: np.ndarray, count: int, lead_in: int) -> np.ndarray:
     """Stations where the compliance is computed. Interpolating across a corner of the path would mix
     compliances along different normals, so keys are placed on each stretch of constant normal where the
-    tool cuts, from `lead_in` stations after its start (once the tool has a cut surface behind it to bear on)
-    to its end, about `count` in all; stretches shorter than SHORTEST_RUN_SHARE of the cut (fillets, a short
+    tool cuts, from `lead_in` stations after its start (once the whole patch bears on the surface this cut
+    has left; `behind_and_lead_in`) to its end, about `count` in all; stretches shorter than SHORTEST_RUN_SHARE of the cut (fillets, a short
     shoulder) take their neighbours' values. A path with no such stretch gets one key in the middle of its cut."""
     cutting = np.flatnonzero(met_depth_mm > 0.0)
     if len(cutting) == 0:
@@ -173,25 +175,35 @@ def contact_point(path: CutPath, k: int, behind_mm: float) -> np.ndarray:
 
 
 def behind_and_lead_in(settings: SimulationSettings) -> tuple[float, int]:
-    """How far behind the tool it bears on the cut surface [mm], and that in stations."""
+    """How far behind the tool it bears on the cut surface [mm], and the stations from the start of a
+    stretch to its first key station: one patch length, so that every key station's patch lies whole on
+    the surface this cut has left. Closer to the start the patch is clipped by the part's end and by the
+    tool, and its compliance jumps by 5-10 % from one station to the next with how the clipped patch meets
+    the tool mark; those first stations take the first key's value."""
     behind_mm = 0.5 * settings.patch.length_mm
-    return behind_mm, math.ceil(behind_mm / settings.station_spacing_mm)
+    return behind_mm, math.ceil(settings.patch.length_mm / settings.station_spacing_mm)
 
 
 def interpolated(count: int, keys: np.ndarray, at_keys: np.ndarray) -> np.ndarray:
     """(count, 3, 3) compliance at every station from its values at the key stations. Compliance changes by
     orders of magnitude from the held end to a free rim: the normal compliance is interpolated in log scale,
-    the other entries in proportion to it."""
+    the other entries in proportion to it. Between keys, a monotone cubic (Fritsch & Carlson, "Monotone
+    piecewise cubic interpolation", SIAM J. Numer. Anal. 17, 1980; scipy's PCHIP) follows the curvature of
+    the compliance along a wall without overshooting it; straight lines through the same keys were up to
+    2 % off between keys 2-3 mm apart. Beyond the first and last key the values are held."""
     matrices = np.zeros((count, 3, 3))
     if len(keys) == 0:
         return matrices
-    stations = np.arange(count)
+    stations = np.clip(np.arange(count), keys[0], keys[-1])
     normal = np.maximum(at_keys[:, 0, 0], 1e-15)
-    normal_at = np.exp(np.interp(stations, keys, np.log(normal)))
-    for i in range(3):
-        for j in range(3):
-            matrices[:, i, j] = normal_at * np.interp(stations, keys, at_keys[:, i, j] / normal)
-    return matrices
+    if len(keys) == 1:
+        return np.broadcast_to(at_keys[0], (count, 3, 3)).copy()
+    ratios = at_keys / normal[:, None, None]
+    ratios[:, 0, 0] = np.log(normal)
+    values = PchipInterpolator(keys, ratios.reshape(len(keys), 9), axis=0)(stations).reshape(count, 3, 3)
+    normal_at = np.exp(values[:, 0, 0])
+    values[:, 0, 0] = 1.0
+    return normal_at[:, None, None] * values
 
 
 def plan_compliance(job, process: Process, settings: SimulationSettings, nominal_rz: np.ndarray) -> dict:
@@ -225,8 +237,16 @@ def parallel_map(function, tasks: list[tuple]):
     workers = min(len(tasks), os.cpu_count() or 1, MAX_WORKERS)
     if workers < 2:
         return [function(*task) for task in tasks]
-    with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
+    with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
+                             initializer=one_blas_thread) as pool:
         return list(pool.map(function, *zip(*tasks)))
+
+
+def one_blas_thread() -> None:
+    """In each worker: BLAS on one thread. The shell models' matrices are small, and workers that each start
+    a BLAS thread per core fight over the cores (tests/bench_predict.py: 15 s instead of 2.2 s on 2 cores
+    when simulate is called from a script that left the BLAS threads unlimited)."""
+    threadpool_limits(limits=1)
 
 
 def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,

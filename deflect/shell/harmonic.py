@@ -62,6 +62,7 @@ HARMONIC_BLOCK = 128  # most harmonics evaluated together in one batched sweep (
 FIRST_BLOCK = 32  # compliance: harmonics 1..32 first, then blocks sized from the tail's predicted end
 LEVEL_DOFS = 6  # breadth-first levels are merged until a block holds at least this many free DOFs
 WIDEST_WINDOW = 24  # loads reaching across more blocks than this are solved for directly
+DIRECT_LOADS = 4  # this few loads are solved for directly (a key station of the machining simulation: 1)
 
 _GAUSS2 = (np.array([-1.0, 1.0]) / np.sqrt(3.0), np.array([1.0, 1.0]))
 _GAUSS3 = (np.array([-np.sqrt(0.6), 0.0, np.sqrt(0.6)]), np.array([5.0, 8.0, 5.0]) / 9.0)
@@ -324,19 +325,14 @@ class HarmonicShell:
 
     def _solve_banded(self, n: int, setup: "_Setup", rhs: np.ndarray) -> np.ndarray:
         """K_n^-1 rhs on the free DOFs (in the level order), banded Cholesky (LAPACK pbtrf/pbtrs)."""
-        k = self.stiffness(n)[setup.free][:, setup.free].tocoo()
-        upper = k.col >= k.row
-        rows, cols, vals = k.row[upper], k.col[upper], k.data[upper]
-        band = int((cols - rows).max(initial=0))
-        ab = np.zeros((band + 1, len(setup.free)))
-        ab[band + rows - cols, cols] = vals
+        band = setup.band(n)
         try:
-            factor = scipy.linalg.cholesky_banded(ab, lower=False)
+            factor = scipy.linalg.cholesky_banded(band, lower=False, check_finite=False)
         except np.linalg.LinAlgError:
             raise ModelError(_UNHELD + " (the stiffness matrix is singular)") from None
-        if np.any(factor[band] ** 2 < PIVOT_FLOOR * ab[band]):
+        if np.any(factor[-1] ** 2 < PIVOT_FLOOR * band[-1]):
             raise ModelError(_UNHELD + " (the stiffness matrix is singular)")
-        return scipy.linalg.cho_solve_banded((factor, False), rhs)
+        return scipy.linalg.cho_solve_banded((factor, False), rhs, check_finite=False)
 
     def harmonic_terms(self, loads: list[ShellLoad], directions: np.ndarray, n_values) -> np.ndarray:
         """f_i^T K_n^-1 f_j for each harmonic and load, WITHOUT the weights w_n: (len(n_values), P, 3, 3).
@@ -387,8 +383,9 @@ class HarmonicShell:
                                             for group in (_COS_GROUP, _SIN_GROUP)]
             merid, circ = prepared["gathers"][key]
             span = max(merid.span, circ.span)
-            if span > WIDEST_WINDOW:
-                # loads spread along much of the meridian: solve for them directly, one harmonic at a time
+            if span > WIDEST_WINDOW or len(active) <= DIRECT_LOADS:
+                # loads spread along much of the meridian, or only a few of them: solving K_n u = f for each
+                # harmonic is cheaper than the band of K_n^-1
                 out[picks] = self._terms_banded(prepared, group_ns, active, setup)
                 continue
             band = setup.inverse_band(group_ns, span)
@@ -530,6 +527,16 @@ class _Setup:
             self.diag_flat[c, self.diag_at[bi[same]] + li[same] * self.sizes[bi[same]] + lj[same]] = part.data[same]
             self.off_flat[c, self.off_at[bi[up]] + li[up] * self.sizes[bj[up]] + lj[up]] = part.data[up]
         self.k_diag = np.stack([part.tocsr().diagonal() for part in parts])  # (3, n_free)
+        # K0, K1, K2 in LAPACK's upper banded storage over the level order, for direct solves
+        width = max(int(np.abs(part.col - part.row).max(initial=0)) for part in parts)
+        self.band_parts = np.zeros((3, width + 1, len(self.free)))
+        for c, part in enumerate(parts):
+            upper = part.col >= part.row
+            self.band_parts[c, width + part.row[upper] - part.col[upper], part.col[upper]] = part.data[upper]
+
+    def band(self, n: int) -> np.ndarray:
+        """K_n = K0 + n K1 + n^2 K2 on the free DOFs, upper banded storage (diagonal in the last row)."""
+        return self.band_parts[0] + n * self.band_parts[1] + (n * n) * self.band_parts[2]
 
     def gather(self, local, group: np.ndarray) -> _Gather:
         """Index the support of each load (one DOF group: cos or sin) for `_Gather.quadratic`."""
