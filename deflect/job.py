@@ -1,10 +1,11 @@
 """Job file: TOML on disk -> a checked `Job` in mm, N, MPa.
 
 Takes the path of a job file (layout in shared/CONTRACT.md) and gives a `Job`: the title, the nominal
-section (`deflect.section.Section`), the material (`deflect.materials.Material`), the held boxes, and the
-machining tables as read (checked by the modules that use them). An inch job (`units = "inch"`) has every
-length converted to mm here, so nothing downstream ever sees inches; speeds stay in m/min, moduli in MPa and
-densities in g/cm3 in either unit system.
+section (`deflect.section.Section`), the material (`deflect.materials.Material`), the held boxes (the
+[[held]] boxes or, when there are none, the material under the [holding] contact,
+`deflect.holding.held_from_holding`), and the machining tables as read (checked by the modules that use
+them). An inch job (`units = "inch"`) has every length converted to mm here, so nothing downstream ever
+sees inches; speeds stay in m/min, moduli in MPa and densities in g/cm3 in either unit system.
 
 Every problem is raised as `InputError` carrying the file name, the dotted key and what is wrong.
 """
@@ -17,6 +18,7 @@ from pathlib import Path
 
 from deflect.checks import check_keys, check_range, check_table, is_number
 from deflect.errors import InputError
+from deflect.holding import held_from_holding
 from deflect.materials import Material, material_from_job
 from deflect.section import Section, section_from_outline, unit_size_warning
 from deflect.shell.midsurface import HeldBox
@@ -32,7 +34,7 @@ HELD_KEYS = ("r", "z")
 # Lengths inside the machining tables, converted for inch jobs (key names as in CONTRACT.md).
 TOOL_LENGTH_KEYS = ("nose_radius",)
 BAR_LENGTH_KEYS = ("diameter", "overhang")
-PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset")
+PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset", "compensate")
 HOLDING_LENGTH_KEYS = ("z", "width", "jaw_radius")
 TOLERANCE_LENGTH_KEYS = ("wall", "plus", "minus")
 
@@ -152,6 +154,9 @@ def parse_job(data: dict, path: str) -> Job:
 
     held = read_held(data, factor)
     tables = convert_machining_tables(data, factor)
+    if "holding" in tables and not held:
+        # the material under the jaws' contact is what holds the part for the cutting stiffness
+        held = held_from_holding(section, tables["holding"])
     return Job(path=path, title=title, units=units, section=section, material=material,
                held=held, tables=tables, warnings=warnings)
 

@@ -196,3 +196,40 @@ def predict_plots(pred, folder, key: str = "--plot") -> list[Path]:
     out = output_folder(folder, key)
     return [section_plot(pred, out / "section.png"), deviation_plot(pred, out / "deviation.png"),
             passes_plot(pred, out / "passes.png")]
+
+
+# ---------------------------------------------------------------------------------------------------
+# work holding (deflect clamp)
+
+LOBE_SHARE = 0.15      # the largest radial deviation is drawn as about this share of the radius
+
+
+def released_shape_plot(profile, title: str, path: str) -> None:
+    """Polar plot: the surface as cut in the chuck (round), the same surface after release (deviation
+    magnified), and the jaws' positions."""
+    plt = _pyplot()
+    largest = float(np.max(np.abs(profile.radial_mm), initial=0.0))
+    factor = magnification(largest, profile.r_mm, LOBE_SHARE)
+    theta = np.radians(profile.theta_deg)
+    fig = plt.figure(figsize=(7.5, 7.5))
+    ax = fig.add_subplot(projection="polar")
+    ax.plot(theta, np.full_like(theta, profile.r_mm), color="k", lw=1.0, ls="--",
+            label=f"as cut in the chuck: round, diameter {2 * profile.r_mm:.3f} mm")
+    ax.plot(theta, profile.r_mm + factor * profile.radial_mm, color="tab:red", lw=1.6,
+            label=f"after release, radial deviation x {factor:g} "
+                  f"(peak to valley {1e3 * np.ptp(profile.radial_mm):.1f} um)")
+    outer = profile.r_mm + factor * largest
+    for k, jaw in enumerate(profile.jaw_deg):
+        half = np.radians(max(profile.jaw_width_deg, 1.0)) / 2.0
+        span = np.linspace(np.radians(jaw) - half, np.radians(jaw) + half, 30)
+        ax.fill_between(span, 1.04 * outer, 1.12 * outer, color="tab:blue", alpha=0.6,
+                        label=f"jaws ({len(profile.jaw_deg)}, {profile.jaw_width_deg:.3g} deg wide)" if k == 0
+                        else None)
+    ax.set_ylim(0.0, 1.18 * outer)
+    ax.set_xlabel("angle around the part from the middle of a jaw [deg]")
+    ax.set_ylabel(f"radius [mm]: as cut + {factor:g} x deviation", labelpad=28)
+    ax.grid(True, alpha=0.4)
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.1), fontsize=8)
+    ax.set_title(f"{title}\nreleased shape of the {SURFACE_LABELS.get(profile.surface, profile.surface)} at "
+                 f"z = {profile.z_mm:.2f} mm (deviation magnified x {factor:g})", fontsize=10)
+    _save(plt, fig, path)
