@@ -248,6 +248,141 @@ def demo(out_dir):
         click.echo(f"  {path}")
 
 
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
+              help="Draw the released shape of one finished section around the circumference into this PNG file.")
+@click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
+              help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
+def clamp(job_file, as_json, plot_file, plot_at):
+    """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
+
+    From [holding]: the least grip that holds the heaviest cut (friction, safety factor, the jaws' loss of grip
+    at speed), the most that keeps the finished OD and bore within their diameter tolerance once the jaws let
+    go, the roundness and lobes after release, and what widens the window, each computed. Estimates: the chuck
+    maker's limits and the machine's interlocks come first.
+    """
+    from deflect.grip import clamp_study, nearest_point, released_profile
+    from deflect.job import MM_PER_INCH, read_job
+    from deflect.report_clamp import clamp_payload, clamp_report
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    factor = MM_PER_INCH if job.units == "inch" else 1.0
+    try:
+        study = clamp_study(job)
+        profile = None
+        if plot_file:
+            index = study.given.worst
+            if plot_at:
+                surface, _, z_text = plot_at.partition(",")
+                surface = surface.strip().lower()
+                try:
+                    z = float(z_text)
+                except ValueError:
+                    z = math.nan
+                if surface not in ("od", "id") or not math.isfinite(z):
+                    raise InputError("--plot-at", f"expects SURFACE,Z with SURFACE od or id, e.g. id,4.0; "
+                                                  f"got {plot_at!r}")
+                index = nearest_point(study.given, surface, z * factor)
+            if index is None:
+                raise InputError("--plot", "no OD or bore is finished in this setup outside the grip: nothing to draw")
+            profile = released_profile(study.given, index)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    if profile is not None:
+        from deflect.plots import released_shape_plot
+        try:
+            released_shape_plot(profile, job.title, plot_file)
+        except OSError as exc:
+            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+    if as_json:
+        emit_json(clamp_payload(study))
+    else:
+        click.echo(clamp_report(study))
+        if profile is not None:
+            click.echo(f"released shape drawn in {plot_file}")
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
+              help="Write the compensated finishing contour of each pass (CSV points and ISO 6983 moves) here.")
+@click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+def tune(job_file, as_json, contour_dir, quiet):
+    """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
+
+    Tries feeds, spring passes, the finishing allowance, the job's other tools, a wear offset, a compensated
+    finishing contour and the order of the finishing passes; the first line is the cheapest that meets
+    everything. Each option's figures come from a full prediction of the job with its changes written in.
+    """
+    from deflect.job import read_job
+    from deflect.materials import require_cutting_constants
+    from deflect.process import process_from_job
+    from deflect.report_tune import tune_payload, tune_report
+    from deflect.tune import tune as search_remedies
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    try:
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        surface_of = {p.name: p.surface for p in process.passes}
+        with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
+                               show_eta=False, hidden=quiet or as_json) as bar:
+            def progress():
+                if bar.pos < SEARCH_STEPS_SHOWN - 1:
+                    bar.update(1)
+            result = search_remedies(job, progress=progress)
+            bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+        written = write_contours(job, result, contour_dir) if contour_dir else []
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    if as_json:
+        emit_json(tune_payload(result, surface_of, job.units))
+    else:
+        click.echo(tune_report(result, surface_of, job.units, job.title))
+        for path in written:
+            click.echo(f"wrote {path}")
+
+
+SEARCH_STEPS_SHOWN = 60    # the progress bar's length: about the plans a two-surface job takes
+
+
+def write_contours(job, result, folder: str) -> list:
+    """CSV and ISO 6983 files of every compensated pass of the best option that has one."""
+    from pathlib import Path
+
+    from deflect.process import process_from_job
+    from deflect.toolpath import compensated_contour, contour_csv, iso6983_block
+    from deflect.tune import job_with
+
+    option = next((o for o in result.options if any(c.key == "compensate" for c in o.changes)), None)
+    if option is None:
+        raise InputError("--contour", "no option compensates a contour, so there is none to write")
+    changed = process_from_job(job_with(job, option.changes))
+    out = Path(folder)
+    written = []
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        for p in changed.passes:
+            if not p.compensation:
+                continue
+            rows = compensated_contour(job, changed, p)
+            stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
+            for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):
+                path = out / f"{stem}-contour{suffix}"
+                path.write_text(text)
+                written.append(path)
+    except OSError as exc:
+        raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
+    return written
+
+
 def main(argv: list[str] | None = None) -> None:
     """Entry point: runs the click group and turns every input problem into one `error:` line, exit 2."""
     try:

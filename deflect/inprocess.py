@@ -280,6 +280,18 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
     return _cut_path(envelope, frame, start_mm, end_mm, spacing_mm)
 
 
+def compensated(target: CutPath, p: Pass) -> CutPath:
+    """The target with the pass's programmed compensation: each point moved along its outward normal by the
+    compensation interpolated at its position (z for od / id, r for face; held beyond the pairs given)."""
+    if not p.compensation:
+        return target
+    positions, offsets = np.array(p.compensation).T
+    along = target.points_rz[:, 0 if p.surface == "face" else 1]
+    shift = np.interp(along, positions, offsets)
+    return CutPath(points_rz=target.points_rz + shift[:, None] * target.normals, normals=target.normals,
+                   feed_dir=target.feed_dir)
+
+
 def _in_feed(surface: str) -> np.ndarray:
     """Unit direction (r, z) from the part towards the tool: +r for od, -r for id, +z for face."""
     return np.array([1.0, 0.0]) @ _frame(surface)
@@ -297,7 +309,8 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
     the stock above a shoulder (which the tool takes radially) as depth. Then the final cut, then `spring`
     more cuts on the final target.
     """
-    final = target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm, spacing_mm)
+    final = compensated(target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm,
+                                       spacing_mm), p)
     cuts = []
     if p.depth_mm is not None:
         in_feed = _in_feed(p.surface)

@@ -14,6 +14,7 @@ table is not an error: a small lathe's limits are assumed and a warning says so.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -29,7 +30,9 @@ from deflect.tooling import Tool, tool_from_job
 STOCK_KINDS = ("outline", "bar", "tube")
 BAR_KEYS = ("diameter", "z")
 TUBE_KEYS = ("od", "id", "z")
-PASS_KEYS = ("name", "surface", "tool", "allowance", "feed", "speed", "z", "r", "depth", "spring", "offset")
+PASS_KEYS = ("name", "surface", "tool", "allowance", "feed", "speed", "z", "r", "depth", "spring", "offset",
+             "compensate")
+MOST_COMPENSATION_MM = 0.5      # a programmed correction of push-off is micrometres to tenths, never more
 PASS_REQUIRED = ("name", "surface", "tool", "allowance", "feed", "speed")
 MACHINE_KEYS = ("max_rpm", "power_kw")
 
@@ -59,6 +62,10 @@ class Pass:
     spring: int                  # extra cuts over the same target
     offset_mm: float             # wear offset along the outward normal [mm]; negative cuts deeper
     key: str                     # "pass[2]", for messages
+    # the finishing target programmed off the contour by an amount that varies along the pass, to cancel
+    # the push-off: (position, offset mm along the outward normal) pairs by position (z for od / id, r for
+    # face), interpolated between and held beyond; () for none
+    compensation: tuple[tuple[float, float], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -251,9 +258,27 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
                                           f"got {spring!r}")
     offset = _number(table, "offset", key, "the wear offset along the outward normal, mm") \
         if "offset" in table else 0.0
+    compensation = _compensation(table["compensate"], surface, f"{key}.compensate") if "compensate" in table else ()
     return Pass(name=name.strip(), surface=surface, tool=tool, allowance_mm=allowance, feed_mm=feed,
                 speed_m_min=speed, start_mm=start, end_mm=end, depth_mm=depth, spring=spring, offset_mm=offset,
-                key=key)
+                key=key, compensation=compensation)
+
+
+def _compensation(value, surface: str, key: str) -> tuple[tuple[float, float], ...]:
+    """compensate = [[position, offset], ...]: at least two pairs of numbers, distinct positions."""
+    axis = _extent_name(surface)
+    if not (isinstance(value, list) and len(value) >= 2 and all(
+            isinstance(pair, list) and len(pair) == 2 and all(is_number(v) for v in pair) for pair in value)):
+        raise InputError(key, f"must list at least two [{axis}, offset] pairs in mm, e.g. "
+                              f"[[40.0, -0.012], [6.0, 0.0]]")
+    pairs = sorted((float(a), float(b)) for a, b in value)
+    if any(b[0] - a[0] <= 0.0 for a, b in zip(pairs, pairs[1:])):
+        raise InputError(key, f"gives the same {axis} twice; each pair needs its own {axis}")
+    worst = max(abs(b) for _, b in pairs)
+    if worst > MOST_COMPENSATION_MM:
+        raise InputError(key, f"an offset of {worst:g} mm is not a push-off correction (most "
+                              f"{MOST_COMPENSATION_MM:g} mm); use allowance or offset for that")
+    return tuple(pairs)
 
 
 def _span(rz: np.ndarray, surface: str) -> tuple[float, float]:
@@ -276,28 +301,37 @@ def _check_extent(p: Pass, stock_rz: np.ndarray, nominal_rz: np.ndarray) -> None
 
 def _check_wall(p: Pass, nominal_rz: np.ndarray) -> None:
     """The pass's target must leave a wall: cutting the finished part to it must leave one piece."""
-    total = p.allowance_mm + p.offset_mm
+    total = p.allowance_mm + p.offset_mm + min([0.0] + [b for _, b in p.compensation])
+    problem = _wall_problem(nominal_rz.tobytes(), nominal_rz.shape, p.surface, total, p.start_mm, p.end_mm)
+    if problem:
+        raise InputError(f"{p.key}.offset" if p.offset_mm < 0.0 else p.key,
+                         f"would cut through the wall: its target (the finished contour offset by allowance + offset "
+                         f"= {total:g} mm) {problem}")
+
+
+@functools.lru_cache(maxsize=256)   # the remedy search checks the same targets again and again
+def _wall_problem(nominal_bytes: bytes, shape: tuple, surface: str, total: float, start: float,
+                  end: float) -> str:
+    """What is wrong with a target (the finished contour offset by `total`) for the wall, '' if nothing."""
+    nominal_rz = np.frombuffer(nominal_bytes).reshape(shape)
     size = float(np.ptp(nominal_rz, axis=0).max())
-    key = f"{p.key}.offset" if p.offset_mm < 0.0 else p.key
     try:
-        target = target_surface(nominal_rz, p.surface, total, p.start_mm, p.end_mm, spacing_mm=size)
-        remove(nominal_rz, target, np.zeros(len(target.points_rz)), p.surface, name=f"pass {p.name!r}")
+        target = target_surface(nominal_rz, surface, total, start, end, spacing_mm=size)
+        remove(nominal_rz, target, np.zeros(len(target.points_rz)), surface, name="the pass")
     except ModelError as exc:
-        raise InputError(key, f"would cut through the wall: its target (the finished contour offset by allowance "
-                              f"+ offset = {total:g} mm) leaves a wall of 0 or less ({exc.message})") from None
-    if total < 0.0 and p.surface in ("od", "id"):
+        return f"leaves a wall of 0 or less ({exc.message})"
+    if total < 0.0 and surface in ("od", "id"):
         # a target inside the part must stay inside it wherever the part has a wall at that height; one that
         # comes out on the far side has taken the whole wall there (the part may still hang together below)
-        fine = target_surface(nominal_rz, p.surface, total, p.start_mm, p.end_mm, spacing_mm=min(0.5, size / 200))
+        fine = target_surface(nominal_rz, surface, total, start, end, spacing_mm=min(0.5, size / 200))
         r, z = fine.points_rz.T
         z_lo, z_hi = nominal_rz[:, 1].min() - total, nominal_rz[:, 1].max() + total
         level = (z > z_lo) & (z < z_hi)
         outside = level & ~shapely.contains_xy(Polygon(nominal_rz).buffer(STOCK_FIT_TOL_MM), r, z)
         if outside.any():
             k = int(np.flatnonzero(outside)[0])
-            raise InputError(key, f"would cut through the wall: its target (the finished contour offset by "
-                                  f"allowance + offset = {total:g} mm) leaves the part at r = {r[k]:.4g}, "
-                                  f"z = {z[k]:.4g}, where the wall is thinner than {-total:g} mm")
+            return f"leaves the part at r = {r[k]:.4g}, z = {z[k]:.4g}, where the wall is thinner than {-total:g} mm"
+    return ""
 
 
 # ---------------------------------------------------------------------------------------------------

@@ -30,11 +30,12 @@ import math
 import multiprocessing
 import os
 from concurrent.futures import ProcessPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 import shapely
 from scipy.interpolate import PchipInterpolator
+from scipy.spatial import cKDTree
 from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
 from threadpoolctl import threadpool_limits
@@ -68,7 +69,8 @@ DEVIATION_SPACING_MM = 0.1
 MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubbing (common practice: a honed
                                 # carbide edge needs a chip of a few um to cut at all)
 RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
-BISECTION_STEPS = 45            # halves the bracket to 2^-45 (3e-14) of the met depth
+ROOT_STEPS = 60                 # most steps of the bracketed root search (it takes about 10)
+ROOT_TOLERANCE = 1e-13          # relative residual the root search stops at
 CYLINDER_COS = 0.999            # a finished od or bore point counts as cylindrical within 2.6 degrees of radial
 EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
 
@@ -206,29 +208,111 @@ def interpolated(count: int, keys: np.ndarray, at_keys: np.ndarray) -> np.ndarra
     return normal_at[:, None, None] * values
 
 
-def plan_compliance(job, process: Process, settings: SimulationSettings, nominal_rz: np.ndarray) -> dict:
+def plan_compliance(job, process: Process, settings: SimulationSettings, nominal_rz: np.ndarray,
+                    memo: dict | None = None) -> dict:
     """Cut paths and in-process compliance of every cut, computed once for all runs.
 
     The key stations' shapes are those of a part cut exactly to its targets: the push-off changes a wall by
     micrometres, its compliance by far less than the force constants' spread. So every key station of every
-    cut is known before any equilibrium is solved, and all of them go to the cores at once.
+    cut is known before any equilibrium is solved, and all of them go to the cores at once. For the same
+    reason the shapes leave out the passes' wear offsets and programmed compensation (micrometres, too):
+    the compliance along a cut with an offset is that of the same cut without it, taken at the same share
+    of the path's length. (Only where an offset changes the number of cuts of a pass is the plan made on
+    the offset targets themselves.)
+    memo: {key station: 3x3} shared between calls on variants of one job (`deflect.tune`); a key station is
+    looked up by the exact shape, path and station, so the results do not depend on what it holds.
     Returns {i: cut paths of pass i, (i, j): (K, 3, 3) compliance along cut j of pass i}.
     """
+    memo = {} if memo is None else memo
+    actual = cut_paths(process, nominal_rz, settings.station_spacing_mm, memo)
+    bare = without_corrections(process)
+    geometry = cut_paths(bare, nominal_rz, settings.station_spacing_mm, memo) if bare is not process else actual
+    if any(len(geometry[i]) != len(actual[i]) for i in actual):
+        bare, geometry = process, actual
+    compliance = compliance_along_cuts(job, bare, geometry, settings, memo)
+    plan = dict(actual)
+    for (i, j), values in compliance.items():
+        plan[(i, j)] = resampled(values, geometry[i][j], actual[i][j])
+    return plan
+
+
+def cut_paths(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict) -> dict[int, list[CutPath]]:
+    """{i: the cuts of pass i}, each pass's cuts laid out on the part cut to the earlier passes' targets.
+    Kept in memo by the part before the pass and the pass's geometry (feed, speed and tool do not change
+    where a pass cuts)."""
+    paths, current = {}, process.stock_rz
+    for i, p in enumerate(process.passes):
+        name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
+                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring)
+        if name not in memo:
+            cuts = cuts_for_pass(current, nominal_rz, p, spacing_mm)
+            after = current
+            for path in cuts:
+                after = cut_to_target(after, path, p)
+            memo[name] = (cuts, after)
+        paths[i], current = memo[name]
+    return paths
+
+
+def cut_to_target(current_rz: np.ndarray, path: CutPath, p: Pass, upto: int | None = None) -> np.ndarray:
+    """The part with the cut taken exactly to its target (no push-off), up to station `upto` or all of it."""
+    cut = remove(current_rz, path, np.zeros(len(path.points_rz)), p.surface, upto=upto, name=f"'{p.name}'")
+    return cut if upto is not None else simplified(cut, KEEP_MM)
+
+
+def without_corrections(process: Process) -> Process:
+    """The process with no wear offsets and no compensation (the process itself if it has none)."""
+    if not any(p.offset_mm or p.compensation for p in process.passes):
+        return process
+    return replace(process, passes=[replace(p, offset_mm=0.0, compensation=()) for p in process.passes])
+
+
+def compliance_along_cuts(job, process: Process, paths: dict, settings: SimulationSettings,
+                          memo: dict) -> dict[tuple[int, int], np.ndarray]:
+    """{(i, j): (K, 3, 3)} compliance along every cut, from its key stations (the ones not in memo are
+    computed, on the cores at once, and added to it)."""
     behind_mm, lead_in = behind_and_lead_in(settings)
-    plan, tasks, owners = {}, [], []
+    material = (job.material.E_mpa, job.material.nu, tuple((b.r_range, b.z_range) for b in job.held), settings)
+    owners, tasks, wanted = [], [], {}
     current = process.stock_rz
     for i, p in enumerate(process.passes):
-        plan[i] = cuts_for_pass(current, nominal_rz, p, settings.station_spacing_mm)
-        for j, path in enumerate(plan[i]):
-            keys = key_indices(path, met_depth(current, path, p), settings.key_stations, lead_in)
-            owners.append((i, j, len(path.points_rz), keys))
-            tasks += [(job, current, path, p, int(k), behind_mm, settings) for k in keys]
-            current = simplified(remove(current, path, np.zeros(len(path.points_rz)), p.surface,
-                                        name=f"'{p.name}'"), KEEP_MM)
-    values = iter(parallel_map(key_compliance, tasks))
-    for i, j, count, keys in owners:
-        plan[(i, j)] = interpolated(count, keys, np.array([next(values) for _ in keys]).reshape(-1, 3, 3))
-    return plan
+        for j, path in enumerate(paths[i]):
+            placed = ("keys", current.tobytes(), path.points_rz.tobytes(), p.surface, settings)
+            if placed not in memo:
+                memo[placed] = key_indices(path, met_depth(current, path, p), settings.key_stations, lead_in)
+            keys = memo[placed]
+            names = [(current.tobytes(), path.points_rz.tobytes(), int(k), p.surface, material) for k in keys]
+            owners.append((i, j, len(path.points_rz), keys, names))
+            for k, name in zip(keys, names):
+                if name not in memo and name not in wanted:
+                    wanted[name] = len(tasks)
+                    tasks.append((job, current, path, p, int(k), behind_mm, settings))
+            current = cut_to_target(current, path, p)
+    for name, value in zip(wanted, parallel_map(key_compliance, tasks)):
+        memo[name] = value
+    return {(i, j): interpolated(count, keys, np.array([memo[n] for n in names]).reshape(-1, 3, 3))
+            for i, j, count, keys, names in owners}
+
+
+def resampled(values: np.ndarray, planned: CutPath, actual: CutPath) -> np.ndarray:
+    """Compliance along `actual` from its values along `planned` (the same cut without offsets), matched
+    by the share of the path's length travelled; the normal entry in log scale, as in `interpolated`."""
+    if planned is actual or (len(planned.points_rz) == len(actual.points_rz)
+                             and np.array_equal(planned.points_rz, actual.points_rz)):
+        return values
+    share_planned, share_actual = (travelled_share(path) for path in (planned, actual))
+    normal = np.maximum(values[:, 0, 0], 1e-15)
+    ratios = (values / normal[:, None, None]).reshape(len(values), 9)
+    out = np.stack([np.interp(share_actual, share_planned, column) for column in ratios.T], axis=1)
+    out = out.reshape(-1, 3, 3)
+    out[:, 0, 0] = 1.0
+    return np.exp(np.interp(share_actual, share_planned, np.log(normal)))[:, None, None] * out
+
+
+def travelled_share(path: CutPath) -> np.ndarray:
+    steps = np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1)
+    travelled = np.concatenate([[0.0], np.cumsum(steps)])
+    return travelled / max(travelled[-1], 1e-12)
 
 
 def parallel_map(function, tasks: list[tuple]):
@@ -252,7 +336,7 @@ def one_blas_thread() -> None:
 def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,
                    settings: SimulationSettings) -> np.ndarray:
     """3x3 compliance with the tool at station k, the part cut up to there."""
-    shape = remove(current_rz, path, np.zeros(len(path.points_rz)), p.surface, upto=k, name=f"'{p.name}'")
+    shape = cut_to_target(current_rz, path, p, upto=k)
     r, z = contact_point(path, k, behind_mm)
     try:
         model = WallModel(section_of_polygon(shape), job.held, job.material.E_mpa, job.material.nu,
@@ -271,8 +355,8 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
 
     delta(a) = C_nn F_p + C_na s F_f + c_tool F_p along the inward normal (away from the tool), with s the sign
     of the feed direction along the boundary tangent; the cutting force is circumferential and, at the load
-    point, does not move the surface along the normal (C_nt = 0 by symmetry). Bisection on
-    g(a) = a + delta(a) - a_met, g(0) = -a_met <= 0.
+    point, does not move the surface along the normal (C_nt = 0 by symmetry). The root of
+    g(a) = a + delta(a) - a_met on [0, 2 a_met], g(0) = -a_met <= 0 (`bracketed_root`).
     """
     c_nn = compliance[:, 0, 0]
     c_na = compliance[:, 0, 2]
@@ -282,15 +366,8 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
         passive, feed = np.asarray(forces.passive_n), np.asarray(forces.feed_n)
         return (c_nn + tool_c) * passive + c_na * feed_sign * feed, forces
 
-    low = np.zeros_like(met_depth_mm)
-    high = 2.0 * met_depth_mm
-    for _ in range(BISECTION_STEPS):
-        middle = 0.5 * (low + high)
-        delta, _ = push_off(middle)
-        above = middle + delta - met_depth_mm > 0.0
-        high = np.where(above, middle, high)
-        low = np.where(above, low, middle)
-    depth = 0.5 * (low + high)
+    depth = bracketed_root(lambda a: a + push_off(a)[0] - met_depth_mm, np.zeros_like(met_depth_mm),
+                           2.0 * met_depth_mm, ROOT_TOLERANCE * np.maximum(met_depth_mm, 1e-3))
     delta, forces = push_off(depth)
     unbalanced = np.abs(depth + delta - met_depth_mm) > EQUILIBRIUM_TOLERANCE * np.maximum(met_depth_mm, 1e-3)
     if unbalanced.any():
@@ -300,6 +377,34 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
                          "wall into the tool further than the depth it meets, so no steady cut exists; use a "
                          "smaller feed, a tool with a smaller approach angle, or a stiffer set-up", key=p.key)
     return depth, delta, forces
+
+
+def bracketed_root(g, low: np.ndarray, high: np.ndarray, tolerance: np.ndarray) -> np.ndarray:
+    """Roots of g (elementwise, vectorised) with g(low) <= 0 <= g(high), by regula falsi with the Illinois
+    modification (Dowell & Jarratt, "A modified regula falsi method for computing the root of an equation",
+    BIT 11, 1971): superlinear, and it never leaves the bracket. Elements whose g(high) < 0 have no root in
+    the bracket; they are returned at `high` for the caller to judge. Stops where |g| <= tolerance."""
+    g_low, g_high = g(low), g(high)
+    x = np.where(g_high <= 0.0, high, low)
+    g_x = np.where(g_high <= 0.0, g_high, g_low)
+    side = np.zeros(low.shape, int)                 # which end moved last: -1 low, +1 high
+    for _ in range(ROOT_STEPS):
+        open_ = (np.abs(g_x) > tolerance) & (g_high > 0.0) & (g_low < 0.0)
+        if not open_.any():
+            break
+        with np.errstate(divide="ignore", invalid="ignore"):
+            x_new = np.where(open_, high - g_high * (high - low) / (g_high - g_low), x)
+        g_new = g(x_new)
+        up = open_ & (g_new > 0.0)
+        down = open_ & (g_new <= 0.0)
+        # Illinois: when the same end moves twice running, halve the kept end's value
+        g_low = np.where(up & (side == 1), 0.5 * g_low, g_low)
+        g_high = np.where(down & (side == -1), 0.5 * g_high, g_high)
+        high, g_high = np.where(up, x_new, high), np.where(up, g_new, g_high)
+        low, g_low = np.where(down, x_new, low), np.where(down, g_new, g_low)
+        side = np.where(up, 1, np.where(down, -1, side))
+        x, g_x = np.where(open_, x_new, x), np.where(open_, g_new, g_x)
+    return x
 
 
 def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarray, compliance: np.ndarray,
@@ -357,12 +462,12 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
     for p, tables in zip(process.passes, per_pass):
         final = tables[-1]
         path = np.column_stack([final.r_mm, final.z_mm])
-        reach = abs(p.allowance_mm + p.offset_mm) + 0.05 + STATION_SPACING_MM
-        gaps = np.linalg.norm(deviation.points_rz[:, None, :] - path[None, :, :], axis=2)   # (points, stations)
-        nearest = np.argmin(gaps, axis=1)
+        reach = abs(p.allowance_mm + p.offset_mm) + max((abs(b) for _, b in p.compensation), default=0.0) \
+            + 0.05 + STATION_SPACING_MM
+        gap, nearest = cKDTree(path).query(deviation.points_rz)
         # a point this pass finished lies at its final target and faces the way the cut surface there faces
         facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > 0.3
-        for k in np.flatnonzero(facing & (gaps[np.arange(len(nearest)), nearest] <= reach)):
+        for k in np.flatnonzero(facing & (gap <= reach)):
             surfaces[k], names[k] = p.surface, p.name
     return surfaces, names
 
@@ -424,14 +529,19 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     return rows
 
 
-def simulate(job, process: Process, settings: SimulationSettings = SimulationSettings(), progress=None) -> Prediction:
-    """Machine the part pass by pass; the nominal constants and their +/- spread."""
+def simulate(job, process: Process, settings: SimulationSettings = SimulationSettings(), progress=None,
+             memo: dict | None = None, with_ranges: bool = True) -> Prediction:
+    """Machine the part pass by pass; the nominal constants and their +/- spread.
+
+    memo: key-station compliances shared between variants of one job (see `plan_compliance`).
+    with_ranges: False skips the runs at 1 -/+ spread (every range then equals its value), for searches."""
     material = job.material
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
-    plan = plan_compliance(job, process, settings, nominal_rz)
+    plan = plan_compliance(job, process, settings, nominal_rz, memo)
     per_pass, machined = run_passes(job, process, 1.0, plan, progress)
     spread = material.force_spread
-    ranges = [run_passes(job, process, scale, plan)[1] for scale in (1.0 - spread, 1.0 + spread)]
+    scales = (1.0 - spread, 1.0 + spread) if with_ranges else ()
+    ranges = [run_passes(job, process, scale, plan)[1] for scale in scales] or [machined]
 
     nominal = mass_properties(job.section, material.density_g_cm3)
     mass, inertia, _ = polygon_mass(machined, material.density_g_cm3)

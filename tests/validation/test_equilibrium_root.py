@@ -16,7 +16,7 @@ Oracle: the same equation solved independently, station by station, with Brent's
 *Algorithms for Minimization without Derivatives*, Prentice-Hall 1973, ch. 4; scipy.optimize.brentq) on
 the bracket [0, a_met], where g(0) = -a_met < 0 and g(a_met) = delta(a_met) > 0 for a push-off that moves
 the surface away from the tool. No published table of such roots exists; the check is that the product's
-bisection finds the root of the stated equation. A second check re-evaluates a closed form: with the
+root search finds the root of the stated equation. A second check re-evaluates a closed form: with the
 push-off linear in a small compliance, one Newton step from a_met, a_1 = a_met - delta / (1 + delta'),
 agrees with the root up to a remainder of third order in delta.
 

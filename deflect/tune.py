@@ -1,0 +1,488 @@
+"""Remedies: what to change in the finishing so the part holds its drawing, at the least cycle time.
+
+Takes a checked `Job` with a `[tolerance]` table; gives a `TuneResult`: the current plan's figures and a
+ranked list of options, each a list of `Change`s to the job's [[pass]] tables. Every option's figures come
+from a full prediction of the job with its changes written in (`simulate.simulate`, with the ranges), so
+`deflect predict` on that job reproduces them.
+
+The search, for every finished od and bore (the pass that finishes it, and the pass before it on the same
+surface that leaves its allowance):
+* a ladder of feeds (ISO 3 preferred numbers, R10), fastest first, from the largest the roughness limit
+  allows (`cutting.theoretical_roughness`, the circular cusp); the material left falls with the feed, so the
+  fastest feed that holds the limits is found by bisection on the ladder;
+* that for every mix of 0 or 1 spring cut, the finishing allowance the pass before leaves (as now, or
+  a lighter 0.1 mm), and the job's other tools that can cut that surface (a tool with a boring bar for a
+  bore, one without for an od);
+* a single wear offset on the finishing pass that centres the predicted deviation in the band (it moves the
+  whole surface, so it cannot take out a taper), iterated twice since a deeper cut pushes off more;
+* the compensated contour: the finishing target programmed off the drawn contour by the predicted push-off,
+  iterated three times for the same reason;
+* the order: the bore finished before the od, or the od before the bore.
+The part's compliance does not depend on the feed, the tool, the spring cuts or (to micrometres) the
+offsets, so every variant reuses the key stations already computed (`simulate.plan_compliance` with a shared
+memo); only a changed allowance or order costs new shell models. The surfaces are searched one at a time
+with the others as they are, then merged and verified together.
+
+Limits an option must keep: the tolerances (`conformance.check_features`), a chip no thinner than
+`MIN_CHIP_MM` on the finishing passes (below it the edge rubs instead of cutting), no rubbing station, and
+the machine's power.
+"""
+
+from __future__ import annotations
+
+import copy
+import itertools
+import math
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from deflect.conformance import FeatureCheck, check_features, finishing_passes
+from deflect.cutting import theoretical_roughness
+from deflect.errors import InputError, ModelError
+from deflect.fits import Tolerances, tolerance_from_table
+from deflect.process import process_from_job
+from deflect.results import Prediction
+from deflect.simulate import simulate
+
+# ISO 3 preferred numbers, series R10 (rounded values): the feeds a machinist would program.
+FEED_LADDER_MM = (0.5, 0.4, 0.315, 0.25, 0.2, 0.16, 0.125, 0.1, 0.08, 0.063, 0.05, 0.04, 0.032, 0.025)
+MIN_CHIP_MM = 0.01              # common practice: a honed carbide edge (edge radius 20-50 um) needs a chip
+                                # of about 10 um to cut rather than plough
+LIGHT_ALLOWANCE_MM = 0.1        # the lighter finishing allowance tried (common practice: 0.1-0.2 mm a side)
+SPRING_CUTS = (0, 1)
+OFFSET_ROUNDS = 2               # wear offset: re-centred after each prediction
+COMPENSATION_ROUNDS = 3         # compensated contour: corrected after each prediction
+COMPENSATION_POINTS = 25        # pairs along the finished stretch
+OFFSET_STEP_MM = 0.001          # offsets and compensation are given to 1 um (a control's wear offset step)
+
+
+@dataclass(frozen=True)
+class Change:
+    pass_name: str
+    key: str                     # feed | allowance | spring | tool | offset | compensate | order
+    before: object
+    after: object
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """One plan, predicted and checked."""
+
+    changes: tuple[Change, ...]
+    cycle_time_s: float
+    max_deviation_mm: float
+    ra_um: float                 # the roughest finishing pass
+    mass_g: float
+    checks: list[FeatureCheck]
+    broken: list[str]            # the limits it breaks, in words
+    prediction: Prediction
+
+    @property
+    def meets(self) -> bool:
+        return not self.broken
+
+
+@dataclass(frozen=True)
+class TuneResult:
+    current: Outcome
+    options: list[Outcome]       # ranked: those that meet everything by cycle time, then the rest
+    limiting: str                # when nothing meets: the limiting feature and the best deviation reached
+    offset_note: str             # whether a single wear offset per surface is enough (it cannot take out a taper)
+    evaluations: int
+    warnings: list[str] = field(default_factory=list)
+
+
+@dataclass
+class Search:
+    """What one search shares: the job, its tolerances, the key-station memo, the evaluations so far."""
+
+    job: object
+    tolerances: Tolerances
+    memo: dict = field(default_factory=dict)
+    seen: dict = field(default_factory=dict)
+    progress: object = None
+
+    def evaluate(self, changes: tuple[Change, ...], with_ranges: bool = False) -> Outcome | None:
+        """The plan with these changes predicted and checked; None if the changed job is not valid (a feed
+        the nose cannot take, a target through the wall) or the cut cannot be modelled."""
+        key = (changes, with_ranges)
+        if key not in self.seen:
+            self.seen[key] = self._run(changes, with_ranges)
+            if self.progress:
+                self.progress()
+        return self.seen[key]
+
+    def _run(self, changes, with_ranges) -> Outcome | None:
+        try:
+            job = job_with(self.job, changes)
+            process = process_from_job(job)
+            pred = simulate(job, process, memo=self.memo, with_ranges=with_ranges)
+        except (InputError, ModelError):
+            return None
+        checks = check_features(pred, process, self.tolerances)
+        return Outcome(changes=changes, cycle_time_s=pred.cycle_time_s, max_deviation_mm=worst_deviation_mm(pred),
+                       ra_um=max((c.low for c in checks if c.surface == "ra"), default=finishing_ra(pred, process)),
+                       mass_g=pred.predicted_mass_g.value, checks=checks,
+                       broken=broken_limits(pred, process, checks), prediction=pred)
+
+
+def worst_deviation_mm(pred: Prediction) -> float:
+    """The largest deviation from the drawing, either way (material left or cut below), on the surfaces the
+    passes finished."""
+    d = pred.deviation
+    finished = np.array([s != "unmachined" for s in d.surface])
+    return float(np.abs(d.deviation_mm[finished]).max()) if finished.any() else 0.0
+
+
+def finishing_ra(pred: Prediction, process) -> float:
+    return max((float(theoretical_roughness(p.feed_mm, process.tools[p.tool].nose_radius_mm)[0])
+                for p in finishing_passes(pred, process)), default=0.0)
+
+
+def thinnest_chip_mm(cut) -> float | None:
+    """The thinnest chip where the cut takes its full stock (met depth at least half its median): where the
+    tool runs into or out of the stock the chip thins to nothing by geometry, which is no fault of the plan."""
+    met = cut.met_depth_mm
+    if not (met > 0.0).any():
+        return None
+    full = met >= 0.5 * np.median(met[met > 0.0])
+    return float(cut.chip_thickness_mm[full].min())
+
+
+def broken_limits(pred: Prediction, process, checks: list[FeatureCheck]) -> list[str]:
+    """The limits a predicted plan breaks, said plainly."""
+    broken = []
+    for c in checks:
+        if c.meets:
+            continue
+        if c.surface == "ra":
+            broken.append(f"{c.feature}: Ra {c.low:.2f} um over {c.upper:g} um")
+        elif c.surface == "wall":
+            broken.append(f"wall {1000 * max(abs(c.low), abs(c.high)):.0f} um off nominal at z {c.worst_z_mm:.1f} "
+                          f"(+/-{1000 * c.upper:.0f} um allowed)")
+        else:
+            broken.append(f"{c.feature}: {1000 * c.low:+.0f} to {1000 * c.high:+.0f} um on the diameter, limits "
+                          f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um")
+    finishing = {p.name for p in finishing_passes(pred, process)}
+    for p in pred.passes:
+        if p.name not in finishing:
+            continue
+        thinnest = thinnest_chip_mm(p.cuts[-1])
+        if thinnest is not None and thinnest < MIN_CHIP_MM:
+            broken.append(f"{p.name}: chip {1000 * thinnest:.0f} um thin, under the {1000 * MIN_CHIP_MM:.0f} um "
+                          "an edge needs to cut")
+        if any(t.rubbing.any() for t in p.cuts):
+            broken.append(f"{p.name}: the tool rubs where the wall gives way")
+    if pred.peak_power_kw > process.machine.power_kw:
+        broken.append(f"peak power {pred.peak_power_kw:.1f} kW over the machine's {process.machine.power_kw:g} kW")
+    return broken
+
+
+# ---------------------------------------------------------------------------------------------------
+# changes written into the job
+
+def job_with(job, changes: tuple[Change, ...]):
+    """A copy of the job with the changes written into its [[pass]] tables (lengths in mm, as the Job holds)."""
+    tables = copy.deepcopy(job.tables)
+    passes = tables["pass"]
+    for change in changes:
+        if change.key == "order":
+            by_name = {p["name"]: p for p in passes}
+            passes = [by_name[name] for name in change.after]
+            continue
+        table = next(p for p in passes if p["name"] == change.pass_name)
+        if change.key == "compensate":
+            table["compensate"] = [list(pair) for pair in change.after]
+        else:
+            table[change.key] = change.after
+    tables["pass"] = passes
+    return replace(job, tables=tables)
+
+
+# ---------------------------------------------------------------------------------------------------
+# the search
+
+@dataclass(frozen=True)
+class Surface:
+    """A finished od or bore and the passes that make it."""
+
+    kind: str                    # "od" | "id"
+    finish: object               # process.Pass that finishes it
+    before: object | None        # the pass before it on the same surface (leaves its allowance), or None
+    tools: tuple[str, ...]       # tools that can cut it (the finishing pass's own first)
+
+
+def surfaces_of(process, pred: Prediction) -> list[Surface]:
+    finishing = set(pred.deviation.finished_by)
+    out = []
+    for kind in ("od", "id", "face"):
+        mine = [p for p in process.passes if p.surface == kind]
+        finish = next((p for p in reversed(mine) if p.name in finishing and p.allowance_mm == 0.0), None)
+        if finish is None:
+            continue
+        index = mine.index(finish)
+        before = mine[index - 1] if index > 0 and mine[index - 1].allowance_mm > 0.0 else None
+        bar = kind == "id"
+        fit = [name for name, tool in process.tools.items() if (tool.bar is not None) == bar and name != finish.tool]
+        out.append(Surface(kind=kind, finish=finish, before=before, tools=(finish.tool, *fit)))
+    return out
+
+
+def feed_ladder(surface: Surface, process, ra_limit_um: float | None) -> list[float]:
+    """Feeds to try, fastest first: the R10 values the nose and the roughness limit allow, up to 1.6 times
+    the feed now (a finishing feed is seldom raised further in one step)."""
+    nose = process.tools[surface.finish.tool].nose_radius_mm
+    feeds = []
+    for f in FEED_LADDER_MM:
+        if f >= 2.0 * nose * 0.95 or f > 1.6 * surface.finish.feed_mm:
+            continue
+        if ra_limit_um is not None and float(theoretical_roughness(f, nose)[0]) > ra_limit_um:
+            continue
+        feeds.append(f)
+    return feeds
+
+
+def fastest_feed(search: Search, base: tuple[Change, ...], surface: Surface, feeds: list[float],
+                 holds) -> Outcome | None:
+    """The fastest feed of the ladder at which holds(outcome) is true, by bisection (the material left
+    falls with the feed); None if even the slowest does not hold."""
+    def at(index):
+        return search.evaluate(base + feed_change(surface, feeds[index]))
+
+    low, high = 0, len(feeds) - 1           # feeds[low] fastest
+    slowest = at(high) if feeds else None
+    if slowest is None or not holds(slowest):
+        return None
+    first = at(low)
+    if first is not None and holds(first):
+        return first
+    best = slowest
+    while high - low > 1:
+        middle = (low + high) // 2
+        outcome = at(middle)
+        if outcome is not None and holds(outcome):
+            high, best = middle, outcome
+        else:
+            low = middle
+    return best
+
+
+def feed_change(surface: Surface, feed_mm: float) -> tuple[Change, ...]:
+    if math.isclose(feed_mm, surface.finish.feed_mm):
+        return ()
+    return (Change(surface.finish.name, "feed", surface.finish.feed_mm, feed_mm),)
+
+
+def setting_changes(surface: Surface, spring: int, allowance: float | None, tool: str) -> tuple[Change, ...]:
+    changes = []
+    if spring != surface.finish.spring:
+        changes.append(Change(surface.finish.name, "spring", surface.finish.spring, spring))
+    if surface.before is not None and allowance is not None and not math.isclose(allowance, surface.before.allowance_mm):
+        changes.append(Change(surface.before.name, "allowance", surface.before.allowance_mm, allowance))
+    if tool != surface.finish.tool:
+        changes.append(Change(surface.finish.name, "tool", surface.finish.tool, tool))
+    return tuple(changes)
+
+
+def holds_surface(surface: Surface):
+    """Test of an outcome: the limits of this surface's own features (its diameters and Ra, its chip and
+    rubbing), the wall, and the power are kept."""
+    def holds(outcome: Outcome) -> bool:
+        mine = [c for c in outcome.checks if c.pass_name == surface.finish.name or c.surface == "wall"]
+        own = [b for b in outcome.broken if b.startswith(surface.finish.name) or b.startswith("peak power")]
+        return all(c.meets for c in mine) and not own
+    return holds
+
+
+def grid_options(search: Search, surface: Surface, ra_limit) -> list[Outcome]:
+    """For every mix of spring cuts, finishing allowance and tool: the fastest feed that holds."""
+    allowances = [None] if surface.before is None else sorted(
+        {surface.before.allowance_mm, min(surface.before.allowance_mm, LIGHT_ALLOWANCE_MM)}, reverse=True)
+    found = []
+    for spring, allowance, tool in itertools.product(SPRING_CUTS, allowances, surface.tools):
+        variant = replace(surface, finish=replace(surface.finish, tool=tool))
+        feeds = feed_ladder(variant, search_process(search), ra_limit)
+        outcome = fastest_feed(search, setting_changes(surface, spring, allowance, tool), variant, feeds,
+                               holds_surface(surface))
+        if outcome is not None:
+            found.append(outcome)
+    return found
+
+
+def search_process(search: Search):
+    if "process" not in search.seen:
+        search.seen["process"] = process_from_job(search.job)
+    return search.seen["process"]
+
+
+def surface_deviation(pred: Prediction, surface: Surface) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(position along the pass, material left a side, outward normal r) on the cylindrical points the
+    finishing pass finished."""
+    d = pred.deviation
+    mine = np.array([n == surface.finish.name and abs(d.normals[k][0]) > 0.999 for k, n in enumerate(d.finished_by)])
+    if not mine.any():
+        return np.empty(0), np.empty(0), np.empty(0)
+    order = np.argsort(d.points_rz[mine, 1])
+    return d.points_rz[mine, 1][order], d.deviation_mm[mine][order], d.normals[mine, 0][order]
+
+
+def band_centre_mm(outcome: Outcome, surface: Surface) -> float | None:
+    """Middle of the diameter band of this surface's feature, as material left a side (radius)."""
+    for c in outcome.checks:
+        if c.pass_name == surface.finish.name and c.surface == surface.kind:
+            sign = 1.0 if surface.kind == "od" else -1.0
+            return sign * 0.5 * (c.lower + c.upper) / 2.0
+    return None
+
+
+def offset_option(search: Search, base: tuple[Change, ...], surface: Surface) -> Outcome | None:
+    """A single wear offset on the finishing pass that centres the predicted deviation in the band."""
+    outcome = search.evaluate(base)
+    offset = surface.finish.offset_mm
+    for _ in range(OFFSET_ROUNDS):
+        if outcome is None:
+            return None
+        centre = band_centre_mm(outcome, surface)
+        _, left, _ = surface_deviation(outcome.prediction, surface)
+        if centre is None or not len(left):
+            return None
+        offset = round_um(offset - (0.5 * (left.min() + left.max()) - centre))
+        outcome = search.evaluate(base + (Change(surface.finish.name, "offset", surface.finish.offset_mm, offset),))
+    return outcome
+
+
+def compensation_option(search: Search, base: tuple[Change, ...], surface: Surface) -> Outcome | None:
+    """The finishing target programmed off the contour by the predicted push-off, so the surface springs
+    back to the band's centre."""
+    outcome = search.evaluate(base)
+    if outcome is None:
+        return None
+    z, left, _ = surface_deviation(outcome.prediction, surface)
+    centre = band_centre_mm(outcome, surface)
+    if len(z) < 2 or centre is None:
+        return None
+    positions = np.linspace(z[0], z[-1], COMPENSATION_POINTS)
+    shift = np.zeros_like(positions)
+    for _ in range(COMPENSATION_ROUNDS):
+        shift = np.array([round_um(v) for v in shift - (np.interp(positions, z, left) - centre)])
+        pairs = tuple((round(float(a), 4), float(b)) for a, b in zip(positions, shift))
+        outcome = search.evaluate(base + (Change(surface.finish.name, "compensate", None, pairs),))
+        if outcome is None:
+            return None
+        z, left, _ = surface_deviation(outcome.prediction, surface)
+        if len(z) < 2:
+            return None
+    return outcome
+
+
+def round_um(value_mm: float) -> float:
+    return round(float(round(value_mm / OFFSET_STEP_MM) * OFFSET_STEP_MM), 6)
+
+
+def changes_of(outcome: Outcome, surface: Surface) -> tuple[Change, ...]:
+    """The changes of an outcome that belong to one surface's passes."""
+    names = {surface.finish.name} | ({surface.before.name} if surface.before else set())
+    return tuple(c for c in outcome.changes if c.pass_name in names)
+
+
+def order_change(process, surfaces: list[Surface]) -> tuple[Change, ...]:
+    """Swap which of the od and bore finishing passes comes last (the other order of the two)."""
+    walls = [s for s in surfaces if s.kind in ("od", "id")]
+    if len(walls) < 2:
+        return ()
+    names = [p.name for p in process.passes]
+    a, b = sorted((names.index(s.finish.name) for s in walls))
+    swapped = list(names)
+    swapped[a], swapped[b] = swapped[b], swapped[a]
+    return (Change(names[b], "order", tuple(names), tuple(swapped)),)
+
+
+def tune(job, progress=None) -> TuneResult:
+    """Search the remedies and rank them (module docstring)."""
+    if "tolerance" not in job.tables:
+        raise InputError("tolerance", "missing; give [tolerance] (od, id, wall, ra) for the remedies to aim at")
+    tolerances = tolerance_from_table(job.tables["tolerance"])
+    search = Search(job=job, tolerances=tolerances, progress=progress)
+    current = search.evaluate((), with_ranges=True)
+    if current is None:
+        process_from_job(job)          # raises the job's own error, if that is what failed
+        raise ModelError("the job as given cannot be predicted")
+    process = search_process(search)
+    surfaces = surfaces_of(process, current.prediction)
+
+    # per surface, every family of remedy with the others as they are
+    families: dict[str, list[tuple[Change, ...]]] = {"grid": [], "offset": [], "compensate": []}
+    per_surface_best = []
+    for surface in surfaces:
+        feeds = feed_ladder(surface, process, tolerances.ra_um)
+        fastest = feed_change(surface, feeds[0]) if feeds else ()
+        grid = grid_options(search, surface, tolerances.ra_um)
+        offset = offset_option(search, fastest, surface)
+        offset_now = offset_option(search, (), surface)
+        compensated = compensation_option(search, fastest, surface)
+        holds = holds_surface(surface)
+        local = [o for o in grid + [offset, offset_now, compensated] if o is not None and holds(o)]
+        cheapest = min(local, key=lambda o: o.cycle_time_s) if local else None
+        per_surface_best.append(cheapest)
+        # each family on the surfaces it can mend; the cheapest local remedy on the others
+        for name, outcomes in (("grid", grid), ("offset", [offset_now]), ("compensate", [compensated])):
+            held = [o for o in outcomes if o is not None and holds(o)]
+            pick = min(held, key=lambda o: o.cycle_time_s) if held else cheapest
+            families[name].append(changes_of(pick, surface) if pick is not None else ())
+    best = tuple(c for s, o in zip(surfaces, per_surface_best) if o is not None for c in changes_of(o, s))
+    plans = [best, *(tuple(itertools.chain(*v)) for v in families.values())]
+    plans.append(best + order_change(process, surfaces))
+    plans.append(offset_wear_only(search, surfaces))
+    options = []
+    for changes in dict.fromkeys(p for p in plans if p):
+        outcome = search.evaluate(changes, with_ranges=True)
+        if outcome is not None:
+            options.append(outcome)
+    options.sort(key=lambda o: (not o.meets, o.cycle_time_s))
+    wear_only = search.evaluate(plans[-1], with_ranges=True) if plans[-1] else None
+    return TuneResult(current=current, options=options, limiting=limiting_text(current, options),
+                      offset_note=offset_note(wear_only),
+                      evaluations=len([k for k in search.seen if k != "process"]), warnings=list(process.warnings))
+
+
+def offset_wear_only(search: Search, surfaces: list[Surface]) -> tuple[Change, ...]:
+    """A wear offset on every finishing pass at its present settings, centred in its band (the cheapest
+    remedy of all: no time lost)."""
+    changes = ()
+    for surface in surfaces:
+        outcome = offset_option(search, changes, surface)
+        if outcome is not None:
+            changes = outcome.changes
+    return changes
+
+
+def offset_note(outcome: Outcome | None) -> str:
+    """Whether the wear offsets alone hold the diameters: an offset moves a whole surface, so what is left
+    is its taper (the spread of the deviation along it) against the width of its band."""
+    if outcome is None:
+        return "a single wear offset per surface does not apply here (no toleranced diameter to centre)"
+    lines = []
+    for c in outcome.checks:
+        if c.surface in ("od", "id"):
+            taper_um, band_um = 1000 * (c.high - c.low), 1000 * (c.upper - c.lower)
+            verdict = "enough" if taper_um <= band_um and c.meets else "not enough"
+            lines.append(f"{c.feature}: taper {taper_um:.0f} um on the diameter against a band of {band_um:.0f} um, "
+                         f"a wear offset alone is {verdict}")
+    return "; ".join(lines)
+
+
+def limiting_text(current: Outcome, options: list[Outcome]) -> str:
+    """When no option meets everything: the limit that stops the best one, and how close it comes."""
+    if any(o.meets for o in options):
+        return ""
+    candidates = options or [current]
+    best = min(candidates, key=lambda o: (len(o.broken), o.max_deviation_mm))
+    worst = min(best.checks, key=lambda c: c.margin, default=None)
+    if worst is None:
+        return "no option meets the limits: " + "; ".join(best.broken)
+    where = f" at z {worst.worst_z_mm:.1f} mm" if worst.worst_z_mm is not None else ""
+    unit = "um" if worst.unit == "um" else "mm"
+    return (f"no option holds the drawing: the limiting feature is {worst.feature}{where}, missed by "
+            f"{abs(worst.margin):.4g} {unit} at best; best deviation reached {1000 * best.max_deviation_mm:.1f} um a "
+            "side. Thicken the wall, widen the tolerance, or hold the part nearer the cut.")
