@@ -159,7 +159,10 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
 
 
 def run_prediction(job_file: str, show_progress: bool):
-    """Read, check and simulate a machining job (shared by `predict` and `demo`)."""
+    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
+    toleranced features (empty without [tolerance])."""
+    from deflect.conformance import check_features
+    from deflect.fits import tolerance_from_table
     from deflect.job import read_job
     from deflect.materials import require_cutting_constants
     from deflect.process import process_from_job
@@ -169,13 +172,15 @@ def run_prediction(job_file: str, show_progress: bool):
     try:
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
+        tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
         warn(job.warnings + process.warnings, job_file)
 
         def progress(pass_name, cut):
             if show_progress:
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
-        return simulate(job, process, progress=progress)
+        pred = simulate(job, process, progress=progress)
+        return pred, (check_features(pred, process, tolerances) if tolerances else [])
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -209,12 +214,12 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     from deflect.payload import prediction_payload
     from deflect.report_predict import predict_report
 
-    pred = run_prediction(job_file, show_progress=not (quiet or as_json))
+    pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
     written = write_outputs(pred, csv_dir, plot_dir)
     if as_json:
-        emit_json(prediction_payload(pred))
+        emit_json(prediction_payload(pred, features))
     else:
-        click.echo(predict_report(pred))
+        click.echo(predict_report(pred, features))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -232,13 +237,13 @@ def demo(out_dir):
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred = run_prediction(job_file, show_progress=True)
+    pred, features = run_prediction(job_file, show_progress=True)
     out = Path(out_dir)
-    report = predict_report(pred)
+    report = predict_report(pred, features)
     try:
         out.mkdir(parents=True, exist_ok=True)
         (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred), indent=2))
+        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2))
     except OSError as exc:
         raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
     written = write_outputs(pred, out / "csv", out / "figures")

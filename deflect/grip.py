@@ -40,6 +40,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from deflect.chuck import centrifugal_force_n, friction_demand_n, grip_in_cut_n, least_static_grip_n
 from deflect.clamping import GripModel, Squeeze
 from deflect.cutting import cutting_forces, spindle_speed_rpm
 from deflect.errors import InputError
@@ -63,39 +64,6 @@ CAUTIONS = (
     "These are estimates from a model of the wall and of the cutting forces: confirm them on the first part "
     "(measure its roundness off the machine, and the grip force with a gauge).",
 )
-
-
-# ---------------------------------------------------------------------------------------------------
-# jaw chuck formulas (VDI 3106 as quoted, REFERENCE.md 8)
-
-def centrifugal_force_n(moment_kg_m: float, rpm) -> np.ndarray | float:
-    """Fc = (sum m_B r_s) (pi n / 30)^2 [N]: the jaw set's centrifugal force at n [1/min]."""
-    return moment_kg_m * (math.pi * np.asarray(rpm, dtype=float) / 30.0) ** 2
-
-
-def torque_capacity_nm(force_n: float, friction: float, clamp_diameter_mm: float) -> float:
-    """mu F_sp D / 2 [N m]: the torque a grip F_sp holds by friction on the diameter D."""
-    return friction * force_n * clamp_diameter_mm / 2.0 / 1000.0
-
-
-def friction_demand_n(torque_n_mm, axial_n, clamp_radius_mm: float):
-    """The friction force the grip must supply [N]: the tangential (torque / R) and axial demands as a vector."""
-    return np.hypot(np.asarray(torque_n_mm, dtype=float) / clamp_radius_mm, axial_n)
-
-
-def least_static_grip_n(demand_n, friction: float, safety: float, centrifugal_n, grip: str):
-    """F_sp0 [N] that holds the demand with the safety factor at speed (module docstring)."""
-    needed = np.asarray(demand_n, dtype=float) / friction
-    if grip == "od":
-        return safety * needed + centrifugal_n
-    return np.maximum(safety * needed - centrifugal_n, needed)
-
-
-def grip_in_cut_n(force_n: float, centrifugal_n, grip: str):
-    """The grip on the part while it turns [N]: F_sp0 - Fc on an OD (never below 0), F_sp0 + Fc in a bore."""
-    if grip == "od":
-        return np.maximum(force_n - np.asarray(centrifugal_n, dtype=float), 0.0)
-    return force_n + np.asarray(centrifugal_n, dtype=float)
 
 
 # ---------------------------------------------------------------------------------------------------

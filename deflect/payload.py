@@ -32,8 +32,26 @@ def station_records(table: StationTable, feed_mm: float) -> list[dict]:
     return records
 
 
-def prediction_payload(pred: Prediction) -> dict:
-    deviation = pred.deviation
+def deviation_records(deviation) -> list[dict]:
+    records = []
+    for k, (point, normal) in enumerate(zip(deviation.points_rz, deviation.normals)):
+        record = {"r": float(point[0]), "z": float(point[1]), "nr": float(normal[0]), "nz": float(normal[1]),
+                  "deviation_mm": float(deviation.deviation_mm[k]), "surface": deviation.surface[k],
+                  "finished_by": deviation.finished_by[k]}
+        if deviation.roundness_mm is not None:
+            record["released_mm"] = float(deviation.released_mm[k])
+            record["roundness_mm"] = float(deviation.roundness_mm[k])
+        records.append(record)
+    return records
+
+
+def feature_record(c) -> dict:
+    return {"feature": c.feature, "surface": c.surface, "unit": c.unit, "nominal": c.nominal, "lower": c.lower,
+            "upper": c.upper, "low": c.low, "high": c.high, "margin": c.margin, "meets": c.meets,
+            "z": c.worst_z_mm, "pass": c.pass_name}
+
+
+def prediction_payload(pred: Prediction, features=()) -> dict:
     return {
         "title": pred.title,
         "nominal": {"mass_g": pred.nominal_mass_g, "inertia_axial_kg_mm2": pred.nominal_inertia_kg_mm2},
@@ -46,18 +64,16 @@ def prediction_payload(pred: Prediction) -> dict:
                     "mass_left_g": p.mass_left_g, "cuts": len(p.cuts),
                     "stations": [s for table in p.cuts for s in station_records(table, p.feed_mm)]}
                    for p in pred.passes],
-        "deviation": [{"r": float(point[0]), "z": float(point[1]), "nr": float(normal[0]), "nz": float(normal[1]),
-                       "deviation_mm": float(value), "surface": surface, "finished_by": name}
-                      for point, normal, value, surface, name in zip(deviation.points_rz, deviation.normals,
-                                                                     deviation.deviation_mm, deviation.surface,
-                                                                     deviation.finished_by)],
+        "deviation": deviation_records(pred.deviation),
+        "tolerance": [feature_record(c) for c in features],
+        "lobes": pred.lobes,
         "ranges": {"force_spread": pred.force_spread, "predicted_mass_g": spread(pred.predicted_mass_g),
                    "mass_gain_g": spread(pred.mass_gain_g), "max_deviation_mm": spread(pred.max_deviation_mm)},
         "mass_gain_by_surface_g": pred.mass_gain_by_surface_g,
         "surfaces": [{"surface": c.surface, "positions": c.positions, "deviation_mm": c.deviation_mm,
                       "nominal_diameter_mm": c.nominal_diameter_mm,
                       "predicted_diameter_mm": c.predicted_diameter_mm, "max_deviation_mm": c.max_deviation_mm,
-                      "mass_left_g": c.mass_left_g} for c in pred.surfaces],
+                      "mass_left_g": c.mass_left_g, "roundness_mm": c.roundness_mm} for c in pred.surfaces],
         "wall": pred.wall,
         "peak_power_kW": pred.peak_power_kw,
         "machine_power_kW": pred.machine_power_kw,

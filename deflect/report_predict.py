@@ -72,11 +72,15 @@ def pass_table(passes: list[PassResult]) -> str:
 def surface_table(check: SurfaceCheck) -> str:
     """The finished surface as a machinist checks it: diameter at the chuck end, middle and free end."""
     header = ["where", "z mm", "drawn dia. mm", "predicted dia. mm", "material left"]
+    if check.roundness_mm is not None:
+        header.append("out of round um")
     rows = []
     for where in (w for w in CHECK_ORDER if w in check.positions):
         rows.append([where, f"{check.positions[where][1]:.2f}", f"{check.nominal_diameter_mm[where]:.3f}",
                      f"{check.predicted_diameter_mm[where]:.3f}",
                      f"leaves {1e3 * check.deviation_mm[where]:.1f} um a side"])
+        if check.roundness_mm is not None:
+            rows[-1].append(f"{1e3 * check.roundness_mm[where]:.1f}")
     title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: at most "
              f"{1e3 * check.max_deviation_mm:.1f} um a side, {check.mass_left_g:.3f} g left on it")
     return title + "\n" + grid(header, rows)
@@ -98,8 +102,32 @@ def gain_table(pred: Prediction) -> str:
     return table(rows, title="Mass gain by surface")
 
 
-def predict_report(pred: Prediction) -> str:
-    """The whole report: headline, passes, finished surfaces, wall, mass gain by surface, warnings, caution."""
+GRIP_CAUTION = (
+    "Work holding: the diameters include the spring-back of the jaws' squeeze once they let go, and the\n"
+    "out-of-round column is what the jaws leave ({lobes} lobes). A grip below the least needed can let the\n"
+    "part turn in the jaws or be thrown from the chuck: see `deflect clamp` for the grip window, and keep\n"
+    "to the chuck maker's speed and force limits and the machine's interlocks."
+)
+
+
+def feature_table(features) -> str:
+    """Each toleranced feature in or out, with its margin to the nearer limit."""
+    rows = []
+    for c in features:
+        if c.unit == "um":
+            rows.append([c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um",
+                         "in" if c.meets else "OUT"])
+        else:
+            rows.append([c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
+                         f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um",
+                         "in" if c.meets else "OUT"])
+    note = "(diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside)"
+    return "Against the drawing\n" + grid(["feature", "limits", "predicted", "margin", "verdict"], rows) + "\n" + note
+
+
+def predict_report(pred: Prediction, features=()) -> str:
+    """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
+    surface, warnings, caution."""
     blocks = [headline(pred)]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
@@ -109,6 +137,10 @@ def predict_report(pred: Prediction) -> str:
         blocks.append("No finished OD or bore long enough to check at the chuck end, middle and free end.")
     if pred.wall:
         blocks.append(wall_table(pred.wall))
+    if features:
+        blocks.append(feature_table(features))
+    if pred.lobes:
+        blocks.append(GRIP_CAUTION.format(lobes=pred.lobes))
     if pred.mass_gain_by_surface_g:
         blocks.append(gain_table(pred))
     if pred.warnings:

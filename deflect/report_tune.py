@@ -7,10 +7,10 @@ the words are in the job's own units (mm or inch), so that they can be written b
 
 from __future__ import annotations
 
-from deflect.conformance import FeatureCheck
 from deflect.job import MM_PER_INCH
+from deflect.payload import feature_record
 from deflect.report import grid
-from deflect.report_predict import duration_text
+from deflect.report_predict import duration_text, feature_table
 from deflect.tune import Change, Outcome, TuneResult
 
 LENGTH_KEYS = ("feed", "allowance", "offset")
@@ -66,32 +66,12 @@ def option_words(outcome: Outcome, surface_of: dict, units: str) -> str:
     return "; ".join(change_words(c, surface_of, units) for c in outcome.changes) or "as programmed"
 
 
-def feature_rows(checks: list[FeatureCheck]) -> list[list[str]]:
-    rows = []
-    for c in checks:
-        if c.unit == "um":
-            rows.append([c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um",
-                         "in" if c.meets else "OUT"])
-        else:
-            rows.append([c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
-                         f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um",
-                         "in" if c.meets else "OUT"])
-    return rows
-
-
-def feature_table(checks: list[FeatureCheck]) -> str:
-    """The toleranced features, in or out with their margin (diameters and wall in um of the size)."""
-    if not checks:
-        return "no [tolerance] given: nothing checked against the drawing"
-    return grid(["feature", "limits", "predicted", "margin", "verdict"], feature_rows(checks))
-
-
 def tune_report(result: TuneResult, surface_of: dict, units: str, title: str) -> str:
     current = result.current
     lines = [f"Remedies: {title}", "",
              f"as programmed: cycle time {duration_text(current.cycle_time_s)}, worst deviation "
              f"{1000 * current.max_deviation_mm:.1f} um a side, {'meets' if current.meets else 'does NOT meet'} "
-             "the drawing", feature_table(current.checks), ""]
+             "the drawing", feature_table(current.checks) if current.checks else "nothing toleranced", ""]
     rows = []
     for rank, o in enumerate(result.options, 1):
         delta = o.cycle_time_s - current.cycle_time_s
@@ -123,12 +103,6 @@ def outcome_record(outcome: Outcome, units: str) -> dict:
             "max_deviation_mm": outcome.max_deviation_mm, "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
             "breaks": outcome.broken,
             "features": [feature_record(c) for c in outcome.checks]}
-
-
-def feature_record(c: FeatureCheck) -> dict:
-    return {"feature": c.feature, "surface": c.surface, "unit": c.unit, "nominal": c.nominal, "lower": c.lower,
-            "upper": c.upper, "low": c.low, "high": c.high, "margin": c.margin, "meets": c.meets,
-            "z": c.worst_z_mm, "pass": c.pass_name}
 
 
 def tune_payload(result: TuneResult, surface_of: dict, units: str) -> dict:

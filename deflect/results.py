@@ -55,6 +55,10 @@ class SurfaceDeviation:
     deviation_mm: np.ndarray         # (P,)
     surface: list[str]               # "od", "id", "face" (the kind of pass that finished it) or "unmachined"
     finished_by: list[str]           # name of the pass that finished each point ("" where none did)
+    # with [holding]: the spring-back of the jaws' squeeze on release, its uniform (n = 0) part along the
+    # outward normal (already in deviation_mm), and the out-of-roundness it leaves (peak to valley, radial)
+    released_mm: np.ndarray | None = None
+    roundness_mm: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -68,6 +72,7 @@ class SurfaceCheck:
     predicted_diameter_mm: dict[str, float]
     max_deviation_mm: float
     mass_left_g: float
+    roundness_mm: dict[str, float] | None = None   # with [holding]: out of round after release, at the same places
 
 
 @dataclass(frozen=True)
@@ -102,3 +107,4 @@ class Prediction:
     stock_rz: np.ndarray
     mass_gain_by_surface_g: dict[str, float]
     warnings: list[str] = field(default_factory=list)
+    lobes: int = 0                            # with [holding]: lobes the jaws leave (0: none modelled)

@@ -41,7 +41,10 @@ from shapely.geometry.polygon import orient
 from threadpoolctl import threadpool_limits
 
 from deflect.compliance import Patch, WallModel
-from deflect.cutting import cutting_forces, cutting_time_s
+from deflect.clamping import released_deviation
+from deflect.cutting import cutting_forces, cutting_time_s, spindle_speed_rpm
+from deflect.chuck import centrifugal_force_n, grip_in_cut_n
+from deflect.holding import holding_from_table
 from deflect.errors import InputError, ModelError
 from deflect.inprocess import (POLYGON_CHORD_MM, CutPath, cuts_for_pass, depth_of_material, deviation_along,
                                polygon_mass, remove)
@@ -451,6 +454,33 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
     return per_pass, current
 
 
+def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str]):
+    """With [holding]: what the jaws' squeeze does to the surfaces finished in the chuck once they let go.
+
+    A surface cut round while squeezed springs back by minus the squeeze (`deflect.clamping`); the squeeze
+    is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
+    (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.grip.grip_in_cut_n`,
+    VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
+    out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
+    (None, None, 0) without [holding]."""
+    if "holding" not in job.tables:
+        return None, None, 0
+    holding = holding_from_table(job.tables["holding"])
+    machined = np.array([s in ("od", "id") for s in surfaces])
+    released, roundness = np.zeros(len(surfaces)), np.zeros(len(surfaces))
+    if not machined.any():
+        return released, roundness, 0
+    per_newton = released_deviation(job, holding, raw.points_rz[machined], raw.normals[machined], force_n=1.0)
+    by_name = {p.name: p for p in process.passes}
+    passes = [by_name[n] for n, m in zip(names, machined) if m]
+    rpm = np.array([float(spindle_speed_rpm(p.speed_m_min, 2.0 * r, process.machine.max_rpm))
+                    for p, r in zip(passes, raw.points_rz[machined, 0])])
+    grip_n = grip_in_cut_n(holding.force_n, centrifugal_force_n(holding.centrifugal_moment_kg_m, rpm), holding.grip)
+    released[machined] = grip_n * per_newton.mean_mm
+    roundness[machined] = grip_n * per_newton.roundness_mm
+    return released, roundness, per_newton.lobes
+
+
 def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
     return float(sum(cutting_time_s(t.r_mm, t.z_mm, p.feed_mm, p.speed_m_min, max_rpm) for t in tables))
 
@@ -483,7 +513,8 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
     """Push-off at the chuck end (low z), the middle and the free end of each finished od and id."""
     checks = []
-    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, density)
+    released = 0.0 if deviation.released_mm is None else deviation.released_mm
+    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
     for surface in ("od", "id"):
         order = straight_points(deviation, surface)
         if len(order) < 3:
@@ -499,7 +530,9 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
                                    nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
                                    predicted_diameter_mm={k: float(v) for k, v in predicted.items()},
                                    max_deviation_mm=float(np.max(deviation.deviation_mm[mine])),
-                                   mass_left_g=float(layer[mine].sum())))
+                                   mass_left_g=float(layer[mine].sum()),
+                                   roundness_mm=None if deviation.roundness_mm is None else
+                                   {name: float(deviation.roundness_mm[k]) for name, k in picks.items()}))
     return checks
 
 
@@ -549,11 +582,14 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
 
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
-    deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals, deviation_mm=raw.deviation_mm,
-                                 surface=surfaces, finished_by=names)
+    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names)
+    deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
+                                 deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
+                                 surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness)
     range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm))
                  for rz in ranges]
-    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm, material.density_g_cm3)
+    # the mass is the material the cuts left; the spring-back on release moves the surface, not material
+    layer = ring_mass_g(deviation.points_rz, deviation.normals, raw.deviation_mm, material.density_g_cm3)
 
     passes = []
     for p, tables in zip(process.passes, per_pass):
@@ -592,4 +628,4 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
         machine_power_kw=process.machine.power_kw, peak_power_kw=peak_power,
         passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(deviation),
         machined_rz=machined, nominal_rz=nominal_rz, stock_rz=process.stock_rz,
-        mass_gain_by_surface_g=by_surface, warnings=warnings)
+        mass_gain_by_surface_g=by_surface, warnings=warnings, lobes=lobes)

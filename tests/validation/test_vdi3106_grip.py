@@ -11,8 +11,8 @@ import math
 
 import pytest
 
-from deflect.grip import (centrifugal_force_n, friction_demand_n, grip_in_cut_n, least_static_grip_n,
-                          torque_capacity_nm)
+from deflect.chuck import (centrifugal_force_n, friction_demand_n, grip_in_cut_n, least_static_grip_n,
+                           torque_capacity_nm)
 from deflect.holding import holding_from_table
 
 ROUNDED = 0.5          # REFERENCE.md prints whole newtons
