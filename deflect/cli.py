@@ -316,8 +316,11 @@ def clamp(job_file, as_json, plot_file, plot_at):
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
               help="Write the compensated finishing contour of each pass (CSV points and ISO 6983 moves) here.")
+@click.option("--design", is_flag=True,
+              help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
+                   "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
-def tune(job_file, as_json, contour_dir, quiet):
+def tune(job_file, as_json, contour_dir, design, quiet):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
     Tries feeds, spring passes, the finishing allowance, the job's other tools, a wear offset, a compensated
@@ -343,19 +346,40 @@ def tune(job_file, as_json, contour_dir, quiet):
                     bar.update(1)
             result = search_remedies(job, progress=progress)
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+        walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         written = write_contours(job, result, contour_dir) if contour_dir else []
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
     if as_json:
-        emit_json(tune_payload(result, surface_of, job.units))
+        emit_json(tune_payload(result, surface_of, job.units, walls))
     else:
-        click.echo(tune_report(result, surface_of, job.units, job.title))
+        click.echo(tune_report(result, surface_of, job.units, job.title, walls))
         for path in written:
             click.echo(f"wrote {path}")
 
 
 SEARCH_STEPS_SHOWN = 60    # the progress bar's length: about the plans a two-surface job takes
+WALL_STEPS_SHOWN = 6       # and per wall of the design revision
+
+
+def revise_walls_of(job_file: str, job, result, quiet: bool):
+    """The design revision with the first option's finishing (`deflect.design`)."""
+    import tomllib
+    from pathlib import Path
+
+    from deflect.design import revise_walls
+    from deflect.fits import tolerance_from_table
+
+    data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    recommended = result.options[0].changes if result.options else ()
+    with click.progressbar(length=WALL_STEPS_SHOWN, label="trying wall thicknesses", file=sys.stderr,
+                           show_eta=False, hidden=quiet) as bar:
+        def progress():
+            if bar.pos < WALL_STEPS_SHOWN - 1:
+                bar.update(1)
+        return revise_walls(data, job_file, job, recommended, tolerance_from_table(job.tables["tolerance"]),
+                            progress=progress)
 
 
 def write_contours(job, result, folder: str) -> list:

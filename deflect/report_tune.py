@@ -66,7 +66,39 @@ def option_words(outcome: Outcome, surface_of: dict, units: str) -> str:
     return "; ".join(change_words(c, surface_of, units) for c in outcome.changes) or "as programmed"
 
 
-def tune_report(result: TuneResult, surface_of: dict, units: str, title: str) -> str:
+def wall_lines(walls, units: str) -> list[str]:
+    """The design revision: per wall, the thinnest that holds and what the change costs."""
+    factor = MM_PER_INCH if units == "inch" else 1.0
+    unit = "in" if units == "inch" else "mm"
+    lines = ["Design revision (the recommended finishing, offsets centred again for each wall):"]
+    for w in walls:
+        wall = w.wall
+        where = (f"wall between OD {2 * wall.od_radius_mm / factor:g} and bore {2 * wall.bore_radius_mm / factor:g} "
+                 f"{unit}, z {wall.z_low_mm / factor:g} to {wall.z_high_mm / factor:g}")
+        if w.thinnest_mm is None:
+            lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}; {w.note}")
+            continue
+        change = w.thinnest_mm - wall.thickness_mm
+        lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}, thinnest that holds "
+                     f"{w.thinnest_mm / factor:.3f} {unit} ({change / factor:+.3f}): mass "
+                     f"{w.mass_g - w.drawn_mass_g:+.3f} g, axial inertia "
+                     f"{w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2:+.4g} kg mm2 against the drawing"
+                     + (f"; {w.note}" if w.note else ""))
+    return lines
+
+
+def wall_records(walls, units: str) -> list[dict]:
+    factor = MM_PER_INCH if units == "inch" else 1.0
+    return [{"od": 2 * w.wall.od_radius_mm / factor, "bore": 2 * w.wall.bore_radius_mm / factor,
+             "z": [w.wall.z_low_mm / factor, w.wall.z_high_mm / factor],
+             "drawn_wall": w.wall.thickness_mm / factor,
+             "thinnest_wall_that_holds": None if w.thinnest_mm is None else w.thinnest_mm / factor,
+             "mass_change_g": None if w.mass_g is None else w.mass_g - w.drawn_mass_g,
+             "inertia_change_kg_mm2": None if w.inertia_kg_mm2 is None else w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2,
+             "note": w.note} for w in walls]
+
+
+def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None) -> str:
     current = result.current
     lines = [f"Remedies: {title}", "",
              f"as programmed: cycle time {duration_text(current.cycle_time_s)}, worst deviation "
@@ -89,6 +121,8 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str) ->
         lines += ["", result.limiting]
     if result.offset_note:
         lines += ["", f"wear offset only: {result.offset_note}"]
+    if walls is not None:
+        lines += [""] + wall_lines(walls, units)
     lines += ["", f"({result.evaluations} plans predicted)", CAUTION]
     return "\n".join(lines)
 
@@ -105,7 +139,7 @@ def outcome_record(outcome: Outcome, units: str) -> dict:
             "features": [feature_record(c) for c in outcome.checks]}
 
 
-def tune_payload(result: TuneResult, surface_of: dict, units: str) -> dict:
+def tune_payload(result: TuneResult, surface_of: dict, units: str, walls=None) -> dict:
     current = outcome_record(result.current, units)
     options = []
     for rank, o in enumerate(result.options, 1):
@@ -113,5 +147,8 @@ def tune_payload(result: TuneResult, surface_of: dict, units: str) -> dict:
                   "changes": [change_record(c, units) for c in o.changes],
                   "in_words": option_words(o, surface_of, units)}
         options.append(record)
-    return {"current": current, "options": options, "limiting": result.limiting, "offset_note": result.offset_note,
-            "plans_predicted": result.evaluations, "units": units}
+    payload = {"current": current, "options": options, "limiting": result.limiting,
+               "offset_note": result.offset_note, "plans_predicted": result.evaluations, "units": units}
+    if walls is not None:
+        payload["walls"] = wall_records(walls, units)
+    return payload
