@@ -107,10 +107,14 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, wa
     rows = []
     for rank, o in enumerate(result.options, 1):
         delta = o.cycle_time_s - current.cycle_time_s
+        margin = "-" if o.least_margin_mm is None else f"{1000 * o.least_margin_mm:+.1f}"
         rows.append([str(rank), "yes" if o.meets else "no", f"{o.cycle_time_s:.1f}", f"{delta:+.1f}",
-                     f"{1000 * o.max_deviation_mm:.1f}", f"{o.ra_um:.2f}", f"{o.mass_g:.3f}"])
+                     f"{1000 * o.max_deviation_mm:.1f}", margin, f"{o.ra_um:.2f}", f"{o.mass_g:.3f}"])
     if rows:
-        lines += [grid(["rank", "meets", "cycle s", "vs now s", "worst um", "Ra um", "mass g"], rows), ""]
+        header = ["rank", "meets", "cycle s", "vs now s", "worst dev. um", "least margin um", "Ra um", "mass g"]
+        lines += [grid(header, rows),
+                  "(worst dev.: the largest deviation from the drawn size a side, either way, wear offsets "
+                  "included; least margin: the nearest a diameter or the wall comes to a limit)", ""]
         for rank, o in enumerate(result.options, 1):
             lines.append(f"{rank}. {option_words(o, surface_of, units)}")
             if o.broken:
@@ -134,7 +138,8 @@ def change_record(change: Change, units: str) -> dict:
 
 def outcome_record(outcome: Outcome, units: str) -> dict:
     return {"meets": outcome.meets, "cycle_time_s": outcome.cycle_time_s,
-            "max_deviation_mm": outcome.max_deviation_mm, "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
+            "max_deviation_mm": outcome.max_deviation_mm, "least_margin_mm": outcome.least_margin_mm,
+            "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
             "breaks": outcome.broken,
             "features": [feature_record(c) for c in outcome.checks]}
 

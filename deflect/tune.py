@@ -82,6 +82,12 @@ class Outcome:
     def meets(self) -> bool:
         return not self.broken
 
+    @property
+    def least_margin_mm(self) -> float | None:
+        """The nearest any diameter or the wall comes to its limit [mm] (< 0: beyond it); None if none is
+        toleranced."""
+        return min((c.margin for c in self.checks if c.unit == "mm"), default=None)
+
 
 @dataclass(frozen=True)
 class TuneResult:
