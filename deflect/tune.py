@@ -16,7 +16,7 @@ surface that leaves its allowance):
 * a single wear offset on the finishing pass that centres the predicted deviation in the band (it moves the
   whole surface, so it cannot take out a taper), iterated twice since a deeper cut pushes off more;
 * the compensated contour: the finishing target programmed off the drawn contour by the predicted push-off,
-  iterated three times for the same reason;
+  corrected over four rounds for the same reason (the round nearest to holding is kept);
 * the order: the bore finished before the od, or the od before the bore.
 The part's compliance does not depend on the feed, the tool, the spring cuts or (to micrometres) the
 offsets, so every variant reuses the key stations already computed (`simulate.plan_compliance` with a shared
@@ -52,7 +52,8 @@ MIN_CHIP_MM = 0.01              # common practice: a honed carbide edge (edge ra
 LIGHT_ALLOWANCE_MM = 0.1        # the lighter finishing allowance tried (common practice: 0.1-0.2 mm a side)
 SPRING_CUTS = (0, 1)
 OFFSET_ROUNDS = 2               # wear offset: re-centred after each prediction
-COMPENSATION_ROUNDS = 3         # compensated contour: corrected after each prediction
+COMPENSATION_ROUNDS = 4         # compensated contour: corrected after each prediction
+COMPENSATION_RELAXATION = 0.6   # share of what is left that the later rounds correct
 COMPENSATION_POINTS = 25        # pairs along the finished stretch
 OFFSET_STEP_MM = 0.001          # offsets and compensation are given to 1 um (a control's wear offset step)
 
@@ -250,19 +251,24 @@ def feed_ladder(surface: Surface, process, ra_limit_um: float | None) -> list[fl
 
 
 def fastest_feed(search: Search, base: tuple[Change, ...], surface: Surface, feeds: list[float],
-                 holds) -> Outcome | None:
+                 holds, beat_s: float = math.inf) -> Outcome | None:
     """The fastest feed of the ladder at which holds(outcome) is true, by bisection (the material left
-    falls with the feed); None if even the slowest does not hold."""
+    falls with the feed); None if even the slowest does not hold, or if the fastest already takes beat_s or
+    longer (every slower feed would take longer still)."""
     def at(index):
         return search.evaluate(base + feed_change(surface, feeds[index]))
 
-    low, high = 0, len(feeds) - 1           # feeds[low] fastest
-    slowest = at(high) if feeds else None
-    if slowest is None or not holds(slowest):
+    if not feeds:
         return None
+    low, high = 0, len(feeds) - 1           # feeds[low] fastest
     first = at(low)
     if first is not None and holds(first):
         return first
+    if first is not None and first.cycle_time_s >= beat_s:
+        return None
+    slowest = at(high)
+    if slowest is None or not holds(slowest):
+        return None
     best = slowest
     while high - low > 1:
         middle = (low + high) // 2
@@ -309,8 +315,9 @@ def grid_options(search: Search, surface: Surface, ra_limit) -> list[Outcome]:
     for spring, allowance, tool in itertools.product(SPRING_CUTS, allowances, surface.tools):
         variant = replace(surface, finish=replace(surface.finish, tool=tool))
         feeds = feed_ladder(variant, search_process(search), ra_limit)
+        beat_s = min((o.cycle_time_s for o in found), default=math.inf)
         outcome = fastest_feed(search, setting_changes(surface, spring, allowance, tool), variant, feeds,
-                               holds_surface(surface))
+                               holds_surface(surface), beat_s)
         if outcome is not None:
             found.append(outcome)
     return found
@@ -360,7 +367,10 @@ def offset_option(search: Search, base: tuple[Change, ...], surface: Surface) ->
 
 def compensation_option(search: Search, base: tuple[Change, ...], surface: Surface) -> Outcome | None:
     """The finishing target programmed off the contour by the predicted push-off, so the surface springs
-    back to the band's centre."""
+    back to the band's centre. Each round corrects the programmed offsets by what is still left, the later
+    ones by COMPENSATION_RELAXATION of it (the deeper cut pushes off more, and at the end of a stretch, where
+    the target turns the corner, a full correction overshoots); the round that comes nearest to holding is
+    kept."""
     outcome = search.evaluate(base)
     if outcome is None:
         return None
@@ -370,16 +380,19 @@ def compensation_option(search: Search, base: tuple[Change, ...], surface: Surfa
         return None
     positions = np.linspace(z[0], z[-1], COMPENSATION_POINTS)
     shift = np.zeros_like(positions)
-    for _ in range(COMPENSATION_ROUNDS):
-        shift = np.array([round_um(v) for v in shift - (np.interp(positions, z, left) - centre)])
+    rounds = []
+    for k in range(COMPENSATION_ROUNDS):
+        share = 1.0 if k == 0 else COMPENSATION_RELAXATION
+        shift = np.array([round_um(v) for v in shift - share * (np.interp(positions, z, left) - centre)])
         pairs = tuple((round(float(a), 4), float(b)) for a, b in zip(positions, shift))
         outcome = search.evaluate(base + (Change(surface.finish.name, "compensate", None, pairs),))
         if outcome is None:
-            return None
+            break
+        rounds.append(outcome)
         z, left, _ = surface_deviation(outcome.prediction, surface)
         if len(z) < 2:
-            return None
-    return outcome
+            break
+    return nearest_to_holding(rounds, surface)
 
 
 def round_um(value_mm: float) -> float:
@@ -427,14 +440,14 @@ def tune(job, progress=None) -> TuneResult:
         offset = offset_option(search, fastest, surface)
         offset_now = offset_option(search, (), surface)
         compensated = compensation_option(search, fastest, surface)
-        holds = holds_surface(surface)
-        local = [o for o in grid + [offset, offset_now, compensated] if o is not None and holds(o)]
-        cheapest = min(local, key=lambda o: o.cycle_time_s) if local else None
-        per_surface_best.append(cheapest)
-        # each family on the surfaces it can mend; the cheapest local remedy on the others
+        best_here = nearest_to_holding(grid + [offset, offset_now, compensated], surface)
+        per_surface_best.append(best_here)
+        # each family on the surfaces it can mend; elsewhere the best remedy of this surface if that holds
         for name, outcomes in (("grid", grid), ("offset", [offset_now]), ("compensate", [compensated])):
-            held = [o for o in outcomes if o is not None and holds(o)]
-            pick = min(held, key=lambda o: o.cycle_time_s) if held else cheapest
+            pick = nearest_to_holding(outcomes, surface)
+            if pick is None or (not holds_surface(surface)(pick) and best_here is not None
+                                and holds_surface(surface)(best_here)):
+                pick = best_here
             families[name].append(changes_of(pick, surface) if pick is not None else ())
     best = tuple(c for s, o in zip(surfaces, per_surface_best) if o is not None for c in changes_of(o, s))
     plans = [best, *(tuple(itertools.chain(*v)) for v in families.values())]
@@ -445,11 +458,31 @@ def tune(job, progress=None) -> TuneResult:
         outcome = search.evaluate(changes, with_ranges=True)
         if outcome is not None:
             options.append(outcome)
-    options.sort(key=lambda o: (not o.meets, o.cycle_time_s))
+    options.sort(key=lambda o: (not o.meets, len(o.broken), o.cycle_time_s))
     wear_only = search.evaluate(plans[-1], with_ranges=True) if plans[-1] else None
     return TuneResult(current=current, options=options, limiting=limiting_text(current, options),
                       offset_note=offset_note(wear_only),
                       evaluations=len([k for k in search.seen if k != "process"]), warnings=list(process.warnings))
+
+
+def nearest_to_holding(outcomes: list[Outcome | None], surface: Surface) -> Outcome | None:
+    """The cheapest outcome that holds this surface's limits; if none does, the one that comes nearest (the
+    largest of its features' least margins, each as a share of its band)."""
+    candidates = [o for o in outcomes if o is not None]
+    holds = holds_surface(surface)
+    held = [o for o in candidates if holds(o)]
+    if held:
+        return min(held, key=lambda o: o.cycle_time_s)
+    return max(candidates, key=lambda o: relative_margin(o, surface), default=None)
+
+
+def relative_margin(outcome: Outcome, surface: Surface) -> float:
+    """The least margin of this surface's features, each as a share of its band (-inf if the edge rubs or
+    the chip is too thin)."""
+    if any(b.startswith(surface.finish.name) for b in outcome.broken):
+        return -math.inf
+    mine = [c for c in outcome.checks if c.pass_name == surface.finish.name or c.surface == "wall"]
+    return min((c.margin / max(c.upper - c.lower, 1e-12) for c in mine), default=0.0)
 
 
 def offset_wear_only(search: Search, surfaces: list[Surface]) -> tuple[Change, ...]:
@@ -479,16 +512,29 @@ def offset_note(outcome: Outcome | None) -> str:
 
 
 def limiting_text(current: Outcome, options: list[Outcome]) -> str:
-    """When no option meets everything: the limit that stops the best one, and how close it comes."""
+    """When no option meets everything: the feature no option brings inside (the one whose best margin over
+    all options is the worst), how near the best option comes, and the deviation it reaches there."""
     if any(o.meets for o in options):
         return ""
     candidates = options or [current]
-    best = min(candidates, key=lambda o: (len(o.broken), o.max_deviation_mm))
-    worst = min(best.checks, key=lambda c: c.margin, default=None)
-    if worst is None:
-        return "no option meets the limits: " + "; ".join(best.broken)
-    where = f" at z {worst.worst_z_mm:.1f} mm" if worst.worst_z_mm is not None else ""
-    unit = "um" if worst.unit == "um" else "mm"
-    return (f"no option holds the drawing: the limiting feature is {worst.feature}{where}, missed by "
-            f"{abs(worst.margin):.4g} {unit} at best; best deviation reached {1000 * best.max_deviation_mm:.1f} um a "
-            "side. Thicken the wall, widen the tolerance, or hold the part nearer the cut.")
+    best_for = {}
+    for outcome in candidates:
+        for c in outcome.checks:
+            relative = c.margin / max(c.upper - c.lower, 1e-12)
+            if c.feature not in best_for or relative > best_for[c.feature][0]:
+                best_for[c.feature] = (relative, c, outcome)
+    failing = {name: v for name, v in best_for.items() if v[0] < 0.0}
+    if not failing:
+        return "no option meets every limit: " + "; ".join(min(candidates, key=lambda o: len(o.broken)).broken)
+    _, check, outcome = min(failing.values(), key=lambda v: v[0])
+    rank = candidates.index(outcome) + 1 if outcome in options else 0
+    where = f" at z {check.worst_z_mm:.1f} mm" if check.worst_z_mm is not None else ""
+    if check.unit == "um":
+        reached = f"Ra {check.low:.2f} um against {check.upper:g} um"
+    else:
+        reached = (f"{1000 * check.low:+.1f} to {1000 * check.high:+.1f} um against limits {1000 * check.lower:+.0f} / "
+                   f"{1000 * check.upper:+.0f} um")
+    wall = " (the wall between them)" if check.surface == "wall" else ""
+    return (f"no option holds the drawing: the limiting feature is {check.feature}{wall}{where}; the best "
+            f"achievable is {reached}" + (f" (option {rank})" if rank else "") +
+            ". Thicken the wall (`--design`), widen the tolerance, or hold the part nearer the cut.")
