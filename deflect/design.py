@@ -6,9 +6,9 @@ finishing (the changes of `tune`'s first option); gives a `WallRevision` per wal
 and a cylindrical bore facing each other over at least `SHORTEST_WALL_MM` of height, no thicker than
 `THIN_SHARE` of the OD's radius. The wall is made thinner
 or thicker by moving its bore (the OD is more often a fit to something else); the stock must still hold the
-part. For every wall tried, the recommended feeds, spring cuts, tools and order are kept and the wear offsets
-are centred again in the band (`tune.offset_option`: a stiffer wall pushes off less), then the part is
-predicted and checked. The material left falls as the wall thickens, so the thinnest wall that holds is found
+part. For every wall tried, the recommended finishing is predicted as it is and, where it does not hold, with
+its wear offsets centred again in the band (`tune.recentred`: a stiffer wall pushes off less; a compensated
+contour is kept as found for the drawn wall). The material left falls as the wall thickens, so the thinnest wall that holds is found
 by bisection on a ladder of `STEP_MM`.
 """
 
@@ -22,7 +22,8 @@ import numpy as np
 from deflect.errors import InputError, ModelError
 from deflect.job import MM_PER_INCH, parse_job
 from deflect.section import Section, mass_properties
-from deflect.tune import Change, Outcome, Search, offset_option, search_process, surfaces_of
+from deflect.simulate import kept_workers
+from deflect.tune import Change, Outcome, Search, recentred, search_process, surfaces_of
 
 SHORTEST_WALL_MM = 2.0          # an OD and a bore facing each other over less than this are not a wall
 THIN_SHARE = 0.25               # ... nor are they when thicker than this share of the OD radius (a hub, a flange)
@@ -95,29 +96,19 @@ def revised_data(data: dict, wall: Wall, thickness_mm: float) -> dict:
     return revised
 
 
-def kept_finishing(changes: tuple[Change, ...]) -> tuple[Change, ...]:
-    """The recommended changes a revised wall keeps: all but the wear offsets and compensation, which are
-    found again for it."""
-    return tuple(c for c in changes if c.key not in ("offset", "compensate"))
-
-
 def predict_wall(data: dict, path: str, wall: Wall, thickness_mm: float, changes: tuple[Change, ...],
                  tolerances, memo: dict) -> Outcome | None:
-    """The part drawn with this wall, finished as recommended with the offsets centred again; None if it
-    cannot be drawn, held by the stock, or predicted."""
+    """The part drawn with this wall, finished as recommended; where that does not hold, with its wear
+    offsets centred again (`tune.recentred`). None if it cannot be drawn, held by the stock, or predicted."""
     try:
         job = parse_job(revised_data(data, wall, thickness_mm), path)
-        base = kept_finishing(changes)
         search = Search(job=job, tolerances=tolerances, memo=memo)
-        first = search.evaluate(base)
-        if first is None:
+        outcome = search.evaluate(changes)
+        if outcome is None:
             return None
-        for surface in surfaces_of(search_process(search), first.prediction):
-            if surface.kind in ("od", "id"):
-                centred = offset_option(search, base, surface)
-                if centred is not None:
-                    base = centred.changes
-        return search.evaluate(base, with_ranges=True)
+        if not outcome.meets:
+            changes = recentred(search, changes, surfaces_of(search_process(search), outcome.prediction))
+        return search.evaluate(changes, with_ranges=True)
     except (InputError, ModelError):
         return None
 
@@ -125,13 +116,20 @@ def predict_wall(data: dict, path: str, wall: Wall, thickness_mm: float, changes
 def revise_walls(data: dict, path: str, job, changes: tuple[Change, ...], tolerances,
                  progress=None) -> list[WallRevision]:
     """For each wall of the drawn part: the thinnest wall on the ladder that holds (module docstring)."""
+    with kept_workers():
+        return revisions_of(data, path, job, changes, tolerances, progress)
+
+
+def revisions_of(data: dict, path: str, job, changes: tuple[Change, ...], tolerances, progress) -> list[WallRevision]:
     density = job.material.density_g_cm3
     drawn = mass_properties(job.section, density)
     memo: dict = {}
     revisions = []
     for wall in walls_of(job.section):
-        ladder = np.arange(THINNEST_SHARE * wall.thickness_mm, (1.0 + THICKEST_EXTRA) * wall.thickness_mm + 1e-9,
-                           STEP_MM)
+        # steps of STEP_MM either side of the drawn wall, the drawn wall itself among them
+        steps = np.arange(-int((1.0 - THINNEST_SHARE) * wall.thickness_mm / STEP_MM),
+                          int(THICKEST_EXTRA * wall.thickness_mm / STEP_MM) + 1)
+        ladder = wall.thickness_mm + STEP_MM * steps
         cache = {}
 
         def holds(index: int):
@@ -142,7 +140,7 @@ def revise_walls(data: dict, path: str, job, changes: tuple[Change, ...], tolera
             outcome = cache[index]
             return outcome is not None and outcome.meets
 
-        drawn_index = int(np.argmin(np.abs(ladder - wall.thickness_mm)))
+        drawn_index = int(np.flatnonzero(steps == 0)[0])
         if holds(drawn_index):
             low, high, note = 0, drawn_index, ""
             if holds(low):

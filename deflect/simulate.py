@@ -30,6 +30,7 @@ import math
 import multiprocessing
 import os
 from concurrent.futures import ProcessPoolExecutor
+from contextlib import contextmanager
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -279,11 +280,19 @@ def compliance_along_cuts(job, process: Process, paths: dict, settings: Simulati
     owners, tasks, wanted = [], [], {}
     current = process.stock_rz
     for i, p in enumerate(process.passes):
+        cut_before = None                    # depth met by the pass's previous cut on the same path
         for j, path in enumerate(paths[i]):
             placed = ("keys", current.tobytes(), path.points_rz.tobytes(), p.surface, settings)
             if placed not in memo:
-                memo[placed] = key_indices(path, met_depth(current, path, p), settings.key_stations, lead_in)
-            keys = memo[placed]
+                met = met_depth(current, path, p)
+                if not (met > 0.0).any() and cut_before is not None and cut_before[0] is path:
+                    # a spring cut meets only the micrometres the cut before left, not there on the part cut
+                    # exactly to the target: its keys go where that cut cut (its compliance is the finished
+                    # part's)
+                    met = cut_before[1]
+                memo[placed] = (key_indices(path, met, settings.key_stations, lead_in), met)
+            keys, met = memo[placed]
+            cut_before = (path, met)
             names = [(current.tobytes(), path.points_rz.tobytes(), int(k), p.surface, material) for k in keys]
             owners.append((i, j, len(path.points_rz), keys, names))
             for k, name in zip(keys, names):
@@ -320,13 +329,40 @@ def travelled_share(path: CutPath) -> np.ndarray:
 
 def parallel_map(function, tasks: list[tuple]):
     """function(*task) for every task, on the machine's cores (each key station is its own shell model, so
-    they are independent; the results come back in order, so the answer does not depend on the core count)."""
+    they are independent; the results come back in order, so the answer does not depend on the core count).
+    Inside `kept_workers` the same worker processes serve every call."""
     workers = min(len(tasks), os.cpu_count() or 1, MAX_WORKERS)
     if workers < 2:
         return [function(*task) for task in tasks]
-    with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
-                             initializer=one_blas_thread) as pool:
+    if _KEPT_POOL:
+        return list(_KEPT_POOL[-1].map(function, *zip(*tasks)))
+    with new_pool(workers) as pool:
         return list(pool.map(function, *zip(*tasks)))
+
+
+_KEPT_POOL: list = []
+
+
+def new_pool(workers: int) -> ProcessPoolExecutor:
+    return ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
+                               initializer=one_blas_thread)
+
+
+@contextmanager
+def kept_workers():
+    """One set of worker processes for many predictions (the remedy search predicts dozens of plans, most
+    with a few new key stations each; starting workers for each costs more than the stations)."""
+    workers = min(os.cpu_count() or 1, MAX_WORKERS)
+    if workers < 2 or _KEPT_POOL:
+        yield
+        return
+    pool = new_pool(workers)
+    _KEPT_POOL.append(pool)
+    try:
+        yield
+    finally:
+        _KEPT_POOL.pop()
+        pool.shutdown()
 
 
 def one_blas_thread() -> None:
@@ -433,9 +469,12 @@ def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarra
     return table, after
 
 
-def run_passes(job, process: Process, force_scale: float, plan: dict, progress=None):
+def run_passes(job, process: Process, force_scale: float, plan: dict, progress=None, memo: dict | None = None):
     """All passes in order on the planned cuts (`plan_compliance`); returns the per-pass station tables and
-    the as-machined polygon."""
+    the as-machined polygon. memo (shared by variants of one job, `deflect.tune`) keeps each cut's result by
+    everything it depends on: the part it meets, its path, its pass, its compliance and the force scale, so a
+    variant that changes a late pass does not machine the earlier ones again."""
+    memo = {} if memo is None else memo
     current = process.stock_rz
     per_pass = []
     for i, p in enumerate(process.passes):
@@ -444,9 +483,16 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
             # the spread runs reuse the nominal run's met depth: the part differs only by the earlier passes'
             # push-off (micrometres on tenths), which moves this cut's push-off far less than the spread does
             if ("met", i, j) not in plan:
-                plan[("met", i, j)] = met_depth(current, path, p)
-            table, current = run_cut(job, process, p, path, current, plan[(i, j)], plan[("met", i, j)],
-                                     force_scale, j)
+                met_name = ("met", current.tobytes(), path.points_rz.tobytes(), p.surface)
+                if met_name not in memo:
+                    memo[met_name] = met_depth(current, path, p)
+                plan[("met", i, j)] = memo[met_name]
+            met = plan[("met", i, j)]
+            name = ("cut", current.tobytes(), path.points_rz.tobytes(), replace(p, key=""), j, force_scale,
+                    plan[(i, j)].tobytes(), met.tobytes())
+            if name not in memo:
+                memo[name] = run_cut(job, process, p, path, current, plan[(i, j)], met, force_scale, j)
+            table, current = memo[name]
             tables.append(table)
             if progress:
                 progress(p.name, j)
@@ -495,9 +541,13 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
         reach = abs(p.allowance_mm + p.offset_mm) + max((abs(b) for _, b in p.compensation), default=0.0) \
             + 0.05 + STATION_SPACING_MM
         gap, nearest = cKDTree(path).query(deviation.points_rz)
-        # a point this pass finished lies at its final target and faces the way the cut surface there faces
+        # a point this pass finished lies at its final target, across from a station (not beyond the path's
+        # end, where a surface an earlier pass finished may carry on) and faces the way the cut surface faces
         facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > 0.3
-        for k in np.flatnonzero(facing & (gap <= reach)):
+        offset = deviation.points_rz - path[nearest]
+        tangent = np.column_stack([-final.normal_rz[nearest, 1], final.normal_rz[nearest, 0]])
+        across = np.abs(np.einsum("ij,ij->i", offset, tangent)) <= STATION_SPACING_MM
+        for k in np.flatnonzero(facing & across & (gap <= reach)):
             surfaces[k], names[k] = p.surface, p.name
     return surfaces, names
 
@@ -570,15 +620,16 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     with_ranges: False skips the runs at 1 -/+ spread (every range then equals its value), for searches."""
     material = job.material
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
+    memo = {} if memo is None else memo
     plan = plan_compliance(job, process, settings, nominal_rz, memo)
-    per_pass, machined = run_passes(job, process, 1.0, plan, progress)
+    per_pass, machined = run_passes(job, process, 1.0, plan, progress, memo)
     spread = material.force_spread
     scales = (1.0 - spread, 1.0 + spread) if with_ranges else ()
-    ranges = [run_passes(job, process, scale, plan)[1] for scale in scales] or [machined]
+    ranges = [run_passes(job, process, scale, plan, memo=memo)[1] for scale in scales]
 
     nominal = mass_properties(job.section, material.density_g_cm3)
     mass, inertia, _ = polygon_mass(machined, material.density_g_cm3)
-    range_masses = [polygon_mass(rz, material.density_g_cm3)[0] for rz in ranges]
+    range_masses = [polygon_mass(rz, material.density_g_cm3)[0] for rz in ranges] or [mass]
 
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
@@ -586,8 +637,9 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
                                  surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness)
-    range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm))
-                 for rz in ranges]
+    spring_back = 0.0 if released is None else released
+    range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
+                 for rz in ranges] or [float(np.max(deviation.deviation_mm))]
     # the mass is the material the cuts left; the spring-back on release moves the surface, not material
     layer = ring_mass_g(deviation.points_rz, deviation.normals, raw.deviation_mm, material.density_g_cm3)
 

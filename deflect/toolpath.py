@@ -41,16 +41,24 @@ def compensated_contour(job, process: Process, p: Pass) -> np.ndarray:
 
 
 def _corners(points_rz: np.ndarray) -> np.ndarray:
-    """Indices of the points to keep: the ends, and every point off the line through its neighbours."""
+    """Indices of the points to keep: the ends, and as few between as keep every point within
+    KEEP_STRAIGHT_MM of the chord it is left out of (each chord is run as far as it can go)."""
     keep = [0]
-    for k in range(1, len(points_rz) - 1):
-        a, b, c = points_rz[keep[-1]], points_rz[k], points_rz[k + 1]
-        chord = c - a
-        off = abs(chord[0] * (b[1] - a[1]) - chord[1] * (b[0] - a[0])) / max(np.hypot(*chord), 1e-12)
-        if off > KEEP_STRAIGHT_MM:
-            keep.append(k)
-    keep.append(len(points_rz) - 1)
-    return np.array(sorted(set(keep)))
+    last = len(points_rz) - 1
+    while keep[-1] < last:
+        start, end = keep[-1], keep[-1] + 1
+        while end < last and _within_chord(points_rz, start, end + 1):
+            end += 1
+        keep.append(end)
+    return np.array(keep)
+
+
+def _within_chord(points_rz: np.ndarray, start: int, end: int) -> bool:
+    """Whether every point between start and end lies within KEEP_STRAIGHT_MM of the chord joining them."""
+    a, chord = points_rz[start], points_rz[end] - points_rz[start]
+    between = points_rz[start + 1:end] - a
+    off = np.abs(chord[0] * between[:, 1] - chord[1] * between[:, 0]) / max(float(np.hypot(*chord)), 1e-12)
+    return bool(np.all(off <= KEEP_STRAIGHT_MM))
 
 
 def contour_csv(rows: np.ndarray) -> str:

@@ -14,7 +14,8 @@ surface that leaves its allowance):
   a lighter 0.1 mm), and the job's other tools that can cut that surface (a tool with a boring bar for a
   bore, one without for an od);
 * a single wear offset on the finishing pass that centres the predicted deviation in the band (it moves the
-  whole surface, so it cannot take out a taper), iterated twice since a deeper cut pushes off more;
+  whole surface, so it cannot take out a taper), iterated twice since a deeper cut pushes off more: at the
+  feeds and tools as they are, and for every mix above at the fastest feed the roughness allows;
 * the compensated contour: the finishing target programmed off the drawn contour by the predicted push-off,
   corrected over four rounds for the same reason (the round nearest to holding is kept);
 * the order: the bore finished before the od, or the od before the bore.
@@ -37,13 +38,13 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from deflect.conformance import FeatureCheck, check_features, finishing_passes
+from deflect.conformance import FeatureCheck, check_features, finishing_passes, wall_profile
 from deflect.cutting import theoretical_roughness
 from deflect.errors import InputError, ModelError
 from deflect.fits import Tolerances, tolerance_from_table
 from deflect.process import process_from_job
 from deflect.results import Prediction
-from deflect.simulate import simulate
+from deflect.simulate import kept_workers, simulate
 
 # ISO 3 preferred numbers, series R10 (rounded values): the feeds a machinist would program.
 FEED_LADDER_MM = (0.5, 0.4, 0.315, 0.25, 0.2, 0.16, 0.125, 0.1, 0.08, 0.063, 0.05, 0.04, 0.032, 0.025)
@@ -323,6 +324,34 @@ def grid_options(search: Search, surface: Surface, ra_limit) -> list[Outcome]:
     return found
 
 
+def offset_grid_options(search: Search, surface: Surface, ra_limit, beat_s: float) -> list[Outcome]:
+    """For every mix of spring cuts, finishing allowance and tool: a wear offset centred in the band at the
+    fastest feed the roughness allows with that tool (an h or H fit needs an offset: any material left
+    breaks its limit at the nominal size). Mixes whose plan without the offset already takes beat_s or more
+    are skipped (the offset changes the time by a hair)."""
+    if surface.kind not in ("od", "id"):
+        return []
+    allowances = [None] if surface.before is None else sorted(
+        {surface.before.allowance_mm, min(surface.before.allowance_mm, LIGHT_ALLOWANCE_MM)}, reverse=True)
+    found = []
+    holds = holds_surface(surface)
+    for spring, allowance, tool in itertools.product(SPRING_CUTS, allowances, surface.tools):
+        variant = replace(surface, finish=replace(surface.finish, tool=tool))
+        feeds = feed_ladder(variant, search_process(search), ra_limit)
+        if not feeds:
+            continue
+        base = setting_changes(surface, spring, allowance, tool) + feed_change(surface, feeds[0])
+        plain = search.evaluate(base)
+        if plain is None or plain.cycle_time_s >= beat_s:
+            continue
+        outcome = offset_option(search, base, surface)
+        if outcome is not None:
+            found.append(outcome)
+            if holds(outcome):
+                beat_s = min(beat_s, outcome.cycle_time_s)
+    return found
+
+
 def search_process(search: Search):
     if "process" not in search.seen:
         search.seen["process"] = process_from_job(search.job)
@@ -350,19 +379,42 @@ def band_centre_mm(outcome: Outcome, surface: Surface) -> float | None:
 
 
 def offset_option(search: Search, base: tuple[Change, ...], surface: Surface) -> Outcome | None:
-    """A single wear offset on the finishing pass that centres the predicted deviation in the band."""
+    """A single wear offset on the finishing pass that centres the predicted deviation in what the limits
+    leave it: the diameter band and, with a wall tolerance, the wall's band given the other side as it is."""
     outcome = search.evaluate(base)
     offset = surface.finish.offset_mm
     for _ in range(OFFSET_ROUNDS):
         if outcome is None:
             return None
-        centre = band_centre_mm(outcome, surface)
-        _, left, _ = surface_deviation(outcome.prediction, surface)
-        if centre is None or not len(left):
+        shift = centring_shift_mm(outcome, surface, search.tolerances.wall_mm)
+        if shift is None:
             return None
-        offset = round_um(offset - (0.5 * (left.min() + left.max()) - centre))
+        offset = round_um(offset + shift)
         outcome = search.evaluate(base + (Change(surface.finish.name, "offset", surface.finish.offset_mm, offset),))
     return outcome
+
+
+def centring_shift_mm(outcome: Outcome, surface: Surface, wall_mm: float | None) -> float | None:
+    """How far to move the surface along its outward normal [mm, a side] to put its deviation in the middle
+    of the interval the limits allow: from the diameter band (an OD grows by twice the material left, a bore
+    shrinks by it) and, with a wall tolerance, from the wall's band (the wall grows by the material left on
+    either side). Where the two do not overlap, the diameter band alone decides."""
+    feature = next((c for c in outcome.checks if c.pass_name == surface.finish.name and c.surface == surface.kind),
+                   None)
+    _, left, _ = surface_deviation(outcome.prediction, surface)
+    if feature is None or not len(left):
+        return None
+    if surface.kind == "od":
+        low, high = 0.5 * feature.lower - left.min(), 0.5 * feature.upper - left.max()
+    else:
+        low, high = -0.5 * feature.upper - left.min(), -0.5 * feature.lower - left.max()
+    if wall_mm is not None:
+        _, wall = wall_profile(outcome.prediction)
+        if len(wall):
+            both = max(low, -wall_mm - wall.min()), min(high, wall_mm - wall.max())
+            if both[0] <= both[1]:
+                low, high = both
+    return 0.5 * (low + high)
 
 
 def compensation_option(search: Search, base: tuple[Change, ...], surface: Surface) -> Outcome | None:
@@ -419,6 +471,11 @@ def order_change(process, surfaces: list[Surface]) -> tuple[Change, ...]:
 
 def tune(job, progress=None) -> TuneResult:
     """Search the remedies and rank them (module docstring)."""
+    with kept_workers():
+        return search_remedies(job, progress)
+
+
+def search_remedies(job, progress) -> TuneResult:
     if "tolerance" not in job.tables:
         raise InputError("tolerance", "missing; give [tolerance] (od, id, wall, ra) for the remedies to aim at")
     tolerances = tolerance_from_table(job.tables["tolerance"])
@@ -437,13 +494,15 @@ def tune(job, progress=None) -> TuneResult:
         feeds = feed_ladder(surface, process, tolerances.ra_um)
         fastest = feed_change(surface, feeds[0]) if feeds else ()
         grid = grid_options(search, surface, tolerances.ra_um)
-        offset = offset_option(search, fastest, surface)
         offset_now = offset_option(search, (), surface)
         compensated = compensation_option(search, fastest, surface)
-        best_here = nearest_to_holding(grid + [offset, offset_now, compensated], surface)
+        held = [o for o in grid + [offset_now, compensated] if o is not None and holds_surface(surface)(o)]
+        offsets = offset_grid_options(search, surface, tolerances.ra_um,
+                                      min((o.cycle_time_s for o in held), default=math.inf))
+        best_here = nearest_to_holding(grid + offsets + [offset_now, compensated], surface)
         per_surface_best.append(best_here)
         # each family on the surfaces it can mend; elsewhere the best remedy of this surface if that holds
-        for name, outcomes in (("grid", grid), ("offset", [offset_now]), ("compensate", [compensated])):
+        for name, outcomes in (("grid", grid), ("offset", offsets + [offset_now]), ("compensate", [compensated])):
             pick = nearest_to_holding(outcomes, surface)
             if pick is None or (not holds_surface(surface)(pick) and best_here is not None
                                 and holds_surface(surface)(best_here)):
@@ -455,6 +514,11 @@ def tune(job, progress=None) -> TuneResult:
     plans.append(offset_wear_only(search, surfaces))
     options = []
     for changes in dict.fromkeys(p for p in plans if p):
+        outcome = search.evaluate(changes)
+        if outcome is not None and not outcome.meets:
+            # searched one surface at a time, the offsets were centred with the other surfaces as they were;
+            # a deeper cut on one side thins the wall under the other: centre them again together
+            changes = recentred(search, changes, surfaces)
         outcome = search.evaluate(changes, with_ranges=True)
         if outcome is not None:
             options.append(outcome)
@@ -463,6 +527,20 @@ def tune(job, progress=None) -> TuneResult:
     return TuneResult(current=current, options=options, limiting=limiting_text(current, options),
                       offset_note=offset_note(wear_only),
                       evaluations=len([k for k in search.seen if k != "process"]), warnings=list(process.warnings))
+
+
+def recentred(search: Search, changes: tuple[Change, ...], surfaces: list[Surface]) -> tuple[Change, ...]:
+    """The plan with each of its wear offsets centred again in its band, one surface after the other, with
+    all the plan's other changes in place."""
+    for surface in surfaces:
+        mine = [c for c in changes if c.key == "offset" and c.pass_name == surface.finish.name]
+        if not mine:
+            continue
+        rest = tuple(c for c in changes if c not in mine)
+        outcome = offset_option(search, rest, surface)
+        if outcome is not None:
+            changes = outcome.changes
+    return changes
 
 
 def nearest_to_holding(outcomes: list[Outcome | None], surface: Surface) -> Outcome | None:
