@@ -541,13 +541,15 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
         reach = abs(p.allowance_mm + p.offset_mm) + max((abs(b) for _, b in p.compensation), default=0.0) \
             + 0.05 + STATION_SPACING_MM
         gap, nearest = cKDTree(path).query(deviation.points_rz)
-        # a point this pass finished lies at its final target, across from a station (not beyond the path's
-        # end, where a surface an earlier pass finished may carry on) and faces the way the cut surface faces
+        # a point this pass finished lies at its final target, across from a station between the path's
+        # ends (at or beyond an end a surface an earlier pass finished may carry on, and the point where the
+        # two meet is their corner) and faces the way the cut surface faces
         facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > 0.3
         offset = deviation.points_rz - path[nearest]
         tangent = np.column_stack([-final.normal_rz[nearest, 1], final.normal_rz[nearest, 0]])
         across = np.abs(np.einsum("ij,ij->i", offset, tangent)) <= STATION_SPACING_MM
-        for k in np.flatnonzero(facing & across & (gap <= reach)):
+        inside = (nearest > 0) & (nearest < len(path) - 1)
+        for k in np.flatnonzero(facing & across & inside & (gap <= reach)):
             surfaces[k], names[k] = p.surface, p.name
     return surfaces, names
 
