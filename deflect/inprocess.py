@@ -281,15 +281,17 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
 
 
 def compensated(target: CutPath, p: Pass) -> CutPath:
-    """The target with the pass's programmed compensation: each point moved along its outward normal by the
-    compensation interpolated at its position (z for od / id, r for face; held beyond the pairs given)."""
+    """The target with the pass's programmed compensation: each point moved along the pass's in-feed (in X
+    for an od or bore pass, in Z for a face pass, as a lathe program is corrected) by the compensation
+    interpolated at its position (z for od / id, r for face; held beyond the pairs given). On the cylinder
+    this is the outward normal; where the path runs onto a face or a fillet, the face is not cut into."""
     if not p.compensation:
         return target
     positions, offsets = np.array(p.compensation).T
     along = target.points_rz[:, 0 if p.surface == "face" else 1]
     shift = np.interp(along, positions, offsets)
-    return CutPath(points_rz=target.points_rz + shift[:, None] * target.normals, normals=target.normals,
-                   feed_dir=target.feed_dir)
+    return CutPath(points_rz=target.points_rz + shift[:, None] * _in_feed(p.surface)[None, :],
+                   normals=target.normals, feed_dir=target.feed_dir)
 
 
 def _in_feed(surface: str) -> np.ndarray:

@@ -63,8 +63,9 @@ class Pass:
     offset_mm: float             # wear offset along the outward normal [mm]; negative cuts deeper
     key: str                     # "pass[2]", for messages
     # the finishing target programmed off the contour by an amount that varies along the pass, to cancel
-    # the push-off: (position, offset mm along the outward normal) pairs by position (z for od / id, r for
-    # face), interpolated between and held beyond; () for none
+    # the push-off: (position, offset mm) pairs by position (z for od / id, r for face), the offset in X a
+    # side for od / id (outwards from the material, like `offset` on a cylinder) and in Z for a face,
+    # interpolated between and held beyond; () for none
     compensation: tuple[tuple[float, float], ...] = ()
 
 

@@ -172,15 +172,18 @@ def broken_limits(pred: Prediction, process, checks: list[FeatureCheck]) -> list
         else:
             broken.append(f"{c.feature}: {1000 * c.low:+.0f} to {1000 * c.high:+.0f} um on the diameter, limits "
                           f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um")
-    finishing = {p.name for p in finishing_passes(pred, process)}
+    finishing = {p.name: p for p in finishing_passes(pred, process)}
     for p in pred.passes:
         if p.name not in finishing:
             continue
-        thinnest = thinnest_chip_mm(p.cuts[-1])
+        # the finishing cut, not its spring cuts: a spring cut takes the micrometres the wall gave back, and
+        # is meant to (common practice); it is judged by what it leaves
+        cuts = p.cuts[:len(p.cuts) - finishing[p.name].spring]
+        thinnest = thinnest_chip_mm(cuts[-1])
         if thinnest is not None and thinnest < MIN_CHIP_MM:
             broken.append(f"{p.name}: chip {1000 * thinnest:.0f} um thin, under the {1000 * MIN_CHIP_MM:.0f} um "
                           "an edge needs to cut")
-        if any(t.rubbing.any() for t in p.cuts):
+        if any(t.rubbing.any() for t in cuts):
             broken.append(f"{p.name}: the tool rubs where the wall gives way")
     if pred.peak_power_kw > process.machine.power_kw:
         broken.append(f"peak power {pred.peak_power_kw:.1f} kW over the machine's {process.machine.power_kw:g} kW")
@@ -254,8 +257,9 @@ def feed_ladder(surface: Surface, process, ra_limit_um: float | None) -> list[fl
 def fastest_feed(search: Search, base: tuple[Change, ...], surface: Surface, feeds: list[float],
                  holds, beat_s: float = math.inf) -> Outcome | None:
     """The fastest feed of the ladder at which holds(outcome) is true, by bisection (the material left
-    falls with the feed); None if even the slowest does not hold, or if the fastest already takes beat_s or
-    longer (every slower feed would take longer still)."""
+    falls with the feed); None if even the slowest does not hold, if the fastest already takes beat_s or
+    longer (every slower feed would take longer still), or if no feed can hold the band without an offset
+    (`no_room_without_offset`)."""
     def at(index):
         return search.evaluate(base + feed_change(surface, feeds[index]))
 
@@ -265,7 +269,7 @@ def fastest_feed(search: Search, base: tuple[Change, ...], surface: Surface, fee
     first = at(low)
     if first is not None and holds(first):
         return first
-    if first is not None and first.cycle_time_s >= beat_s:
+    if first is not None and (first.cycle_time_s >= beat_s or no_room_without_offset(first, surface)):
         return None
     slowest = at(high)
     if slowest is None or not holds(slowest):
@@ -279,6 +283,21 @@ def fastest_feed(search: Search, base: tuple[Change, ...], surface: Surface, fee
         else:
             low = middle
     return best
+
+
+def no_room_without_offset(outcome: Outcome, surface: Surface) -> bool:
+    """True when no feed can hold this surface without a wear offset: the push-off only ever leaves material
+    (an OD comes out larger, a bore smaller), so a band that allows no oversize on an OD (h, g, f, ...) or no
+    undersize in a bore (H, G, F, ...) is broken by any push-off at all. (A compensation or an offset the
+    plan already carries can move the surface the other way.)"""
+    if any(c.key in ("offset", "compensate") and c.pass_name == surface.finish.name for c in outcome.changes):
+        return False
+    if surface.finish.offset_mm or surface.finish.compensation:
+        return False
+    for c in outcome.checks:
+        if c.pass_name == surface.finish.name and c.surface == surface.kind and not c.meets:
+            return c.upper <= 0.0 if surface.kind == "od" else c.lower >= 0.0
+    return False
 
 
 def feed_change(surface: Surface, feed_mm: float) -> tuple[Change, ...]:

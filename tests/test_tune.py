@@ -10,7 +10,7 @@ with the option's changes written into its TOML by this module (not by `deflect.
   2005), theoretical roughness of a round-nosed tool: for f << r the cusp is a parabola and
   Ra = f^2 / (18 sqrt(3) r), within about 1 % of the exact circular cusp at the feeds used here;
 * the chip-thickness and rubbing rules are the ones `deflect.tune.broken_limits` states (a finishing chip of
-  at least `tune.MIN_CHIP_MM` where the cut takes its full stock; no rubbing station); the brute force uses
+  at least `tune.MIN_CHIP_MM` on the finishing cut where it takes its full stock, its spring cuts exempt; no rubbing station); the brute force uses
   `tune.thinnest_chip_mm` for the first, as the issue allows.
 
 The issue's "Done means" 2 is a brute force over the same choices as the search (R10 feeds, spring cuts,
@@ -230,11 +230,12 @@ def deviation_arrays(data: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 def json_violations(data: dict, tables: dict) -> list[str]:
     """The drawing, the finishing chip, rubbing and power, from the JSON of `deflect predict`."""
     broken = drawing_violations(*deviation_arrays(data), tables)
-    names = {p["name"] for p in finishing(tables)}
+    springs = {p["name"]: p.get("spring", 0) for p in finishing(tables)}
     for record in data["passes"]:
-        if record["name"] not in names:
+        if record["name"] not in springs:
             continue
-        last = max(s["cut"] for s in record["stations"])
+        # the finishing cut is judged; its spring cuts take the micrometres the wall gave back, as meant
+        last = max(s["cut"] for s in record["stations"]) - springs[record["name"]]
         final = [s for s in record["stations"] if s["cut"] == last]
         met = np.array([s["met_depth_mm"] for s in final])
         chip = np.array([s["chip_thickness_mm"] for s in final])
@@ -242,7 +243,7 @@ def json_violations(data: dict, tables: dict) -> list[str]:
             full = met >= 0.5 * np.median(met[met > 0.0])
             if chip[full].min() < tune.MIN_CHIP_MM:
                 broken.append(f"{record['name']}: chip {1000 * chip[full].min():.1f} um")
-        if any(s["rubbing"] for s in record["stations"]):
+        if any(s["rubbing"] for s in record["stations"] if s["cut"] <= last):
             broken.append(f"{record['name']}: rubs")
     if data["peak_power_kW"] > data["machine_power_kW"]:
         broken.append("power")
@@ -253,14 +254,15 @@ def plan_violations(pred, process, tables: dict) -> list[str]:
     """The same on a `Prediction` (the brute force): the drawing checked here, the chip with tune's rule."""
     d = pred.deviation
     broken = drawing_violations(d.points_rz, d.normals, d.deviation_mm, tables)
-    names = {p["name"] for p in finishing(tables)}
+    springs = {p["name"]: p.get("spring", 0) for p in finishing(tables)}
     for p in pred.passes:
-        if p.name not in names:
+        if p.name not in springs:
             continue
-        thinnest = tune.thinnest_chip_mm(p.cuts[-1])
+        cuts = p.cuts[:len(p.cuts) - springs[p.name]]
+        thinnest = tune.thinnest_chip_mm(cuts[-1])
         if thinnest is not None and thinnest < tune.MIN_CHIP_MM:
             broken.append(f"{p.name}: chip {1000 * thinnest:.1f} um")
-        if any(t.rubbing.any() for t in p.cuts):
+        if any(t.rubbing.any() for t in cuts):
             broken.append(f"{p.name}: rubs")
     if pred.peak_power_kw > process.machine.power_kw:
         broken.append("power")
