@@ -42,6 +42,8 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     if change.key == "spring":
         count = {0: "no spring pass", 1: "one spring pass", 2: "two spring passes"}.get(after, f"{after} spring passes")
         return f"{name}: {count}"
+    if change.key == "speed":
+        return f"{name}: cutting speed {before:g} -> {after:g} m/min (within the machine's power)"
     if change.key == "tool":
         return f"{name}: finish with {after} instead of {before}"
     if change.key == "offset":

@@ -18,7 +18,8 @@ surface that leaves its allowance):
   feeds and tools as they are, and for every mix above at the fastest feed the roughness allows;
 * the compensated contour: the finishing target programmed off the drawn contour by the predicted push-off,
   corrected over four rounds for the same reason (the round nearest to holding is kept);
-* the order: the bore finished before the od, or the od before the bore.
+* the order: the bore finished before the od, or the od before the bore;
+* the cutting speed, lowered on a pass that asks more power than the machine has (in every option).
 The part's compliance does not depend on the feed, the tool, the spring cuts or (to micrometres) the
 offsets, so every variant reuses the key stations already computed (`simulate.plan_compliance` with a shared
 memo); only a changed allowance or order costs new shell models. The surfaces are searched one at a time
@@ -57,6 +58,9 @@ COMPENSATION_ROUNDS = 4         # compensated contour: corrected after each pred
 COMPENSATION_RELAXATION = 0.6   # share of what is left that the later rounds correct
 COMPENSATION_POINTS = 25        # pairs along the finished stretch
 OFFSET_STEP_MM = 0.001          # offsets and compensation are given to 1 um (a control's wear offset step)
+SPEED_STEP_M_MIN = 5.0          # a lowered cutting speed is given in steps of this
+SPEED_MARGIN = 0.95             # ... and keeps the peak power this share of the machine's
+SPEED_ROUNDS = 3                # lowered and checked again at most this often
 
 
 @dataclass(frozen=True)
@@ -498,13 +502,53 @@ def search_remedies(job, progress) -> TuneResult:
     if "tolerance" not in job.tables:
         raise InputError("tolerance", "missing; give [tolerance] (od, id, wall, ra) for the remedies to aim at")
     tolerances = tolerance_from_table(job.tables["tolerance"])
-    search = Search(job=job, tolerances=tolerances, progress=progress)
-    current = search.evaluate((), with_ranges=True)
+    given = Search(job=job, tolerances=tolerances, progress=progress)
+    current = given.evaluate((), with_ranges=True)
     if current is None:
         process_from_job(job)          # raises the job's own error, if that is what failed
         raise ModelError("the job as given cannot be predicted")
+    # a pass that asks more power than the machine has runs slower in every option
+    slower = slowed_to_power(given, current)
+    search = given if not slower else Search(job=job_with(job, slower), tolerances=tolerances, memo=given.memo,
+                                              progress=progress)
+    result = searched(search, current, tolerances, as_is=bool(slower))
+    if slower:
+        result = replace(result, options=[replace(o, changes=slower + o.changes) for o in result.options],
+                         evaluations=result.evaluations + len([k for k in given.seen if k != "process"]))
+    return result
+
+
+def slowed_to_power(search: Search, current: Outcome) -> tuple[Change, ...]:
+    """Cutting speed lowered, in steps of SPEED_STEP_M_MIN, on every pass whose peak power is over the
+    machine's. The power is P = F_c v_c / 60000; the cutting force rises a little as the speed falls
+    (Kienzle's speed factor), so the speed is scaled by the power's excess and checked again, up to
+    SPEED_ROUNDS times; SPEED_MARGIN keeps it clear of the limit. () when every pass is within power."""
     process = search_process(search)
-    surfaces = surfaces_of(process, current.prediction)
+    speeds = {p.name: p.speed_m_min for p in process.passes}
+    outcome = current
+    for _ in range(SPEED_ROUNDS):
+        over = [(p.name, result.peak_power_kw) for result, p in zip(outcome.prediction.passes, process.passes)
+                if result.peak_power_kw > process.machine.power_kw]
+        if not over:
+            break
+        for name, peak in over:
+            scaled = SPEED_MARGIN * speeds[name] * process.machine.power_kw / peak
+            speeds[name] = max(SPEED_STEP_M_MIN, SPEED_STEP_M_MIN * math.floor(scaled / SPEED_STEP_M_MIN))
+        changes = tuple(Change(p.name, "speed", p.speed_m_min, speeds[p.name]) for p in process.passes
+                        if speeds[p.name] != p.speed_m_min)
+        outcome = search.evaluate(changes)
+        if outcome is None:
+            return ()
+    return tuple(Change(p.name, "speed", p.speed_m_min, speeds[p.name]) for p in process.passes
+                 if speeds[p.name] != p.speed_m_min)
+
+
+def searched(search: Search, current: Outcome, tolerances, as_is: bool) -> TuneResult:
+    """The search proper (module docstring), from the plan as given (or slowed to the machine's power; then
+    as_is puts that plan itself among the options)."""
+    process = search_process(search)
+    first = search.evaluate(())
+    surfaces = surfaces_of(process, first.prediction if first is not None else current.prediction)
 
     # per surface, every family of remedy with the others as they are
     families: dict[str, list[tuple[Change, ...]]] = {"grid": [], "offset": [], "compensate": []}
@@ -532,7 +576,7 @@ def search_remedies(job, progress) -> TuneResult:
     plans.append(best + order_change(process, surfaces))
     plans.append(offset_wear_only(search, surfaces))
     options = []
-    for changes in dict.fromkeys(p for p in plans if p):
+    for changes in dict.fromkeys(p for p in plans + ([()] if as_is else []) if p or as_is):
         outcome = search.evaluate(changes)
         if outcome is not None and not outcome.meets:
             # searched one surface at a time, the offsets were centred with the other surfaces as they were;

@@ -659,3 +659,25 @@ def test_spring_cut_pushes_off_by_its_own_force(folder):
     assert cutting.sum() > 0.5 * len(cutting) and (spring.passive_n[cutting] > 0.0).all()
     expected = finish.compliance_mm_per_n[cutting] * spring.passive_n[cutting]
     assert np.all(spring.deflection_mm[cutting] >= SPRING_SHARE * expected), spring.deflection_mm[cutting].max()
+
+
+# ---------------------------------------------------------------------------------------------------
+# the cutting speed, where the machine's power limits it
+
+def test_a_pass_over_the_machines_power_runs_slower_in_every_option(folder):
+    """P = F_c v_c / 60000 (REFERENCE.md 1.1; the force hardly changes with speed): a pass that asks more
+    than the machine has is slowed in every option, and an option said to meet keeps its predicted peak
+    power within the machine's."""
+    tables = sleeve()
+    tables["machine"]["power_kw"] = 0.25            # the roughing pass asks about 0.38 kW as given
+    as_given = predicted_json(folder, "low-power-given", tables)
+    over = {p["name"] for p in as_given["passes"] if p["peak_power_kW"] > 0.25}
+    assert over
+    data = tuned(write_job(folder, "low-power", tables))
+    assert any(o["meets"] for o in data["options"])
+    for option in data["options"]:
+        slower = {c["pass"] for c in option["changes"] if c["key"] == "speed" and c["to"] < c["from"]}
+        assert slower == over
+        if option["meets"]:
+            predicted = predicted_json(folder, "low-power-check", with_changes(tables, option["changes"]))
+            assert predicted["peak_power_kW"] <= predicted["machine_power_kW"]
