@@ -5,8 +5,8 @@ ranked list of options, each a list of `Change`s to the job's [[pass]] tables. E
 from a full prediction of the job with its changes written in (`simulate.simulate`, with the ranges), so
 `deflect predict` on that job reproduces them.
 
-The search, for every finished od and bore (the pass that finishes it, and the pass before it on the same
-surface that leaves its allowance):
+The search, for every finished od, bore and face (the pass that finishes it, and the pass before it on the
+same surface that leaves its allowance):
 * a ladder of feeds (ISO 3 preferred numbers, R10), fastest first, from the largest the roughness limit
   allows (`cutting.theoretical_roughness`, the circular cusp); the material left falls with the feed, so the
   fastest feed that holds the limits is found by bisection on the ladder;
@@ -20,14 +20,14 @@ surface that leaves its allowance):
   corrected over four rounds for the same reason (the round nearest to holding is kept);
 * the order: the bore finished before the od, or the od before the bore;
 * the cutting speed, lowered on a pass that asks more power than the machine has (in every option).
-The part's compliance does not depend on the feed, the tool, the spring cuts or (to micrometres) the
-offsets, so every variant reuses the key stations already computed (`simulate.plan_compliance` with a shared
-memo); only a changed allowance or order costs new shell models. The surfaces are searched one at a time
+The part's compliance does not depend on the feed, the tool or (to micrometres) the offsets, so every variant
+reuses the key stations already computed (`simulate.plan_compliance` with a shared memo); only a changed
+allowance, order or number of spring cuts costs new shell models. The surfaces are searched one at a time
 with the others as they are, then merged and verified together.
 
 Limits an option must keep: the tolerances (`conformance.check_features`), a chip no thinner than
-`MIN_CHIP_MM` on the finishing passes (below it the edge rubs instead of cutting), no rubbing station, and
-the machine's power.
+`MIN_CHIP_MM` on the finishing cuts (below it the edge rubs instead of cutting; spring cuts are judged by what
+they leave), no rubbing station on them, and the machine's power.
 """
 
 from __future__ import annotations
