@@ -341,10 +341,7 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         surface_of = {p.name: p.surface for p in process.passes}
         with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
                                show_eta=False, hidden=quiet or as_json) as bar:
-            def progress():
-                if bar.pos < SEARCH_STEPS_SHOWN - 1:
-                    bar.update(1)
-            result = search_remedies(job, progress=progress)
+            result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         written = write_contours(job, result, contour_dir) if contour_dir else []
@@ -357,6 +354,15 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         click.echo(tune_report(result, surface_of, job.units, job.title, walls))
         for path in written:
             click.echo(f"wrote {path}")
+
+
+def short_of_the_end(bar, length: int):
+    """A step of the progress bar per call, stopping one short of its end: a search's length is known only
+    when it is over, and then the caller fills the bar."""
+    def progress():
+        if bar.pos < length - 1:
+            bar.update(1)
+    return progress
 
 
 SEARCH_STEPS_SHOWN = 60    # the progress bar's length: about the plans a two-surface job takes
@@ -375,11 +381,8 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     recommended = result.options[0].changes if result.options else ()
     with click.progressbar(length=WALL_STEPS_SHOWN, label="trying wall thicknesses", file=sys.stderr,
                            show_eta=False, hidden=quiet) as bar:
-        def progress():
-            if bar.pos < WALL_STEPS_SHOWN - 1:
-                bar.update(1)
         return revise_walls(data, job_file, job, recommended, tolerance_from_table(job.tables["tolerance"]),
-                            progress=progress)
+                            progress=short_of_the_end(bar, WALL_STEPS_SHOWN))
 
 
 def write_contours(job, result, folder: str) -> list:

@@ -22,15 +22,14 @@ import numpy as np
 from deflect.errors import InputError, ModelError
 from deflect.job import MM_PER_INCH, parse_job
 from deflect.section import Section, mass_properties
-from deflect.simulate import kept_workers
-from deflect.tune import Change, Outcome, Search, recentred, search_process, surfaces_of
+from deflect.simulate import CYLINDER_COS, kept_workers
+from deflect.tune import Change, Outcome, Search, recentred, surfaces_of
 
 SHORTEST_WALL_MM = 2.0          # an OD and a bore facing each other over less than this are not a wall
 THIN_SHARE = 0.25               # ... nor are they when thicker than this share of the OD radius (a hub, a flange)
 STEP_MM = 0.05                  # the ladder of wall thicknesses tried
 THINNEST_SHARE = 0.3            # thinnest wall tried, as a share of the drawn one
 THICKEST_EXTRA = 1.0            # thickest wall tried: drawn + this share of the drawn one
-CYLINDER_COS = 0.999
 SAMPLE_MM = 0.1
 NODE_SLACK_MM = 2.0             # outline nodes on the bore's radius this far beyond the wall's height still move
                                 # (the fillets at its ends shorten the cylindrical stretch)
@@ -107,7 +106,7 @@ def predict_wall(data: dict, path: str, wall: Wall, thickness_mm: float, changes
         if outcome is None:
             return None
         if not outcome.meets:
-            changes = recentred(search, changes, surfaces_of(search_process(search), outcome.prediction))
+            changes = recentred(search, changes, surfaces_of(search.process, outcome.prediction))
         return search.evaluate(changes, with_ranges=True)
     except (InputError, ModelError):
         return None

@@ -287,11 +287,18 @@ def compensated(target: CutPath, p: Pass) -> CutPath:
     this is the outward normal; where the path runs onto a face or a fillet, the face is not cut into."""
     if not p.compensation:
         return target
-    positions, offsets = np.array(p.compensation).T
-    along = target.points_rz[:, 0 if p.surface == "face" else 1]
-    shift = np.interp(along, positions, offsets)
+    shift = compensation_mm(target.points_rz, p)
     return CutPath(points_rz=target.points_rz + shift[:, None] * _in_feed(p.surface)[None, :],
                    normals=target.normals, feed_dir=target.feed_dir)
+
+
+def compensation_mm(points_rz: np.ndarray, p: Pass) -> np.ndarray:
+    """The pass's programmed compensation at each point [mm]: interpolated at its position (z for od / id,
+    r for face) and held beyond the pairs given; 0 without compensation."""
+    if not p.compensation:
+        return np.zeros(len(points_rz))
+    positions, offsets = np.array(p.compensation).T
+    return np.interp(points_rz[:, 0 if p.surface == "face" else 1], positions, offsets)
 
 
 def _in_feed(surface: str) -> np.ndarray:

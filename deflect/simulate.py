@@ -228,34 +228,36 @@ def plan_compliance(job, process: Process, settings: SimulationSettings, nominal
     Returns {i: cut paths of pass i, (i, j): (K, 3, 3) compliance along cut j of pass i}.
     """
     memo = {} if memo is None else memo
-    actual = cut_paths(process, nominal_rz, settings.station_spacing_mm, memo)
+    actual, actual_parts = laid_out(process, nominal_rz, settings.station_spacing_mm, memo)
     bare = without_corrections(process)
-    geometry = cut_paths(bare, nominal_rz, settings.station_spacing_mm, memo) if bare is not process else actual
+    geometry, parts = (laid_out(bare, nominal_rz, settings.station_spacing_mm, memo) if bare is not process
+                       else (actual, actual_parts))
     if any(len(geometry[i]) != len(actual[i]) for i in actual):
-        bare, geometry = process, actual
-    compliance = compliance_along_cuts(job, bare, geometry, settings, memo)
+        bare, geometry, parts = process, actual, actual_parts
+    compliance = compliance_along_cuts(job, bare, geometry, parts, settings, memo)
     plan = dict(actual)
     for (i, j), values in compliance.items():
         plan[(i, j)] = resampled(values, geometry[i][j], actual[i][j])
     return plan
 
 
-def cut_paths(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict) -> dict[int, list[CutPath]]:
-    """{i: the cuts of pass i}, each pass's cuts laid out on the part cut to the earlier passes' targets.
-    Kept in memo by the part before the pass and the pass's geometry (feed, speed and tool do not change
-    where a pass cuts)."""
-    paths, current = {}, process.stock_rz
+def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict):
+    """({i: the cuts of pass i}, {i: the part before each of them}): each pass's cuts laid out on the part
+    cut exactly to the earlier targets. Kept in memo by the part before the pass and the pass's geometry
+    (feed, speed and tool do not change where a pass cuts)."""
+    paths, parts, current = {}, {}, process.stock_rz
     for i, p in enumerate(process.passes):
         name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
                 p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring)
         if name not in memo:
-            cuts = cuts_for_pass(current, nominal_rz, p, spacing_mm)
+            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm), []
             after = current
             for path in cuts:
+                befores.append(after)
                 after = cut_to_target(after, path, p)
-            memo[name] = (cuts, after)
-        paths[i], current = memo[name]
-    return paths
+            memo[name] = (cuts, befores, after)
+        paths[i], parts[i], current = memo[name]
+    return paths, parts
 
 
 def cut_to_target(current_rz: np.ndarray, path: CutPath, p: Pass, upto: int | None = None) -> np.ndarray:
@@ -271,17 +273,17 @@ def without_corrections(process: Process) -> Process:
     return replace(process, passes=[replace(p, offset_mm=0.0, compensation=()) for p in process.passes])
 
 
-def compliance_along_cuts(job, process: Process, paths: dict, settings: SimulationSettings,
+def compliance_along_cuts(job, process: Process, paths: dict, parts: dict, settings: SimulationSettings,
                           memo: dict) -> dict[tuple[int, int], np.ndarray]:
-    """{(i, j): (K, 3, 3)} compliance along every cut, from its key stations (the ones not in memo are
-    computed, on the cores at once, and added to it)."""
+    """{(i, j): (K, 3, 3)} compliance along every cut (paths and the parts before them from `laid_out`), from
+    its key stations (the ones not in memo are computed, on the cores at once, and added to it)."""
     behind_mm, lead_in = behind_and_lead_in(settings)
     material = (job.material.E_mpa, job.material.nu, tuple((b.r_range, b.z_range) for b in job.held), settings)
     owners, tasks, wanted = [], [], {}
-    current = process.stock_rz
     for i, p in enumerate(process.passes):
         cut_before = None                    # depth met by the pass's previous cut on the same path
         for j, path in enumerate(paths[i]):
+            current = parts[i][j]
             placed = ("keys", current.tobytes(), path.points_rz.tobytes(), p.surface, settings)
             if placed not in memo:
                 met = met_depth(current, path, p)
@@ -299,7 +301,6 @@ def compliance_along_cuts(job, process: Process, paths: dict, settings: Simulati
                 if name not in memo and name not in wanted:
                     wanted[name] = len(tasks)
                     tasks.append((job, current, path, p, int(k), behind_mm, settings))
-            current = cut_to_target(current, path, p)
     for name, value in zip(wanted, parallel_map(key_compliance, tasks)):
         memo[name] = value
     return {(i, j): interpolated(count, keys, np.array([memo[n] for n in names]).reshape(-1, 3, 3))
@@ -500,7 +501,7 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
     return per_pass, current
 
 
-def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str]):
+def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str], memo: dict):
     """With [holding]: what the jaws' squeeze does to the surfaces finished in the chuck once they let go.
 
     A surface cut round while squeezed springs back by minus the squeeze (`deflect.clamping`); the squeeze
@@ -508,7 +509,8 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.grip.grip_in_cut_n`,
     VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
     out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
-    (None, None, 0) without [holding]."""
+    (None, None, 0) without [holding]. The squeeze per newton is kept in memo (it depends on the drawn part, the
+    holding and the points only, not on the passes)."""
     if "holding" not in job.tables:
         return None, None, 0
     holding = holding_from_table(job.tables["holding"])
@@ -516,7 +518,12 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     released, roundness = np.zeros(len(surfaces)), np.zeros(len(surfaces))
     if not machined.any():
         return released, roundness, 0
-    per_newton = released_deviation(job, holding, raw.points_rz[machined], raw.normals[machined], force_n=1.0)
+    points, normals = raw.points_rz[machined], raw.normals[machined]
+    name = ("released", job.section, holding, job.material.E_mpa, job.material.nu, points.tobytes(),
+            normals.tobytes())
+    if name not in memo:
+        memo[name] = released_deviation(job, holding, points, normals, force_n=1.0)
+    per_newton = memo[name]
     by_name = {p.name: p for p in process.passes}
     passes = [by_name[n] for n, m in zip(names, machined) if m]
     rpm = np.array([float(spindle_speed_rpm(p.speed_m_min, 2.0 * r, process.machine.max_rpm))
@@ -635,7 +642,7 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
 
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
-    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names)
+    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
                                  surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness)

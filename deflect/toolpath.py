@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from deflect.inprocess import POLYGON_CHORD_MM, cuts_for_pass
+from deflect.inprocess import POLYGON_CHORD_MM, compensation_mm, cuts_for_pass
 from deflect.process import Pass, Process
 
 CONTOUR_SPACING_MM = 0.5          # points along the contour
@@ -32,9 +32,7 @@ def compensated_contour(job, process: Process, p: Pass) -> np.ndarray:
     """(K, 3): Z, X (diameter) and the compensation a side [mm] along the pass's final target, in feed order."""
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
     final = cuts_for_pass(nominal_rz, nominal_rz, p, CONTOUR_SPACING_MM)[-1]
-    positions, offsets = (np.array(p.compensation).T if p.compensation else (np.zeros(2), np.zeros(2)))
-    along = final.points_rz[:, 0 if p.surface == "face" else 1]
-    shift = np.interp(along, positions, offsets)
+    shift = compensation_mm(final.points_rz, p)
     keep = _corners(final.points_rz)
     r, z = final.points_rz[keep].T
     return np.column_stack([z, 2.0 * r, shift[keep]])

@@ -36,6 +36,7 @@ import copy
 import itertools
 import math
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 
 import numpy as np
 
@@ -45,7 +46,7 @@ from deflect.errors import InputError, ModelError
 from deflect.fits import Tolerances, tolerance_from_table
 from deflect.process import process_from_job
 from deflect.results import Prediction
-from deflect.simulate import kept_workers, simulate
+from deflect.simulate import CYLINDER_COS, kept_workers, simulate
 
 # ISO 3 preferred numbers, series R10 (rounded values): the feeds a machinist would program.
 FEED_LADDER_MM = (0.5, 0.4, 0.315, 0.25, 0.2, 0.16, 0.125, 0.1, 0.08, 0.063, 0.05, 0.04, 0.032, 0.025)
@@ -115,6 +116,11 @@ class Search:
     seen: dict = field(default_factory=dict)
     progress: object = None
 
+    @cached_property
+    def process(self):
+        """The checked machining job as given (the plan every change is made to)."""
+        return process_from_job(self.job)
+
     def evaluate(self, changes: tuple[Change, ...], with_ranges: bool = False) -> Outcome | None:
         """The plan with these changes predicted and checked; None if the changed job is not valid (a feed
         the nose cannot take, a target through the wall) or the cut cannot be modelled."""
@@ -134,7 +140,7 @@ class Search:
             return None
         checks = check_features(pred, process, self.tolerances)
         return Outcome(changes=changes, cycle_time_s=pred.cycle_time_s, max_deviation_mm=worst_deviation_mm(pred),
-                       ra_um=max((c.low for c in checks if c.surface == "ra"), default=finishing_ra(pred, process)),
+                       ra_um=finishing_ra(pred, process),
                        mass_g=pred.predicted_mass_g.value, checks=checks,
                        broken=broken_limits(pred, process, checks), prediction=pred)
 
@@ -331,17 +337,22 @@ def holds_surface(surface: Surface):
     return holds
 
 
-def grid_options(search: Search, surface: Surface, ra_limit) -> list[Outcome]:
-    """For every mix of spring cuts, finishing allowance and tool: the fastest feed that holds."""
+def settings_of(search: Search, surface: Surface, ra_limit):
+    """Every mix of spring cuts, finishing allowance (as now, or LIGHT_ALLOWANCE_MM) and tool for a surface:
+    (its changes, the surface with that tool, the feeds the roughness allows with it, fastest first)."""
     allowances = [None] if surface.before is None else sorted(
         {surface.before.allowance_mm, min(surface.before.allowance_mm, LIGHT_ALLOWANCE_MM)}, reverse=True)
-    found = []
     for spring, allowance, tool in itertools.product(SPRING_CUTS, allowances, surface.tools):
         variant = replace(surface, finish=replace(surface.finish, tool=tool))
-        feeds = feed_ladder(variant, search_process(search), ra_limit)
+        yield setting_changes(surface, spring, allowance, tool), variant, feed_ladder(variant, search.process, ra_limit)
+
+
+def grid_options(search: Search, surface: Surface, ra_limit) -> list[Outcome]:
+    """For every mix of spring cuts, finishing allowance and tool: the fastest feed that holds."""
+    found = []
+    for changes, variant, feeds in settings_of(search, surface, ra_limit):
         beat_s = min((o.cycle_time_s for o in found), default=math.inf)
-        outcome = fastest_feed(search, setting_changes(surface, spring, allowance, tool), variant, feeds,
-                               holds_surface(surface), beat_s)
+        outcome = fastest_feed(search, changes, variant, feeds, holds_surface(surface), beat_s)
         if outcome is not None:
             found.append(outcome)
     return found
@@ -354,16 +365,12 @@ def offset_grid_options(search: Search, surface: Surface, ra_limit, beat_s: floa
     are skipped (the offset changes the time by a hair)."""
     if surface.kind not in ("od", "id"):
         return []
-    allowances = [None] if surface.before is None else sorted(
-        {surface.before.allowance_mm, min(surface.before.allowance_mm, LIGHT_ALLOWANCE_MM)}, reverse=True)
     found = []
     holds = holds_surface(surface)
-    for spring, allowance, tool in itertools.product(SPRING_CUTS, allowances, surface.tools):
-        variant = replace(surface, finish=replace(surface.finish, tool=tool))
-        feeds = feed_ladder(variant, search_process(search), ra_limit)
+    for changes, _, feeds in settings_of(search, surface, ra_limit):
         if not feeds:
             continue
-        base = setting_changes(surface, spring, allowance, tool) + feed_change(surface, feeds[0])
+        base = changes + feed_change(surface, feeds[0])
         plain = search.evaluate(base)
         if plain is None or plain.cycle_time_s >= beat_s:
             continue
@@ -375,17 +382,11 @@ def offset_grid_options(search: Search, surface: Surface, ra_limit, beat_s: floa
     return found
 
 
-def search_process(search: Search):
-    if "process" not in search.seen:
-        search.seen["process"] = process_from_job(search.job)
-    return search.seen["process"]
-
-
 def surface_deviation(pred: Prediction, surface: Surface) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(position along the pass, material left a side, outward normal r) on the cylindrical points the
     finishing pass finished."""
     d = pred.deviation
-    mine = np.array([n == surface.finish.name and abs(d.normals[k][0]) > 0.999 for k, n in enumerate(d.finished_by)])
+    mine = np.array([n == surface.finish.name and abs(d.normals[k][0]) > CYLINDER_COS for k, n in enumerate(d.finished_by)])
     if not mine.any():
         return np.empty(0), np.empty(0), np.empty(0)
     order = np.argsort(d.points_rz[mine, 1])
@@ -514,7 +515,7 @@ def search_remedies(job, progress) -> TuneResult:
     result = searched(search, current, tolerances, as_is=bool(slower))
     if slower:
         result = replace(result, options=[replace(o, changes=slower + o.changes) for o in result.options],
-                         evaluations=result.evaluations + len([k for k in given.seen if k != "process"]))
+                         evaluations=result.evaluations + len(given.seen))
     return result
 
 
@@ -523,7 +524,7 @@ def slowed_to_power(search: Search, current: Outcome) -> tuple[Change, ...]:
     machine's. The power is P = F_c v_c / 60000; the cutting force rises a little as the speed falls
     (Kienzle's speed factor), so the speed is scaled by the power's excess and checked again, up to
     SPEED_ROUNDS times; SPEED_MARGIN keeps it clear of the limit. () when every pass is within power."""
-    process = search_process(search)
+    process = search.process
     speeds = {p.name: p.speed_m_min for p in process.passes}
     outcome = current
     for _ in range(SPEED_ROUNDS):
@@ -546,7 +547,7 @@ def slowed_to_power(search: Search, current: Outcome) -> tuple[Change, ...]:
 def searched(search: Search, current: Outcome, tolerances, as_is: bool) -> TuneResult:
     """The search proper (module docstring), from the plan as given (or slowed to the machine's power; then
     as_is puts that plan itself among the options)."""
-    process = search_process(search)
+    process = search.process
     first = search.evaluate(())
     surfaces = surfaces_of(process, first.prediction if first is not None else current.prediction)
 
@@ -589,7 +590,7 @@ def searched(search: Search, current: Outcome, tolerances, as_is: bool) -> TuneR
     wear_only = search.evaluate(plans[-1], with_ranges=True) if plans[-1] else None
     return TuneResult(current=current, options=options, limiting=limiting_text(current, options),
                       offset_note=offset_note(wear_only),
-                      evaluations=len([k for k in search.seen if k != "process"]), warnings=list(process.warnings))
+                      evaluations=len(search.seen), warnings=list(process.warnings))
 
 
 def recentred(search: Search, changes: tuple[Change, ...], surfaces: list[Surface]) -> tuple[Change, ...]:
