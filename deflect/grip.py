@@ -22,7 +22,7 @@ Holding the cut (jaw chuck practice as quoted from VDI 3106 (2004) in REFERENCE.
   second safety factor S_sp of VDI 3106 on the static force is not applied: `safety` is S_z.
 Each station of every cut is checked at its own spindle speed (n = 1000 vc / (pi D), capped at the machine's
 max_rpm, `cutting.spindle_speed_rpm`), with the depth it meets on the part cut exactly to the earlier
-targets (`inprocess.cuts_for_pass`, `simulate.met_depth`): the true nominal depth, not a cap.
+targets (`simulate.laid_out`, `simulate.met_depth`): the true nominal depth, not a cap.
 
 Keeping the form: the release is linear in the grip during the cut, F_sp0 -/+ Fc at the speed of the pass
 that finishes each point, so the most grip is the force at which the first point's form reaches its limit.
@@ -46,8 +46,8 @@ from deflect.cutting import cutting_forces, spindle_speed_rpm
 from deflect.errors import InputError
 from deflect.fits import tolerance_from_table
 from deflect.holding import Contact, Holding, contact_of, holding_from_table, surface_points
-from deflect.inprocess import POLYGON_CHORD_MM, cuts_for_pass, remove
-from deflect.simulate import CYLINDER_COS, met_depth
+from deflect.inprocess import POLYGON_CHORD_MM
+from deflect.simulate import CYLINDER_COS, laid_out, met_depth
 
 HOLD_STATION_MM = 0.5        # station spacing along a cut for the grip it needs (the force changes slowly)
 SURFACE_SPACING_SHARE = 1 / 200   # finished-surface points every perimeter / 200
@@ -85,21 +85,19 @@ class CutLoads:
 def cut_loads(job, process, spacing_mm: float = HOLD_STATION_MM) -> list[CutLoads]:
     """The loads of every pass at its nominal depths (the part cut exactly to the earlier targets; the depth
     met after a corner by the simulation's own rule, `simulate.met_depth`)."""
-    nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
-    current = process.stock_rz
+    paths, parts = laid_out(process, job.section.polygon(POLYGON_CHORD_MM), spacing_mm, {})
     loads = []
-    for p in process.passes:
+    for i, p in enumerate(process.passes):
         tool = process.tools[p.tool]
         into = {"od": 1.0, "id": -1.0, "face": 0.0}[p.surface]   # the chip lies outside the target along r
         pieces = []
-        for path in cuts_for_pass(current, nominal_rz, p, spacing_mm):
+        for path, current in zip(paths[i], parts[i]):
             depth = np.atleast_1d(met_depth(current, path, p))
             forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min)
             r = path.points_rz[:, 0] + 0.5 * into * depth
             rpm = np.atleast_1d(spindle_speed_rpm(p.speed_m_min, 2.0 * np.maximum(r, 0.0), process.machine.max_rpm))
             axial = forces.passive_n if p.surface == "face" else forces.feed_n
             pieces.append((r, path.points_rz[:, 1], np.atleast_1d(forces.cutting_n), np.atleast_1d(axial), rpm))
-            current = remove(current, path, np.zeros(len(path.points_rz)), p.surface, name=f"pass '{p.name}'")
         r, z, cutting, axial, rpm = (np.concatenate(column) for column in zip(*pieces))
         loads.append(CutLoads(p.name, p.surface, r, z, cutting, axial, rpm))
     return loads
