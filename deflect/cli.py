@@ -62,9 +62,9 @@ def cli():
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 def section(job_file, as_json):
     """Mass properties and thinnest wall of the finished part in JOB_FILE."""
-    from deflect.job import read_job
-    from deflect.report import section_table
-    from deflect.section import mass_properties, min_wall
+    from deflect.geometry.section import mass_properties, min_wall
+    from deflect.job.reader import read_job
+    from deflect.output.tables import section_table
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -119,9 +119,9 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     A unit force presses into the material along the boundary normal, spread over the patch. Without
     --at, the whole boundary is mapped.
     """
-    from deflect.compliance import Patch, WallModel
-    from deflect.job import MM_PER_INCH, read_job
-    from deflect.report import compliance_table
+    from deflect.job.reader import MM_PER_INCH, read_job
+    from deflect.mechanics.compliance import Patch, WallModel
+    from deflect.output.tables import compliance_table
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -145,7 +145,7 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
                "patch_mm": {"length": length * factor, "width": width * factor},
                "tolerance": tolerance}
     if plot_file and not points:
-        from deflect.plots import compliance_map_plot
+        from deflect.output.figures import compliance_map_plot
         try:
             compliance_map_plot(job.section, results, job.title, plot_file)
         except OSError as exc:
@@ -161,12 +161,12 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
 def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
     toleranced features (empty without [tolerance])."""
-    from deflect.conformance import check_features
-    from deflect.fits import tolerance_from_table
-    from deflect.job import read_job
-    from deflect.materials import require_cutting_constants
-    from deflect.process import process_from_job
-    from deflect.simulate import simulate
+    from deflect.decisions.conformance import check_features
+    from deflect.job.fits import tolerance_from_table
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.reader import read_job
+    from deflect.machining.simulate import simulate
+    from deflect.machining.targets import process_from_job
 
     job = read_job(job_file)
     try:
@@ -189,10 +189,10 @@ def run_prediction(job_file: str, show_progress: bool):
 def write_outputs(pred, csv_dir, plot_dir) -> list:
     written = []
     if csv_dir:
-        from deflect.export import write_csv
+        from deflect.output.csv_files import write_csv
         written += write_csv(pred, csv_dir)
     if plot_dir:
-        from deflect.plots import predict_plots
+        from deflect.output.figures import predict_plots
         written += predict_plots(pred, plot_dir)
     return written
 
@@ -211,8 +211,8 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
     nominal with its range for the spread of the force constants, cycle time and peak power.
     """
-    from deflect.payload import prediction_payload
-    from deflect.report_predict import predict_report
+    from deflect.output.predict_json import prediction_payload
+    from deflect.output.predict_report import predict_report
 
     pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
     written = write_outputs(pred, csv_dir, plot_dir)
@@ -231,9 +231,9 @@ def demo(out_dir):
     """Predict the shipped example: a thin-walled aluminium instrument housing (data/examples/housing.toml)."""
     from pathlib import Path
 
-    from deflect.materials import library_path
-    from deflect.payload import prediction_payload
-    from deflect.report_predict import predict_report
+    from deflect.job.materials import library_path
+    from deflect.output.predict_json import prediction_payload
+    from deflect.output.predict_report import predict_report
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     click.echo(f"deflect demo: predicting {job_file}", err=True)
@@ -268,9 +268,9 @@ def clamp(job_file, as_json, plot_file, plot_at):
     go, the roundness and lobes after release, and what widens the window, each computed. Estimates: the chuck
     maker's limits and the machine's interlocks come first.
     """
-    from deflect.grip import clamp_study, nearest_point, released_profile
-    from deflect.job import MM_PER_INCH, read_job
-    from deflect.report_clamp import clamp_payload, clamp_report
+    from deflect.job.reader import MM_PER_INCH, read_job
+    from deflect.machining.grip import clamp_study, nearest_point, released_profile
+    from deflect.output.clamp_report import clamp_payload, clamp_report
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -298,7 +298,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
         exc.file = exc.file or job_file
         raise
     if profile is not None:
-        from deflect.plots import released_shape_plot
+        from deflect.output.figures import released_shape_plot
         try:
             released_shape_plot(profile, job.title, plot_file)
         except OSError as exc:
@@ -327,11 +327,11 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
-    from deflect.job import read_job
-    from deflect.materials import require_cutting_constants
-    from deflect.process import process_from_job
-    from deflect.report_tune import tune_payload, tune_report
-    from deflect.tune import tune as search_remedies
+    from deflect.decisions.tune import tune as search_remedies
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.reader import read_job
+    from deflect.machining.targets import process_from_job
+    from deflect.output.tune_report import tune_payload, tune_report
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -370,12 +370,12 @@ WALL_STEPS_SHOWN = 6       # and per wall of the design revision
 
 
 def revise_walls_of(job_file: str, job, result, quiet: bool):
-    """The design revision with the first option's finishing (`deflect.design`)."""
+    """The design revision with the first option's finishing (`deflect.decisions.design`)."""
     import tomllib
     from pathlib import Path
 
-    from deflect.design import revise_walls
-    from deflect.fits import tolerance_from_table
+    from deflect.decisions.design import revise_walls
+    from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
     recommended = result.options[0].changes if result.options else ()
@@ -389,9 +389,10 @@ def write_contours(job, result, folder: str) -> list:
     """CSV and ISO 6983 files of every compensated pass of the best option that has one."""
     from pathlib import Path
 
-    from deflect.process import process_from_job
-    from deflect.toolpath import compensated_contour, contour_csv, iso6983_block
-    from deflect.tune import job_with
+    from deflect.decisions.tune import job_with
+    from deflect.machining.targets import process_from_job
+    from deflect.machining.toolpath import compensated_contour
+    from deflect.output.programs import contour_csv, iso6983_block
 
     option = next((o for o in result.options if any(c.key == "compensate" for c in o.changes)), None)
     if option is None:

@@ -18,9 +18,9 @@ import time  # noqa: E402
 
 import numpy as np  # noqa: E402
 
-import deflect.shell.harmonic as harmonic  # noqa: E402
-from deflect.shell.harmonic import HarmonicShell, ShellLoad, compliance  # noqa: E402
-from deflect.shell.mesh import ShellMesh  # noqa: E402
+import deflect.mechanics.shell.harmonic as harmonic  # noqa: E402
+from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, compliance  # noqa: E402
+from deflect.mechanics.shell.mesh import ShellMesh  # noqa: E402
 
 E_MPA, NU = 70000.0, 0.33
 WALL_R, WALL_T, HEIGHT, BOTTOM_T = 24.5, 1.0, 40.0, 3.0

@@ -2,7 +2,7 @@
 
 Runs the simulation in fresh child processes, so that the thread limits are set before numpy is imported:
   * one core:      BLAS/OpenMP threads limited to 1 and the key stations' shell models computed one after
-                   another (deflect.simulate.MAX_WORKERS = 1);
+                   another (deflect.machining.simulate.MAX_WORKERS = 1);
   * 1 thread:      BLAS/OpenMP threads limited to 1, the key stations spread over processes as shipped;
                    this is how `deflect demo` runs (deflect.cli sets the BLAS threads to 1 unless the user
                    has set them);
@@ -31,9 +31,9 @@ THREAD_VARIABLES = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"
 
 def measure(spacing_mm: float | None, one_core: bool) -> dict:
     """One timed simulation of the housing (runs in the child process)."""
-    import deflect.simulate as simulate_module
-    from deflect.job import read_job
-    from deflect.process import process_from_job
+    import deflect.machining.simulate as simulate_module
+    from deflect.job.reader import read_job
+    from deflect.machining.targets import process_from_job
 
     if one_core:
         simulate_module.MAX_WORKERS = 1

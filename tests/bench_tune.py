@@ -20,9 +20,9 @@ TARGET_S = 20.0
 
 
 def child() -> None:
-    import deflect.simulate as simulate_module
-    from deflect.job import read_job
-    from deflect.tune import tune
+    import deflect.machining.simulate as simulate_module
+    from deflect.decisions.tune import tune
+    from deflect.job.reader import read_job
 
     computed = [0]
     original = simulate_module.parallel_map
@@ -46,8 +46,8 @@ def child() -> None:
     if "--design" in sys.argv:
         import tomllib
 
-        from deflect.design import revise_walls
-        from deflect.fits import tolerance_from_table
+        from deflect.decisions.design import revise_walls
+        from deflect.job.fits import tolerance_from_table
         start = time.perf_counter()
         walls = revise_walls(tomllib.loads(HOUSING.read_text()), str(HOUSING), job, first.changes,
                              tolerance_from_table(job.tables["tolerance"]))

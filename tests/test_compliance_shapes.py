@@ -1,6 +1,6 @@
 """Believable compliance on the shapes a turner meets, and the `deflect compliance` command's refusals.
 
-Shapes (through `deflect.compliance.WallModel`, aluminium E 68900 MPa, nu 0.33, the default 2 x 2 mm patch):
+Shapes (through `deflect.mechanics.compliance.WallModel`, aluminium E 68900 MPa, nu 0.33, the default 2 x 2 mm patch):
 a cup's rim against its wall next to the bottom, a flange held at its rim, a conical wall, a disc held at its
 hub and loaded axially, a thick sleeve against a thin one. These are orderings and ratios that follow from
 beam, plate and shell bending (a free edge gives more than a supported one; stiffness grows like t^3), not
@@ -11,7 +11,7 @@ thick sleeve rim 27.7; cone rim / a third of the way up 7.9.
 Command line (`deflect.cli.main`, job files in tmp_path with the material inline): a held box that holds
 nothing, an --at point far from the boundary, a patch longer than its face or wider than half the
 circumference, and a part with no [[held]] box each end with exit code 2 and one `error:` line naming the key,
-never a traceback. Rules as in `deflect/compliance.py`: an --at point farther than max(1 mm, 2 % of the part's
+never a traceback. Rules as in `deflect/mechanics/compliance.py`: an --at point farther than max(1 mm, 2 % of the part's
 size) from the boundary is refused; a patch longer than the face it sits on (between corners turning more than
 45 deg) is refused; a patch whose half-width W / (2 r) exceeds pi / 2 is refused.
 """
@@ -22,9 +22,9 @@ import numpy as np
 import pytest
 
 from deflect.cli import main
-from deflect.compliance import Patch, WallModel
-from deflect.section import section_from_outline
-from deflect.shell.midsurface import HeldBox
+from deflect.geometry.boxes import HeldBox
+from deflect.geometry.section import section_from_outline
+from deflect.mechanics.compliance import Patch, WallModel
 
 E_MPA, NU, DENSITY = 68900.0, 0.33, 2.70
 FAR_APART = 10.0    # the issue: "far more compliant" means more than ten times

@@ -5,7 +5,10 @@ import math
 import numpy as np
 import pytest
 
-from deflect.cutting import (
+from deflect.errors import InputError, ModelError
+from deflect.job.materials import load_library, material_from_job
+from deflect.job.tooling import Tool
+from deflect.mechanics.cutting import (
     SPEED_CORRECTION_FLOOR_M_MIN,
     chip_geometry,
     cutting_forces,
@@ -16,9 +19,6 @@ from deflect.cutting import (
     spindle_speed_rpm,
     theoretical_roughness,
 )
-from deflect.errors import InputError, ModelError
-from deflect.materials import load_library, material_from_job
-from deflect.tooling import Tool
 
 ROUND_OFF = 1e-12   # identical arithmetic in another order
 

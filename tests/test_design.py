@@ -1,4 +1,4 @@
-"""Design revision (`deflect.design`): the walls it finds, the redrawn part, and the thinnest wall that holds.
+"""Design revision (`deflect.decisions.design`): the walls it finds, the redrawn part, and the thinnest wall that holds.
 
 Checks:
 * the housing has one thin wall, between the OD 50 and the bore 47.6, 1.2 mm (the drawing's numbers);
@@ -18,11 +18,11 @@ from pathlib import Path
 
 import pytest
 
-from deflect.design import STEP_MM, predict_wall, revise_walls, revised_data, walls_of
-from deflect.fits import tolerance_from_table
-from deflect.job import parse_job, read_job
-from deflect.section import mass_properties
-from deflect.tune import tune
+from deflect.decisions.design import STEP_MM, predict_wall, revise_walls, revised_data, walls_of
+from deflect.decisions.tune import tune
+from deflect.geometry.section import mass_properties
+from deflect.job.fits import tolerance_from_table
+from deflect.job.reader import parse_job, read_job
 
 HOUSING = Path(__file__).resolve().parents[1] / "data" / "examples" / "housing.toml"
 DATA = tomllib.loads(HOUSING.read_text())

@@ -1,4 +1,4 @@
-"""ISO 286 limits and fits (`deflect.fits`) against the standard's tables, its formula and the job's keys.
+"""ISO 286 limits and fits (`deflect.job.fits`) against the standard's tables, its formula and the job's keys.
 
 References
 ----------
@@ -17,8 +17,16 @@ import math
 import pytest
 
 from deflect.errors import InputError
-from deflect.fits import (STANDARD_TOLERANCE_ROWS, DiameterLimits, Fit, Tolerances, limits_of_fit, parse_fit,
-                          standard_tolerance_um, tolerance_from_table)
+from deflect.job.fits import (
+    STANDARD_TOLERANCE_ROWS,
+    DiameterLimits,
+    Fit,
+    Tolerances,
+    limits_of_fit,
+    parse_fit,
+    standard_tolerance_um,
+    tolerance_from_table,
+)
 
 ROUND_OFF_MM = 1e-12  # um / 1000 in floating point
 KEY = "tolerance.od"

@@ -1,12 +1,12 @@
-"""Unit tests of deflect.shell.harmonic: rigid-body modes, spurious modes, symmetry, the drilling tie, unheld
+"""Unit tests of deflect.mechanics.shell.harmonic: rigid-body modes, spurious modes, symmetry, the drilling tie, unheld
 parts, the two solution paths, and a branched mesh."""
 
 import numpy as np
 import pytest
 
 from deflect.errors import ModelError
-from deflect.shell.harmonic import HarmonicShell, ShellLoad, compliance, harmonic_weights
-from deflect.shell.mesh import ShellMesh
+from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, compliance, harmonic_weights
+from deflect.mechanics.shell.mesh import ShellMesh
 
 E_MPA, NU = 70000.0, 0.33
 RIGID_TOL = 1e-13  # strain energy of a rigid motion / (largest stiffness * |q|^2): round-off only
@@ -239,7 +239,7 @@ def test_load_vectors_carry_the_arm_moment():
 
 def test_wide_loads_take_the_direct_path_with_the_same_answer(monkeypatch):
     """A load reaching across more levels than WIDEST_WINDOW is solved for directly; both paths agree."""
-    import deflect.shell.harmonic as harmonic
+    import deflect.mechanics.shell.harmonic as harmonic
 
     mesh = branched_cup()
     shell = HarmonicShell(mesh, E_MPA, NU)

@@ -10,14 +10,14 @@ import numpy as np
 import pytest
 
 from deflect.cli import main
-from deflect.cutting import cutting_forces
 from deflect.errors import InputError
-from deflect.clamping import GripModel
-from deflect.grip import clamp_study, finished_surfaces, released_profile
-from deflect.holding import contact_of, holding_from_table
-from deflect.job import parse_job, read_job
-from deflect.process import process_from_job
-from deflect.section import section_from_outline
+from deflect.geometry.section import section_from_outline
+from deflect.job.holding import contact_of, holding_from_table
+from deflect.job.reader import parse_job, read_job
+from deflect.machining.grip import clamp_study, finished_surfaces, released_profile
+from deflect.machining.targets import process_from_job
+from deflect.mechanics.clamping import GripModel
+from deflect.mechanics.cutting import cutting_forces
 
 RING = Path(__file__).parent.parent / "data" / "examples" / "ring.toml"
 

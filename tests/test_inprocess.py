@@ -15,10 +15,17 @@ import pytest
 from shapely.geometry import Point, Polygon
 
 from deflect.errors import ModelError
-from deflect.inprocess import (BUFFER_CHORD_MM, cuts_for_pass, depth_of_material, deviation_along,
-                               polygon_mass, remove, target_surface)
-from deflect.process import Pass
-from deflect.section import section_from_outline
+from deflect.geometry.section import section_from_outline
+from deflect.job.process import Pass
+from deflect.machining.inprocess import (
+    BUFFER_CHORD_MM,
+    cuts_for_pass,
+    depth_of_material,
+    deviation_along,
+    polygon_mass,
+    remove,
+    target_surface,
+)
 
 EXACT_MM3 = 1e-9          # a cut along straight lines: only float rounding separates it from the closed form
 RING_MM3 = 1e-6           # the brief's tolerance on the left-over ring (REFERENCE.md 6)

@@ -5,8 +5,8 @@ import math
 
 import pytest
 
-from deflect.job import MM_PER_INCH, parse_job
-from deflect.section import mass_properties
+from deflect.geometry.section import mass_properties
+from deflect.job.reader import MM_PER_INCH, parse_job
 
 MM_TUBE = {"material": {"E": 68900.0, "nu": 0.33, "density": 2.70},
            "part": {"outline": [[19.0, 0.0], [20.0, 0.0], [20.0, 40.0, 0.3], [19.0, 40.0]]},

@@ -6,7 +6,7 @@ import tomllib
 import pytest
 
 from deflect.errors import InputError
-from deflect.materials import (
+from deflect.job.materials import (
     KIENZLE_KEYS,
     NUMBER_KEYS,
     Material,

@@ -1,4 +1,4 @@
-"""Unit tests of the mid-surface derivation (pruned medial axis of the section, deflect.shell.midsurface).
+"""Unit tests of the mid-surface derivation (pruned medial axis of the section, deflect.mechanics.shell.midsurface).
 
 Expected values are the medial axes of the test outlines worked out by hand: the mid-line of two parallel
 faces, the bisector of two faces at an angle, and the centre of the disc touching three features at a
@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from deflect.errors import InputError
-from deflect.shell.midsurface import HeldBox, ShellGeometry, derive_shell, shell_from_section
+from deflect.geometry.boxes import HeldBox
+from deflect.mechanics.shell.midsurface import ShellGeometry, derive_shell, shell_from_section
 
 THICKNESS_REL = 0.005      # Voronoi radius bias at 1/20-wall sampling is s^2 / (2 t) = 0.13 % of t
 POSITION_MM = 1e-3         # mid-line position: bias ~ s^2 / (8 t) = 0.3 um at 1 mm walls, plus smoothing
@@ -278,7 +279,7 @@ def test_fillets_change_neither_the_branches_nor_the_wall(outline, n_branches, w
 
 
 def test_section_object_through_shell_from_section():
-    section = pytest.importorskip("deflect.section")
+    section = pytest.importorskip("deflect.geometry.section")
     outline = [[19.0, 0.0], [20.0, 0.0], [20.0, 2.0, 0.5], [30.0, 2.0], [30.0, 5.0], [20.0, 5.0, 0.5],
                [20.0, 40.0], [19.0, 40.0]]
     geometry = shell_from_section(section.section_from_outline(outline), [], SIZE)

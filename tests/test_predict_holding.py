@@ -11,7 +11,7 @@ Checks, each against something computed here rather than read back from the prod
   deviation less the spring-back;
 * six jaws at the same total grip leave the bore far rounder than three (REFERENCE.md 4.6: a factor of
   about 19 on a thin ring; here a short tube, so only the direction and a lower bound of 5 are asserted);
-* the features against the drawing: the OD and bore limits from ISO 286-1 (`deflect.fits`, validated on its
+* the features against the drawing: the OD and bore limits from ISO 286-1 (`deflect.job.fits`, validated on its
   own) and the predicted extremes recomputed from the JSON deviation points.
 """
 
@@ -29,7 +29,7 @@ import pytest
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from test_simulate import run_cli  # noqa: E402
 
-from deflect.fits import limits_of_fit  # noqa: E402
+from deflect.job.fits import limits_of_fit  # noqa: E402
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
 RING = EXAMPLES / "ring.toml"

@@ -13,9 +13,10 @@ import pytest
 from shapely.geometry import Polygon
 
 from deflect.errors import InputError
-from deflect.job import parse_job
-from deflect.process import DEFAULT_MACHINE, Machine, Pass, process_from_job
-from deflect.section import section_from_outline
+from deflect.geometry.section import section_from_outline
+from deflect.job.process import DEFAULT_MACHINE, Machine, Pass
+from deflect.job.reader import parse_job
+from deflect.machining.targets import process_from_job
 
 NOMINAL_OUTLINE = [[19.0, 0.0], [20.0, 0.0], [20.0, 40.0], [19.0, 40.0]]
 SECTION = section_from_outline(NOMINAL_OUTLINE)
@@ -35,7 +36,7 @@ TABLES = {
 
 
 def job(**changes):
-    """A stand-in for deflect.job.Job: the nominal section and the machining tables (in mm)."""
+    """A stand-in for deflect.job.reader.Job: the nominal section and the machining tables (in mm)."""
     tables = copy.deepcopy(TABLES)
     for name, value in changes.items():
         if value is None:

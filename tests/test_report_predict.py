@@ -14,10 +14,10 @@ import numpy as np
 import pytest
 
 from deflect.errors import InputError
-from deflect.export import (DEVIATION_COLUMNS, PASS_COLUMNS, SECTION_COLUMNS, STATION_COLUMNS, write_csv)
-from deflect.plots import magnification, predict_plots
-from deflect.report_predict import predict_report
-from deflect.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.output.csv_files import DEVIATION_COLUMNS, PASS_COLUMNS, SECTION_COLUMNS, STATION_COLUMNS, write_csv
+from deflect.output.figures import magnification, predict_plots
+from deflect.output.predict_report import predict_report
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 NICE_HALF_STEP = math.log10(math.sqrt(2.5))   # widest log gap between neighbours of 1, 2, 5, 10 is 2 -> 5

@@ -1,4 +1,4 @@
-"""Unit tests of deflect.section: reading outlines, arcs and fillets, boundary queries, min_wall, errors."""
+"""Unit tests of deflect.geometry.section: reading outlines, arcs and fillets, boundary queries, min_wall, errors."""
 
 import math
 
@@ -6,8 +6,15 @@ import numpy as np
 import pytest
 
 from deflect.errors import InputError
-from deflect.section import (Arc, Line, Section, mass_properties, min_wall, section_from_outline,
-                             unit_size_warning)
+from deflect.geometry.section import (
+    Arc,
+    Line,
+    Section,
+    mass_properties,
+    min_wall,
+    section_from_outline,
+    unit_size_warning,
+)
 
 TUBE = [[19.0, 0.0], [20.0, 0.0], [20.0, 40.0], [19.0, 40.0]]
 TORUS = [[55.0, 3.0], {"to": [50.0, 8.0], "radius": 5.0}, {"to": [45.0, 3.0], "radius": 5.0},

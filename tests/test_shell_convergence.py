@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from deflect.shell.harmonic import SHEAR_FACTOR, HarmonicShell, ShellLoad, compliance, harmonic_weights
-from deflect.shell.mesh import ShellMesh
+from deflect.mechanics.shell.harmonic import SHEAR_FACTOR, HarmonicShell, ShellLoad, compliance, harmonic_weights
+from deflect.mechanics.shell.mesh import ShellMesh
 
 E_MPA, NU = 70000.0, 0.33
 ORDER_BAND = (1.8, 2.2)  # observed order of a second-order method at the finest triple

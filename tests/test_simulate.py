@@ -1,4 +1,4 @@
-"""Physics tests of the machining simulation (`deflect.simulate`), its JSON and its command line.
+"""Physics tests of the machining simulation (`deflect.machining.simulate`), its JSON and its command line.
 
 The jobs are small thin sleeves written to a temporary folder: aluminium (E 68 900 MPa), r 19..20 mm,
 z 0..40 mm, held rigid over z <= 5 mm, with 0.3 mm of stock on the OD (or the bore) above z = 6 mm and one
@@ -13,7 +13,7 @@ finishing pass, as in shared/tools/contract_check.py. Each test names the relati
   VDI-Z 94 (1952) 299-305: the force grows with the chip section, so with the feed;
 * the cantilevered shell: a sleeve held at one end is stiffest where it is held and gives most at its free
   rim, so the OD comes out larger and the bore smaller towards the free end;
-* the force-deflection equilibrium stated in deflect/simulate.py: delta = (C_nn + c_tool) F_p + C_na s F_f;
+* the force-deflection equilibrium stated in deflect/machining/simulate.py: delta = (C_nn + c_tool) F_p + C_na s F_f;
 * Pappus-Guldinus (P. Guldin, Centrobaryca, 1635-1641): a layer of thickness delta on a surface of
   revolution has the mass dm = rho 2 pi r delta ds;
 * the issue's convergence rule: halving the station spacing and doubling the key stations changes the
@@ -39,13 +39,20 @@ import numpy as np
 import pytest
 
 from deflect.cli import main
-from deflect.compliance import WallModel
-from deflect.cutting import chip_geometry, cutting_forces
-from deflect.inprocess import POLYGON_CHORD_MM, cuts_for_pass, depth_of_material, remove
-from deflect.job import read_job
-from deflect.process import process_from_job
-from deflect.simulate import (SimulationSettings, contact_point, plan_compliance, key_indices, section_of_polygon,
-                              simulate)
+from deflect.geometry.section import POLYGON_CHORD_MM
+from deflect.job.reader import read_job
+from deflect.machining.inprocess import cuts_for_pass, depth_of_material, remove
+from deflect.machining.simulate import (
+    SimulationSettings,
+    contact_point,
+    key_indices,
+    plan_compliance,
+    section_of_polygon,
+    simulate,
+)
+from deflect.machining.targets import process_from_job
+from deflect.mechanics.compliance import WallModel
+from deflect.mechanics.cutting import chip_geometry, cutting_forces
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
 

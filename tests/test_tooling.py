@@ -12,7 +12,7 @@ import math
 import pytest
 
 from deflect.errors import InputError
-from deflect.tooling import BoringBar, Tool, tool_from_job
+from deflect.job.tooling import BoringBar, Tool, tool_from_job
 
 RELATIVE = 1e-12          # same formula, float round-off only
 HAND_DIGITS = 5e-5        # hand calculation carried to 5 significant digits

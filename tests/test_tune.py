@@ -1,21 +1,21 @@
 """Tests of the remedy search (`deflect tune`): its options, its JSON, its words and its contour export.
 
 Every claim of an option is checked against an independent reading of `deflect predict --json` on the job
-with the option's changes written into its TOML by this module (not by `deflect.tune.job_with`):
-* ISO 286-1:2010, limits on the diameter: `deflect.fits.limits_of_fit`, validated against the standard's
+with the option's changes written into its TOML by this module (not by `deflect.decisions.tune.job_with`):
+* ISO 286-1:2010, limits on the diameter: `deflect.job.fits.limits_of_fit`, validated against the standard's
   tables in tests/test_fits.py. The diameter change of a point is 2 * deviation * n_r (the deviation is the
   material left along the outward normal, n_r = +1 on an OD and -1 in a bore: material left makes an OD
   bigger and a bore smaller);
 * the theoretical roughness of the feed marks, M. C. Shaw, *Metal Cutting Principles* (2nd ed., Oxford
   2005), theoretical roughness of a round-nosed tool: for f << r the cusp is a parabola and
   Ra = f^2 / (18 sqrt(3) r), within about 1 % of the exact circular cusp at the feeds used here;
-* the chip-thickness and rubbing rules are the ones `deflect.tune.broken_limits` states (a finishing chip of
+* the chip-thickness and rubbing rules are the ones `deflect.decisions.tune.broken_limits` states (a finishing chip of
   at least `tune.MIN_CHIP_MM` on the finishing cut where it takes its full stock, its spring cuts exempt; no rubbing station); the brute force uses
   `tune.thinnest_chip_mm` for the first, as the issue allows.
 
 The issue's "Done means" 2 is a brute force over the same choices as the search (R10 feeds, spring cuts,
 the lighter allowance, the other tools, a wear offset on a grid), written here with its own loop over
-`deflect.simulate.simulate`. The test jobs are the aluminium sleeve of tests/test_simulate.py (r 20 mm,
+`deflect.machining.simulate.simulate`. The test jobs are the aluminium sleeve of tests/test_simulate.py (r 20 mm,
 held over z <= 5 mm, stock over its whole length or from z = 6 mm) with a roughing and a finishing OD pass,
 two tools and an h8 OD; the shipped housing (data/examples/housing.toml) is tuned once per module (about
 20 s). The full brute force (1 um offsets, no pruning) is marked slow.
@@ -37,14 +37,14 @@ import pytest
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from test_simulate import OD_SLEEVE, run_cli, write_job  # noqa: E402
 
-from deflect import tune  # noqa: E402
-from deflect.cutting import theoretical_roughness  # noqa: E402
-from deflect.fits import limits_of_fit  # noqa: E402
-from deflect.job import read_job  # noqa: E402
-from deflect.process import process_from_job  # noqa: E402
-from deflect.report_tune import change_words  # noqa: E402
-from deflect.simulate import simulate  # noqa: E402
-from deflect.tune import Change  # noqa: E402
+from deflect.decisions import tune  # noqa: E402
+from deflect.decisions.tune import Change  # noqa: E402
+from deflect.job.fits import limits_of_fit  # noqa: E402
+from deflect.job.reader import read_job  # noqa: E402
+from deflect.machining.simulate import simulate  # noqa: E402
+from deflect.machining.targets import process_from_job  # noqa: E402
+from deflect.mechanics.cutting import theoretical_roughness  # noqa: E402
+from deflect.output.tune_report import change_words  # noqa: E402
 
 HOUSING = Path(__file__).resolve().parents[1] / "data" / "examples" / "housing.toml"
 MM_PER_INCH = 25.4                  # by definition (1959 international inch)

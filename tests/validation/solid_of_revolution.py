@@ -1,6 +1,6 @@
 """Check solver for the tests: a solid of revolution under circumferential Fourier harmonics.
 
-Test-only, written independently of `deflect.shell` (nothing is imported from the package): it gives the
+Test-only, written independently of `deflect.mechanics.shell` (nothing is imported from the package): it gives the
 3-D elastic answer that the shell model of the wall is measured against in `test_against_3d_solid.py`.
 
 Takes a section made of axis-parallel rectangles (a sleeve, a cup = wall + bottom plate, a flange), the grid

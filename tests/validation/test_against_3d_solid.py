@@ -1,6 +1,6 @@
 """The shell model of the wall against an independent 3-D elasticity solution of the same held part.
 
-Check solver: `solid_of_revolution.py` beside this module (test-only, nothing imported from deflect.shell), the
+Check solver: `solid_of_revolution.py` beside this module (test-only, nothing imported from deflect.mechanics.shell), the
 semi-analytical finite-element method for axisymmetric solids under non-axisymmetric loads:
     E. L. Wilson, "Structural analysis of axisymmetric solids", AIAA Journal 3 (1965) 2269-2274;
     O. C. Zienkiewicz, R. L. Taylor, The Finite Element Method, vol. 1 (axisymmetric solids) and vol. 2
@@ -26,7 +26,7 @@ the sum. It is first checked here against closed forms:
   r dr dz weight cancels the 1/r of the strains, the integrands are polynomials that 3 x 3 Gauss integrates
   exactly).
 
-Then the product: `deflect.compliance.WallModel` (default tolerance 1e-3, the command's) against the solid,
+Then the product: `deflect.mechanics.compliance.WallModel` (default tolerance 1e-3, the command's) against the solid,
 normal compliance under a 2 x 2 mm patch, aluminium E 68900 MPa, nu 0.33. Aims (the acceptance check's
 words): 5 % on thin walls, 10 % on thick walls and near junctions. Measured (shell / solid - 1):
 
@@ -85,9 +85,9 @@ import pytest
 from scipy.sparse.linalg import spsolve
 from solid_of_revolution import Rect, SolidOfRevolution, face_patch, graded_lines, structured_solid
 
-from deflect.compliance import Patch, WallModel
-from deflect.section import section_from_outline
-from deflect.shell.midsurface import HeldBox
+from deflect.geometry.boxes import HeldBox
+from deflect.geometry.section import section_from_outline
+from deflect.mechanics.compliance import Patch, WallModel
 
 E_MPA, NU = 68900.0, 0.33                  # aluminium, as the issue
 PATCH_MM = (2.0, 2.0)                      # length along the boundary, width around

@@ -25,7 +25,7 @@ import math
 
 import pytest
 
-from deflect.section import mass_properties, section_from_outline
+from deflect.geometry.section import mass_properties, section_from_outline
 
 # Closed forms and our boundary integrals are both exact; what remains is floating-point rounding
 # (about 1e-14 relative here). The brief asks for 1e-9.

@@ -11,7 +11,7 @@ References:
   [M], cross-checked there), w(x) = q R^2 beta / (2 E t) e^(-beta x)(cos beta x + sin beta x) per unit ring
   load, integrated over the band: w(0) = q R^2 / (E t) (1 - e^(-beta c/2) cos(beta c/2)), q the pressure on
   the mid-surface, beta^4 = 3 (1 - nu^2) / (R t)^2.
-The grip goes through `deflect.clamping.released_deviation` (the public entry the prediction will use):
+The grip goes through `deflect.mechanics.clamping.released_deviation` (the public entry the prediction will use):
 released deviation along the outward normal = -(displacement in the chuck).
 
 R/t = 50: the shell has no through-thickness strain, so at R/t = 25 it misses Lame's OD by 1.05 % and the
@@ -24,10 +24,10 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
-from deflect.clamping import released_deviation
-from deflect.holding import holding_from_table
-from deflect.materials import Material
-from deflect.section import section_from_outline
+from deflect.geometry.section import section_from_outline
+from deflect.job.holding import holding_from_table
+from deflect.job.materials import Material
+from deflect.mechanics.clamping import released_deviation
 
 E_MPA, NU = 70000.0, 0.3
 RADIUS, WALL, LENGTH = 50.0, 1.0, 100.0      # 1 / beta = 3.9 mm: the ends are 13 decay lengths from the middle

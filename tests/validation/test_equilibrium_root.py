@@ -1,6 +1,6 @@
-"""Validation of the force-deflection equilibrium at one station (`deflect.simulate.equilibrium`).
+"""Validation of the force-deflection equilibrium at one station (`deflect.machining.simulate.equilibrium`).
 
-The relation (deflect/simulate.py, after the static-deflection loop of flexible-part machining, e.g.
+The relation (deflect/machining/simulate.py, after the static-deflection loop of flexible-part machining, e.g.
 Y. Altintas, *Manufacturing Automation*, Cambridge University Press 2000, chapter on static deflections in
 milling; from memory): the tool meets a_met of stock beyond its target; the wall and the tool give way by
 
@@ -10,7 +10,7 @@ so the depth actually cut is the root of g(a) = a + delta(a) - a_met on [0, a_me
 the chip actually taken: Kienzle's law (O. Kienzle, "Die Bestimmung von Kraeften und Leistungen an
 spanenden Werkzeugen und Werkzeugmaschinen", VDI-Z 94 (1952) 299-305) on Colwell's equivalent edge
 (L. V. Colwell, "Predicting the angle of chip flow for single-point cutting tools", Trans. ASME 76 (1954)
-199-204), both as `deflect.cutting.cutting_forces` computes them.
+199-204), both as `deflect.mechanics.cutting.cutting_forces` computes them.
 
 Oracle: the same equation solved independently, station by station, with Brent's method (R. P. Brent,
 *Algorithms for Minimization without Derivatives*, Prentice-Hall 1973, ch. 4; scipy.optimize.brentq) on
@@ -32,11 +32,11 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from deflect.cutting import chip_geometry, cutting_forces
-from deflect.materials import load_library
-from deflect.process import Pass
-from deflect.simulate import equilibrium
-from deflect.tooling import BoringBar, Tool
+from deflect.job.materials import load_library
+from deflect.job.process import Pass
+from deflect.job.tooling import BoringBar, Tool
+from deflect.machining.simulate import equilibrium
+from deflect.mechanics.cutting import chip_geometry, cutting_forces
 
 ROOT_REL_TOL = 1e-3          # issue: match the independent root to 0.1 %
 BRENT_XTOL_MM = 1e-15        # Brent's bracket, far below the tolerance

@@ -13,7 +13,7 @@ then a maker's chip-breaker code that is not standardised.
 import pytest
 
 from deflect.errors import InputError
-from deflect.tooling import parse_iso1832
+from deflect.job.tooling import parse_iso1832
 
 EXACT = 1e-12
 

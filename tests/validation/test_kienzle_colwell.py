@@ -28,9 +28,9 @@ import math
 import numpy as np
 import pytest
 
-from deflect.cutting import chip_geometry, cutting_forces, kienzle_force
-from deflect.materials import Material
-from deflect.tooling import Tool
+from deflect.job.materials import Material
+from deflect.job.tooling import Tool
+from deflect.mechanics.cutting import chip_geometry, cutting_forces, kienzle_force
 
 ROUND_OFF = 1e-12  # same formula evaluated in another order
 KC_PRINT_SLIP = 1.0  # N/mm2: one kc value of REFERENCE.md 1.3 is rounded down, not to nearest

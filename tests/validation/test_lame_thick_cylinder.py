@@ -17,8 +17,8 @@ here and held as the stated bound: the OD error is small and the ID error is the
 import numpy as np
 import pytest
 
-from deflect.shell.harmonic import HarmonicShell, ShellLoad, compliance
-from deflect.shell.mesh import ShellMesh
+from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, compliance
+from deflect.mechanics.shell.mesh import ShellMesh
 
 E_MPA, NU, PRESSURE, WALL = 70000.0, 0.33, 1.0, 10.0
 # (R/t, OD bound, ID bound): the measured errors above with a little room

@@ -19,8 +19,8 @@ a contact no smaller than the wall is thick; the shear part this keeps is about 
 import numpy as np
 import pytest
 
-from deflect.shell.harmonic import HarmonicShell, ShellLoad, harmonic_weights
-from deflect.shell.mesh import ShellMesh
+from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, harmonic_weights
+from deflect.mechanics.shell.mesh import ShellMesh
 
 CYLINDER_REFERENCE = 1.8248e-5  # MacNeal & Harder 1985, [C]
 CYLINDER_TOL = 0.02  # the bound; measured +0.64 % (the Mindlin shear under a t x t patch)

@@ -14,7 +14,7 @@ Each check shows the table's value, the closed form and the series re-evaluated 
 The case: a ring of mean radius R = 50 mm, wall t = 1 mm (R/t = 50, so the inextensional theory applies: the
 hoop shortening adds (t/R)^2 order terms, 0.1 % here), axial width b = 4 mm, gripped on its OD over the whole
 width by N jaws 0.5 mm wide (0.6 % of the circumference, a point load to the theory within (n a)^2 terms).
-The displacement is read at the bore at mid-width, through the whole chain (`deflect.clamping.GripModel` on
+The displacement is read at the bore at mid-width, through the whole chain (`deflect.mechanics.clamping.GripModel` on
 the section's derived mid-surface). The theory has no uniform (n = 0) part, so the n = 0 term is taken out of
 ours before comparing (it is checked against Lame in test_collet_tube.py).
 
@@ -29,9 +29,9 @@ import math
 import numpy as np
 import pytest
 
-from deflect.clamping import GripModel
-from deflect.holding import contact_of, holding_from_table, surface_points
-from deflect.section import section_from_outline
+from deflect.geometry.section import section_from_outline
+from deflect.job.holding import contact_of, holding_from_table, surface_points
+from deflect.mechanics.clamping import GripModel
 
 E_MPA, RADIUS, WALL, WIDTH = 70000.0, 50.0, 1.0, 4.0
 JAW_WIDTH_MM = 0.5

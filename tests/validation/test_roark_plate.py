@@ -12,8 +12,8 @@ w = C1 + C2 ln r + C3 r^2 + C4 r^2 ln r with w(b) = w'(b) = 0, M_r(a) = 0, Q_r(a
 import numpy as np
 import pytest
 
-from deflect.shell.harmonic import HarmonicShell, ShellLoad, compliance
-from deflect.shell.mesh import ShellMesh
+from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, compliance
+from deflect.mechanics.shell.mesh import ShellMesh
 
 E_MPA, NU = 70000.0, 0.3
 OUTER_RADIUS, THICKNESS = 100.0, 1.0  # a / t = 100: a thin plate

@@ -21,7 +21,7 @@ import math
 import numpy as np
 import pytest
 
-from deflect.cutting import cutting_time_s, spindle_speed_rpm, theoretical_roughness
+from deflect.mechanics.cutting import cutting_time_s, spindle_speed_rpm, theoretical_roughness
 
 ROUND_OFF = 1e-12
 SERIES_REMAINDER = 0.01  # next term of the series is (f/r)^2 ~ 4e-3 times smaller at f/r <= 1/16

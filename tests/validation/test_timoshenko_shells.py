@@ -21,8 +21,8 @@ import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from deflect.shell.harmonic import SHEAR_FACTOR, HarmonicShell, ShellLoad, compliance
-from deflect.shell.mesh import ShellMesh
+from deflect.mechanics.shell.harmonic import SHEAR_FACTOR, HarmonicShell, ShellLoad, compliance
+from deflect.mechanics.shell.mesh import ShellMesh
 
 E_MPA, NU, RADIUS = 70000.0, 0.33, 50.0
 KIRCHHOFF_TOL = 0.01  # the bound, t/R = 1/250

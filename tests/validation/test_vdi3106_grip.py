@@ -11,9 +11,14 @@ import math
 
 import pytest
 
-from deflect.chuck import (centrifugal_force_n, friction_demand_n, grip_in_cut_n, least_static_grip_n,
-                           torque_capacity_nm)
-from deflect.holding import holding_from_table
+from deflect.job.holding import holding_from_table
+from deflect.mechanics.chuck import (
+    centrifugal_force_n,
+    friction_demand_n,
+    grip_in_cut_n,
+    least_static_grip_n,
+    torque_capacity_nm,
+)
 
 ROUNDED = 0.5          # REFERENCE.md prints whole newtons
 

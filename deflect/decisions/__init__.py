@@ -1,0 +1,8 @@
+"""Decisions built on the prediction: does the part meet its drawing, and what to change so it does.
+
+    conformance.py  prediction + tolerances -> each toleranced feature in or out, with its margin
+    tune.py         ranked remedies (feed, spring cuts, allowance, tool, wear offset, compensation, order)
+    design.py       the thinnest drawn wall that holds with the recommended finishing
+
+May import every room below: `deflect.errors`, `geometry`, `job`, `mechanics`, `machining`.
+"""

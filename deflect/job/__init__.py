@@ -1,0 +1,12 @@
+"""The job and its inputs: every table of a job file read and checked, lengths turned into mm.
+
+    reader.py     the job file (TOML) -> `Job`: title, units, section, material, held boxes, the other tables
+    checks.py     small checks of values shared by the readers
+    materials.py  [material] and the shipped library -> `Material` (elastic and Kienzle constants, sources)
+    tooling.py    [[tool]], ISO 1832 insert codes -> `Tool` (nose radius, angles, boring bar)
+    process.py    [stock], [[pass]], [machine] -> `Process` (each key checked on its own)
+    fits.py       [tolerance], ISO 286-1 fit codes -> `Tolerances`
+    holding.py    [holding] -> `Holding`, and where the grip bears on the section
+
+Bad input is an `InputError` naming the key. May import: `deflect.errors`, `deflect.geometry`.
+"""

@@ -1,0 +1,181 @@
+"""Job file: TOML on disk -> a checked `Job` in mm, N, MPa.
+
+Takes the path of a job file (layout in shared/CONTRACT.md) and gives a `Job`: the title, the nominal
+section (`deflect.geometry.section.Section`), the material (`deflect.job.materials.Material`), the held boxes (the
+[[held]] boxes or, when there are none, the material under the [holding] contact,
+`deflect.job.holding.held_from_holding`), and the machining tables as read (checked by the modules that use
+them). An inch job (`units = "inch"`) has every length converted to mm here, so nothing downstream ever
+sees inches; speeds stay in m/min, moduli in MPa and densities in g/cm3 in either unit system.
+
+Every problem is raised as `InputError` carrying the file name, the dotted key and what is wrong.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from deflect.errors import InputError
+from deflect.geometry.boxes import HeldBox
+from deflect.geometry.section import Section, section_from_outline, unit_size_warning
+from deflect.job.checks import check_keys, check_range, check_table, is_number
+from deflect.job.holding import held_from_holding
+from deflect.job.materials import Material, material_from_job
+
+MM_PER_INCH = 25.4
+
+# Tables a job may hold. The machining ones are read by the simulation; here they only pass through.
+KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding")
+JOB_KEYS = ("title", "units")
+PART_KEYS = ("outline",)
+HELD_KEYS = ("r", "z")
+
+# Lengths inside the machining tables, converted for inch jobs (key names as in CONTRACT.md).
+TOOL_LENGTH_KEYS = ("nose_radius",)
+BAR_LENGTH_KEYS = ("diameter", "overhang")
+PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset", "compensate")
+HOLDING_LENGTH_KEYS = ("z", "width", "jaw_radius")
+TOLERANCE_LENGTH_KEYS = ("wall", "plus", "minus")
+
+
+@dataclass(frozen=True)
+class Job:
+    """A checked job, every length in mm."""
+
+    path: str
+    title: str
+    units: str                       # as written in the file: "mm" or "inch"
+    section: Section                 # the finished (nominal) half-section
+    material: Material
+    held: list[HeldBox]
+    tables: dict = field(default_factory=dict)   # machining tables (stock, tool, pass, ...), lengths in mm
+    warnings: list[str] = field(default_factory=list)
+
+
+def scale_lengths(value, factor: float):
+    """Multiply every number in a nested list/dict structure by factor (for inch outlines)."""
+    if is_number(value):
+        return value * factor
+    if isinstance(value, list):
+        return [scale_lengths(v, factor) for v in value]
+    if isinstance(value, dict):
+        return {k: scale_lengths(v, factor) for k, v in value.items()}
+    return value
+
+
+def scale_keys(table: dict, keys: tuple[str, ...], factor: float) -> dict:
+    """Copy of table with the named length keys scaled; other keys untouched."""
+    return {k: (scale_lengths(v, factor) if k in keys else v) for k, v in table.items()}
+
+
+def convert_machining_tables(data: dict, factor: float) -> dict:
+    """The machining tables with their lengths in mm (factor = mm per file unit)."""
+    tables = {}
+    if "stock" in data:
+        stock = check_table(data["stock"], "stock")
+        tables["stock"] = {k: scale_lengths(v, factor) for k, v in stock.items()}
+    if "tool" in data:
+        tools = []
+        for i, tool in enumerate(_array_of_tables(data["tool"], "tool")):
+            converted = scale_keys(tool, TOOL_LENGTH_KEYS, factor)
+            if isinstance(tool.get("bar"), dict):
+                converted["bar"] = scale_keys(tool["bar"], BAR_LENGTH_KEYS, factor)
+            tools.append(converted)
+        tables["tool"] = tools
+    if "pass" in data:
+        tables["pass"] = [scale_keys(p, PASS_LENGTH_KEYS, factor)
+                          for p in _array_of_tables(data["pass"], "pass")]
+    if "holding" in data:
+        tables["holding"] = scale_keys(check_table(data["holding"], "holding"), HOLDING_LENGTH_KEYS, factor)
+    if "tolerance" in data:
+        tolerance = check_table(data["tolerance"], "tolerance")
+        tables["tolerance"] = {k: (scale_keys(v, TOLERANCE_LENGTH_KEYS, factor) if isinstance(v, dict)
+                                   else scale_lengths(v, factor) if k in TOLERANCE_LENGTH_KEYS else v)
+                               for k, v in tolerance.items()}
+    if "machine" in data:
+        tables["machine"] = check_table(data["machine"], "machine")
+    return tables
+
+
+def _array_of_tables(value, key: str) -> list[dict]:
+    if not isinstance(value, list):
+        raise InputError(key, f"must be an array of tables, written [[{key}]]")
+    for i, item in enumerate(value):
+        check_table(item, f"{key}[{i}]")
+    return value
+
+
+def read_held(data: dict, factor: float) -> list[HeldBox]:
+    boxes = []
+    for i, box in enumerate(_array_of_tables(data.get("held", []), "held")):
+        key = f"held[{i}]"
+        check_keys(box, HELD_KEYS, key)
+        for name in HELD_KEYS:
+            if name not in box:
+                raise InputError(f"{key}.{name}", "missing; a held box needs r = [low, high] and z = [low, high]")
+        r_range = check_range(box["r"], f"{key}.r")
+        z_range = check_range(box["z"], f"{key}.z")
+        boxes.append(HeldBox(r_range=(r_range[0] * factor, r_range[1] * factor),
+                             z_range=(z_range[0] * factor, z_range[1] * factor), key=key))
+    return boxes
+
+
+def parse_job(data: dict, path: str) -> Job:
+    """Check a parsed TOML document and build the Job (InputError without the file name)."""
+    for name in data:
+        if name not in KNOWN_TABLES:
+            raise InputError(name, f"unknown table; a job holds {', '.join(KNOWN_TABLES)}")
+    job_table = check_table(data.get("job", {}), "job")
+    check_keys(job_table, JOB_KEYS, "job")
+    title = job_table.get("title", Path(path).stem)
+    if not isinstance(title, str):
+        raise InputError("job.title", "must be text in quotes")
+    units = job_table.get("units", "mm")
+    if units not in ("mm", "inch"):
+        raise InputError("job.units", f'must be "mm" or "inch", got {units!r}')
+    factor = MM_PER_INCH if units == "inch" else 1.0
+
+    if "material" not in data:
+        raise InputError("material", "missing; give [material] with name = a library material or E, nu, density")
+    material = material_from_job(check_table(data["material"], "material"), "material")
+
+    if "part" not in data:
+        raise InputError("part", "missing; give [part] with outline = [[r, z], ...] (the finished half-section)")
+    part = check_table(data["part"], "part")
+    check_keys(part, PART_KEYS, "part")
+    if "outline" not in part:
+        raise InputError("part.outline", "missing; list the half-section's corners as [[r, z], ...]")
+    section = section_from_outline(scale_lengths(part["outline"], factor), "part.outline")
+    warnings = []
+    warning = unit_size_warning(section, units)
+    if warning:
+        warnings.append(f"part.outline: {warning}")
+
+    held = read_held(data, factor)
+    tables = convert_machining_tables(data, factor)
+    if "holding" in tables and not held:
+        # the material under the jaws' contact is what holds the part for the cutting stiffness
+        held = held_from_holding(section, tables["holding"])
+    return Job(path=path, title=title, units=units, section=section, material=material,
+               held=held, tables=tables, warnings=warnings)
+
+
+def read_job(path: str | Path) -> Job:
+    """Read and check a job file; every problem is an InputError naming this file."""
+    path = str(path)
+    try:
+        text = Path(path).read_bytes().decode("utf-8")
+    except FileNotFoundError:
+        raise InputError("file", "no such file", file=path) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError("file", f"not valid TOML: {exc}", file=path) from None
+    try:
+        return parse_job(data, path)
+    except InputError as exc:
+        exc.file = path
+        raise

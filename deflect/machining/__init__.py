@@ -1,0 +1,12 @@
+"""Machining: the part pass by pass, with the wall giving way under the tool, and what that leaves.
+
+    inprocess.py  stock - passes -> the in-process part, target paths, material met, deviation from nominal
+    targets.py    each pass's target checked against the finished part -> the checked `Process` of a job
+    simulate.py   per pass and station: chip, forces, compliance of the part as it is then, equilibrium
+                  -> `results.Prediction`
+    results.py    the prediction as plain data (read by every output)
+    toolpath.py   the compensated finishing contour as points
+    grip.py       the grip window: the least grip that holds the cuts, the most that keeps the tolerance
+
+May import: `deflect.errors`, `deflect.geometry`, `deflect.job`, `deflect.mechanics`.
+"""

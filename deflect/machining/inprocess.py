@@ -1,0 +1,522 @@
+"""The in-process part: the half-section as passes take material away, and what the finished part keeps.
+
+Takes polygons of the (r, z) half-section (counter-clockwise (N, 2) arrays, mm) and the passes of a job
+(`deflect.job.process.Pass`), and gives:
+
+* `target_surface` - where a pass's tool tip should leave the surface: the finished contour offset along its
+  outward normal, as seen from the pass's side (od from large r, id from the axis, face from large z),
+  sampled in feed order;
+* `cuts_for_pass` - the cuts a pass makes: equal-depth roughing steps when the stock is deeper than the
+  pass's most depth per cut (ceil(d / depth) cuts, REFERENCE.md section 10), the final cut, spring cuts;
+* `depth_of_material` - the stock beyond each target point along its normal;
+* `remove` - the part after a cut (or while the tool is part-way along it) when the surface actually left
+  lies `left_mm` outside the target;
+* `deviation_along` - the material left beyond the drawn surface, along the finished boundary;
+* `polygon_mass` - volume, mass and axial mass moment of inertia of a polygon section.
+
+A surface "as seen from a side" is the visible envelope: for an od pass, at each z the outermost boundary
+point, found slab by slab between the polygon's vertex levels; where the outermost edge changes with a
+jump, the envelope runs across (a shoulder the tool moves along). Offsets of it are exact Minkowski sums
+(dilation or erosion by a disc) computed by shapely/GEOS, with arcs split finely enough to stray less
+than `BUFFER_CHORD_MM` from the true offset. Volumes and inertias integrate over the polygon
+by Green's theorem (G. Green, "An Essay on the Application of Mathematical Analysis to the Theories of
+Electricity and Magnetism", 1828) with the solid of revolution from Pappus-Guldinus (P. Guldin,
+"Centrobaryca", 1635-1641).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import shapely
+from shapely.geometry import Point, Polygon
+from shapely.geometry.polygon import orient
+from shapely.ops import nearest_points
+
+from deflect.errors import ModelError
+from deflect.geometry.section import Section
+from deflect.job.process import SURFACES, Pass
+
+# Each side as a frame (u, v): u grows towards the tool, v runs along the surface. The maps are symmetric
+# reflections or the identity, so the same matrix takes (r, z) to (u, v) and back.
+_FRAME = {
+    "od": np.array([[1.0, 0.0], [0.0, 1.0]]),     # u = r,  v = z
+    "id": np.array([[-1.0, 0.0], [0.0, 1.0]]),    # u = -r, v = z
+    "face": np.array([[0.0, 1.0], [1.0, 0.0]]),   # u = z,  v = r
+}
+# Offset arcs are split so that no chord strays more than this from the true offset circle [mm]:
+# 0.1 um, far below any turned tolerance.
+BUFFER_CHORD_MM = 1e-4
+_MIN_QUAD_SEGS = 8
+_MAX_QUAD_SEGS = 512
+# A piece cut loose that is smaller than this share of the section's area is a chip, not a second part.
+CHIP_SHARE = 1e-3
+# Lengths below this fraction of the part's size count as zero (float rounding is ~1e-16 of it).
+_REL_TOL = 1e-9
+# Most entries of the (slabs x edges) and (rays x edges) work arrays handled at once.
+_WORK_ENTRIES = 2_000_000
+
+
+@dataclass(frozen=True, eq=False)
+class CutPath:
+    """One cut of a pass: where the tool tip's finished surface should be, station by station."""
+
+    points_rz: np.ndarray   # (K, 2) target points [mm] in feed order (start -> end)
+    normals: np.ndarray     # (K, 2) unit outward normal of the target surface (pointing at the tool)
+    feed_dir: np.ndarray    # (K, 2) unit feed direction along the path
+
+
+@dataclass(frozen=True, eq=False)
+class Deviation:
+    """Material left beyond the drawn surface along the finished boundary."""
+
+    points_rz: np.ndarray     # (N, 2) points on the nominal boundary [mm]
+    normals: np.ndarray       # (N, 2) unit outward normal of the nominal boundary
+    deviation_mm: np.ndarray  # (N,) material beyond the nominal surface along the normal [mm]; > 0 thicker
+    segment: np.ndarray       # (N,) index of the section segment each point lies on
+
+
+# ---------------------------------------------------------------------------------------------------
+# the visible envelope of a polygon from one side
+
+def _frame(surface: str) -> np.ndarray:
+    if surface not in _FRAME:
+        raise ValueError(f"surface must be one of {', '.join(SURFACES)}, got {surface!r}")
+    return _FRAME[surface]
+
+
+def _ring_edges(geometry) -> np.ndarray:
+    """Every boundary edge (E, 4) as u0, v0, u1, v1 of a shapely polygon or multipolygon."""
+    edges = []
+    for poly in shapely.get_parts(geometry):
+        for ring in (poly.exterior, *poly.interiors):
+            xy = np.asarray(ring.coords)
+            edges.append(np.column_stack([xy[:-1], xy[1:]]))
+    return np.concatenate(edges) if edges else np.zeros((0, 4))
+
+
+def _drop_repeats_and_collinear(points: np.ndarray, tol: float) -> np.ndarray:
+    """The polyline without repeated points and without interior points on a straight run."""
+    keep = np.ones(len(points), bool)
+    keep[1:] = np.linalg.norm(np.diff(points, axis=0), axis=1) > tol
+    points = points[keep]
+    if len(points) < 3:
+        return points
+    a = points[1:-1] - points[:-2]
+    b = points[2:] - points[1:-1]
+    cross = a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]
+    dot = np.einsum("ij,ij->i", a, b)
+    straight = (np.abs(cross) <= _REL_TOL * np.linalg.norm(a, axis=1) * np.linalg.norm(b, axis=1)) & (dot > 0)
+    return points[np.concatenate([[True], ~straight, [True]])]
+
+
+def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> np.ndarray:
+    """The largest-u boundary over v_lo <= v <= v_hi as a polyline (M, 2) of (u, v), v non-decreasing.
+
+    Between two consecutive vertex levels of v no edge of a simple polygon crosses another, so one edge is
+    outermost over the whole slab; where the outermost edge changes with a jump in u, the polyline runs
+    across at constant v (a shoulder as the tool sees it).
+    """
+    u0, v0, u1, v1 = edges.T
+    slanted = np.abs(v1 - v0) > tol
+    u0, v0, u1, v1 = u0[slanted], v0[slanted], u1[slanted], v1[slanted]
+    levels = np.concatenate([v0, v1])
+    levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo) & (levels < v_hi)]]))
+    bottom, top = levels[:-1], levels[1:]
+    lo_edge, hi_edge = np.minimum(v0, v1), np.maximum(v0, v1)
+    slope = (u1 - u0) / (v1 - v0)
+    chosen = np.empty(len(bottom), int)
+    rows = max(1, _WORK_ENTRIES // max(1, len(u0)))
+    for first in range(0, len(bottom), rows):
+        mid = 0.5 * (bottom[first:first + rows] + top[first:first + rows])[:, None]
+        spans = (lo_edge < mid) & (hi_edge > mid)
+        if not spans.any(axis=1).all():
+            gap = float(mid[~spans.any(axis=1)][0, 0])
+            raise ModelError(f"the surface has a gap at {gap:.6g} mm along the pass")
+        u_mid = np.where(spans, u0 + (mid - v0) * slope, -np.inf)
+        chosen[first:first + rows] = np.argmax(u_mid, axis=1)
+    u_bottom = u0[chosen] + (bottom - v0[chosen]) * slope[chosen]
+    u_top = u0[chosen] + (top - v0[chosen]) * slope[chosen]
+    points = np.empty((2 * len(bottom), 2))
+    points[0::2] = np.column_stack([u_bottom, bottom])
+    points[1::2] = np.column_stack([u_top, top])
+    return _drop_repeats_and_collinear(points, tol)
+
+
+def _quad_segs(distance_mm: float) -> int:
+    """Segments per quarter circle so that an offset arc's chords stray < BUFFER_CHORD_MM (sagitta)."""
+    if abs(distance_mm) <= BUFFER_CHORD_MM:
+        return _MIN_QUAD_SEGS
+    half_angle = math.acos(1.0 - BUFFER_CHORD_MM / abs(distance_mm))
+    return int(min(_MAX_QUAD_SEGS, max(_MIN_QUAD_SEGS, math.ceil(math.pi / (4.0 * half_angle)))))
+
+
+def _face_without_walls(envelope: np.ndarray, v_lo: float, v_hi: float, tol: float) -> np.ndarray:
+    """A face pass's envelope that never runs down a wall: from the face (the highest point within the pass's
+    extent) outwards, where the envelope drops at constant v (down the OD or into the bore, as the face's
+    highest-z view sees them), it carries on at the level above the drop instead, as a facing tool that
+    overruns the edge of the face does."""
+    within = np.flatnonzero((envelope[:, 1] >= v_lo - tol) & (envelope[:, 1] <= v_hi + tol))
+    if len(within) == 0:
+        return envelope
+    held = envelope.copy()
+    top = int(within[np.argmax(envelope[within, 0])])
+    for step in (1, -1):
+        level = None
+        i = top
+        while 0 <= i + step < len(held):
+            here, there = held[i], envelope[i + step]
+            if level is None and abs(there[1] - here[1]) <= tol and there[0] < here[0] - tol:
+                level = here[0]
+            if level is not None:
+                held[i + step, 0] = level
+            i += step
+    return _drop_repeats_and_collinear(held, tol)
+
+
+def _offset_envelope(nominal_uv: np.ndarray, offset_mm: float, v_lo: float, v_hi: float, tol: float,
+                     hold_walls: bool = False) -> np.ndarray:
+    """The nominal's visible envelope offset by offset_mm towards +u, over [v_lo, v_hi], in (u, v).
+
+    The envelope is first carried on at constant u beyond the part's ends (the tool keeps its last
+    position and feeds on to the end of the pass), closed far on the -u side into a region that holds
+    everything the tool cannot see, and that region is dilated (offset > 0) or eroded (offset < 0) by a
+    disc. Offsetting this region rather than the part moves only the surface on the pass's side, never the
+    opposite wall.
+    """
+    part_lo, part_hi = nominal_uv[:, 1].min(), nominal_uv[:, 1].max()
+    envelope = _upper_envelope(np.column_stack([nominal_uv, np.roll(nominal_uv, -1, axis=0)]),
+                               part_lo, part_hi, tol)
+    if hold_walls:
+        envelope = _face_without_walls(envelope, v_lo, v_hi, tol)
+    size = float(np.ptp(nominal_uv, axis=0).max())
+    margin = abs(offset_mm) + 1.0
+    ext_lo, ext_hi = min(part_lo, v_lo) - margin, max(part_hi, v_hi) + margin
+    u_far_side = envelope[:, 0].min() - 2.0 * abs(offset_mm) - size - 1.0
+    hidden = Polygon(np.vstack([[envelope[0, 0], ext_lo], envelope, [envelope[-1, 0], ext_hi],
+                                [u_far_side, ext_hi], [u_far_side, ext_lo]]))
+    if offset_mm != 0.0:
+        hidden = hidden.buffer(offset_mm, quad_segs=_quad_segs(offset_mm), join_style="round")
+    return _upper_envelope(_ring_edges(hidden), v_lo, v_hi, tol)
+
+
+# ---------------------------------------------------------------------------------------------------
+# cut paths
+
+def _unit_rows(vectors: np.ndarray) -> np.ndarray:
+    return vectors / np.linalg.norm(vectors, axis=1)[:, None]
+
+
+def _sampled(polyline: np.ndarray, spacing_mm: float) -> tuple[np.ndarray, np.ndarray]:
+    """Points along the polyline, every vertex kept and no two more than spacing_mm apart, with unit
+    tangents (at a vertex the mean of the two neighbouring segments' directions; an envelope never turns
+    back on itself, so the mean is never zero)."""
+    steps = np.diff(polyline, axis=0)
+    lengths = np.linalg.norm(steps, axis=1)
+    directions = steps / lengths[:, None]
+    counts = np.maximum(1, np.ceil(lengths / spacing_mm - _REL_TOL).astype(int))
+    points, tangents = [], []
+    for i, n in enumerate(counts):
+        t = np.arange(n)[:, None] / n
+        points.append(polyline[i] + t * steps[i])
+        seg_tangents = np.tile(directions[i], (n, 1))
+        if i > 0:
+            seg_tangents[0] = directions[i - 1] + directions[i]
+        tangents.append(seg_tangents)
+    points.append(polyline[-1:])
+    tangents.append(directions[-1:])
+    return np.concatenate(points), _unit_rows(np.concatenate(tangents))
+
+
+def _cut_path(envelope_uv: np.ndarray, frame: np.ndarray, start_mm: float, end_mm: float,
+              spacing_mm: float) -> CutPath:
+    """A CutPath in (r, z) along an envelope polyline (v non-decreasing), in feed order start -> end."""
+    points, tangents = _sampled(envelope_uv, spacing_mm)
+    # v grows along the envelope and the tool lies at +u: the outward normal is the tangent turned clockwise
+    normals = np.column_stack([tangents[:, 1], -tangents[:, 0]])
+    if start_mm > end_mm:
+        points, tangents, normals = points[::-1], -tangents[::-1], normals[::-1]
+    return CutPath(points_rz=points @ frame, normals=normals @ frame, feed_dir=tangents @ frame)
+
+
+def _tolerance(rz: np.ndarray) -> float:
+    return _REL_TOL * max(1.0, float(np.abs(rz).max()))
+
+
+def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start_mm: float, end_mm: float,
+                   spacing_mm: float) -> CutPath:
+    """The finished contour offset by offset_mm along its outward normal, seen from the pass's side.
+
+    Parameters
+    ----------
+    nominal_rz : (N, 2) polygon of the finished part [mm]
+    surface : "od" (the outermost boundary at each z), "id" (the innermost at each z) or "face" (the
+        highest z at each r)
+    offset_mm : distance of the target outside the finished contour [mm]; negative cuts deeper
+    start_mm, end_mm : the pass's extent, z for od / id and r for face [mm]; start -> end is the feed
+        direction. Where the extent runs beyond the part the target carries on at its last radius (od, id)
+        or height (face); a face pass whose extent runs past the edge of its face carries on at the face's
+        edge height rather than running down the wall beyond it.
+    spacing_mm : most distance between two target points [mm]
+    """
+    frame = _frame(surface)
+    if not spacing_mm > 0.0:
+        raise ValueError(f"spacing must be a positive length in mm, got {spacing_mm!r}")
+    if start_mm == end_mm:
+        raise ValueError("a pass needs a start and an end that differ")
+    nominal_uv = np.asarray(nominal_rz, float) @ frame
+    envelope = _offset_envelope(nominal_uv, float(offset_mm), min(start_mm, end_mm), max(start_mm, end_mm),
+                                _tolerance(nominal_uv), hold_walls=surface == "face")
+    return _cut_path(envelope, frame, start_mm, end_mm, spacing_mm)
+
+
+def compensated(target: CutPath, p: Pass) -> CutPath:
+    """The target with the pass's programmed compensation: each point moved along the pass's in-feed (in X
+    for an od or bore pass, in Z for a face pass, as a lathe program is corrected) by the compensation
+    interpolated at its position (z for od / id, r for face; held beyond the pairs given). On the cylinder
+    this is the outward normal; where the path runs onto a face or a fillet, the face is not cut into."""
+    if not p.compensation:
+        return target
+    shift = compensation_mm(target.points_rz, p)
+    return CutPath(points_rz=target.points_rz + shift[:, None] * _in_feed(p.surface)[None, :],
+                   normals=target.normals, feed_dir=target.feed_dir)
+
+
+def compensation_mm(points_rz: np.ndarray, p: Pass) -> np.ndarray:
+    """The pass's programmed compensation at each point [mm]: interpolated at its position (z for od / id,
+    r for face) and held beyond the pairs given; 0 without compensation."""
+    if not p.compensation:
+        return np.zeros(len(points_rz))
+    positions, offsets = np.array(p.compensation).T
+    return np.interp(points_rz[:, 0 if p.surface == "face" else 1], positions, offsets)
+
+
+def _in_feed(surface: str) -> np.ndarray:
+    """Unit direction (r, z) from the part towards the tool: +r for od, -r for id, +z for face."""
+    return np.array([1.0, 0.0]) @ _frame(surface)
+
+
+def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spacing_mm: float) -> list[CutPath]:
+    """The cuts of one pass on the current part, in order.
+
+    When the deepest stock beyond the final target exceeds the pass's most depth per cut, the stock is
+    taken in n = ceil(d_max / depth) cuts of equal depth s = d_max / n (REFERENCE.md section 10, common
+    practice): the k-th cut (k = 1 .. n-1) runs on the final target moved out by (n - k) s. The target is
+    moved, and d_max measured, along the pass's in-feed (radially out for od, towards the axis for id,
+    axially for face): on the cylinders and faces a pass is for this is its normal, and unlike moving each
+    point along its own normal it never folds the target over itself at a shoulder or a corner, nor counts
+    the stock above a shoulder (which the tool takes radially) as depth. Then the final cut, then `spring`
+    more cuts on the final target.
+    """
+    final = compensated(target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm,
+                                       spacing_mm), p)
+    cuts = []
+    if p.depth_mm is not None:
+        in_feed = _in_feed(p.surface)
+        along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
+        deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
+        n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
+        for k in range(1, n_cuts):
+            shift = (n_cuts - k) * deepest / n_cuts * in_feed
+            cuts.append(CutPath(points_rz=final.points_rz + shift, normals=final.normals, feed_dir=final.feed_dir))
+    cuts.append(final)
+    cuts.extend([final] * p.spring)
+    return cuts
+
+
+# ---------------------------------------------------------------------------------------------------
+# rays through the material
+
+def _ray_hits(polygon_rz: np.ndarray, origins: np.ndarray, directions: np.ndarray,
+              lean: float) -> tuple[np.ndarray, np.ndarray]:
+    """For rays from origins (K, 2) along unit directions (K, 2) through a polygon (N, 2): whether each
+    ray starts in the material, and the distance [mm] to its first crossing of the boundary (inf: none).
+
+    Even-odd crossing count along the ray, read as shifted an infinitesimal step to its left (lean = +1)
+    or right (lean = -1): a vertex on the ray's line then lies on one side, so a vertex is counted once
+    and a ray along a boundary edge has a definite answer. Crossings within a rounding length of the
+    origin are the origin's own surface and do not count: a point on the boundary is read as lying on the
+    side the ray goes into.
+    """
+    a, b = polygon_rz, np.roll(polygon_rz, -1, axis=0)
+    both = np.vstack([polygon_rz, origins])
+    tol = _tolerance(both)
+    # only edges whose bounding box meets the ray (cut at twice the size of everything) can cross it: an
+    # R-tree of the edges gives those pairs, so the work grows with the crossings, not rays x edges
+    reach = 2.0 * float(np.ptp(both, axis=0).max()) + 1.0
+    rays = shapely.linestrings(np.stack([origins, origins + reach * directions], axis=1))
+    ray, edge = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1))).query(rays)
+    o, d, a, b = origins[ray], directions[ray], a[edge], b[edge]
+    # lean * cross(d, p - o): > 0 on the side the ray is shifted away from
+    side_a = lean * (d[:, 0] * (a[:, 1] - o[:, 1]) - d[:, 1] * (a[:, 0] - o[:, 0]))
+    side_b = lean * (d[:, 0] * (b[:, 1] - o[:, 1]) - d[:, 1] * (b[:, 0] - o[:, 0]))
+    crosses = (side_a > 0.0) != (side_b > 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = side_a / (side_a - side_b)          # where along the edge it meets the ray's line
+    t = (d[:, 0] * (a[:, 0] - o[:, 0]) + d[:, 1] * (a[:, 1] - o[:, 1])
+         + share * (d[:, 0] * (b[:, 0] - a[:, 0]) + d[:, 1] * (b[:, 1] - a[:, 1])))
+    ahead = crosses & (t > tol)
+    inside = np.bincount(ray[ahead], minlength=len(origins)) % 2 == 1
+    first = np.full(len(origins), np.inf)
+    np.minimum.at(first, ray[ahead], t[ahead])
+    return inside, first
+
+
+def _material_along(polygon_rz: np.ndarray, origins: np.ndarray,
+                    directions: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(length of material from each origin along its ray [mm], 0 in air; distance to the first material
+    ahead of an origin in air [mm], inf if none), the polygon taken with its boundary (a ray along an edge
+    runs in the material)."""
+    polygon_rz = np.asarray(polygon_rz, float)
+    left_inside, left_first = _ray_hits(polygon_rz, origins, directions, +1.0)
+    right_inside, right_first = _ray_hits(polygon_rz, origins, directions, -1.0)
+    length = np.maximum(np.where(left_inside, left_first, 0.0), np.where(right_inside, right_first, 0.0))
+    gap = np.minimum(np.where(left_inside, np.inf, left_first), np.where(right_inside, np.inf, right_first))
+    return length, np.where(length > 0.0, 0.0, gap)
+
+
+def depth_of_material(current_rz: np.ndarray, path: CutPath) -> np.ndarray:
+    """(K,) depth of material [mm] beyond each target point: the length of the ray from the point along
+    its outward normal that stays inside the current part (0 where the point is in air)."""
+    return _material_along(current_rz, path.points_rz, path.normals)[0]
+
+
+def deviation_along(nominal_section: Section, machined_rz: np.ndarray, spacing_mm: float) -> Deviation:
+    """Material left beyond the nominal surface along its outward normal, at points of the finished
+    boundary at most spacing_mm apart (points on the spin axis left out).
+
+    Positive where the machined part is thicker than drawn (stock no pass removed counts), negative where
+    it is thinner (the distance from the drawn surface inwards to the machined one), 0 where the machined
+    surface is the drawn one.
+    """
+    samples = nominal_section.sample(spacing_mm)
+    machined_rz = np.asarray(machined_rz, float)
+    keep = samples.points[:, 0] > _tolerance(np.vstack([machined_rz, samples.points]))
+    points, normals, segment = samples.points[keep], samples.normals[keep], samples.segment[keep]
+    beyond, _ = _material_along(machined_rz, points, normals)
+    behind, gap = _material_along(machined_rz, points, -normals)
+    deviation = beyond.copy()                   # on the machined surface with the material inside: 0
+    in_air = (beyond == 0.0) & (behind == 0.0)  # cut below the drawing by the gap to the material
+    deviation[in_air] = -gap[in_air]
+    lost = np.flatnonzero(np.isinf(deviation))        # no material at all along the normal's line
+    if lost.size:
+        machined = Polygon(machined_rz)
+        deviation[lost] = [-machined.distance(Point(p)) for p in points[lost]]
+    return Deviation(points_rz=points, normals=normals, deviation_mm=deviation, segment=segment)
+
+
+# ---------------------------------------------------------------------------------------------------
+# taking material away
+
+def _ccw_array(polygon: Polygon) -> np.ndarray:
+    """The exterior ring counter-clockwise, first point not repeated, points on straight runs dropped
+    (the stations of a cut along a line would otherwise pile up pass after pass)."""
+    return np.asarray(orient(shapely.simplify(polygon, 0.0), sign=1.0).exterior.coords)[:-1]
+
+
+def _swept(surface_uv: np.ndarray, u_far: float) -> Polygon:
+    """Each segment of the polyline swept to u_far, all together."""
+    a, b = surface_uv[:-1], surface_uv[1:]
+    moving = a[:, 1] != b[:, 1]
+    a, b = a[moving], b[moving]
+    far_a = np.column_stack([np.full(len(a), u_far), a[:, 1]])
+    far_b = np.column_stack([np.full(len(b), u_far), b[:, 1]])
+    return shapely.union_all(shapely.polygons(np.stack([a, b, far_b, far_a, a], axis=1)))
+
+
+def _region_beyond(surface_uv: np.ndarray, u_far: float) -> Polygon:
+    """The region on the tool's side (+u) of the surface polyline, over the polyline's v-extent:
+    everything the tool, coming from +u, passes over as its tip runs along the surface.
+
+    The polyline is split where it turns back along v (where the push-off turns the normals); each run
+    that goes one way is closed at u_far into one polygon (or, should it touch itself, swept segment by
+    segment), and the runs are united.
+    """
+    sign = np.sign(np.diff(surface_uv[:, 1]))
+    moving = np.flatnonzero(sign)
+    turns = moving[1:][sign[moving[1:]] != sign[moving[:-1]]]
+    ends = [0, *turns.tolist(), len(surface_uv) - 1]
+    regions = []
+    for first, last in zip(ends[:-1], ends[1:]):
+        run = surface_uv[first:last + 1]
+        if run[0, 1] == run[-1, 1]:
+            continue   # runs across the pass only: sweeps nothing
+        region = Polygon(np.vstack([run, [u_far, run[-1, 1]], [u_far, run[0, 1]]]))
+        regions.append(region if region.is_valid else _swept(run, u_far))
+    return shapely.union_all(regions)
+
+
+def remove(current_rz: np.ndarray, path: CutPath, left_mm: np.ndarray, surface: str, upto: int | None = None,
+           name: str = "the pass") -> np.ndarray:
+    """The part after a cut: the current part minus everything beyond the surface actually left.
+
+    Parameters
+    ----------
+    current_rz : (N, 2) polygon of the part before the cut [mm]
+    path : the cut's target
+    left_mm : (K,) how far the surface actually left lies outside the target, along its normals [mm]
+        (the push-off of part and tool); 0 cuts exactly to the target
+    surface : "od", "id" or "face": the side the tool comes from
+    upto : when given, only stations 0..upto are cut: the part while the tool stands at station upto,
+        with the material ahead of it still there
+    name : the pass's name, for messages
+
+    Returns the counter-clockwise (M, 2) polygon of what is left. Raises ModelError when the cut leaves the
+    part in two pieces or nothing at all.
+    """
+    frame = _frame(surface)
+    left_mm = np.broadcast_to(np.asarray(left_mm, float), (len(path.points_rz),))
+    left_surface = path.points_rz + left_mm[:, None] * path.normals
+    if upto is not None:
+        if not 0 <= upto < len(left_surface):
+            raise ValueError(f"upto must be a station index 0..{len(left_surface) - 1}, got {upto}")
+        left_surface = left_surface[:upto + 1]
+    current = Polygon(current_rz)
+    if len(left_surface) < 2:
+        return _ccw_array(current)
+    current_uv = np.asarray(current_rz, float) @ frame
+    surface_uv = left_surface @ frame
+    u_far = max(current_uv[:, 0].max(), surface_uv[:, 0].max()) + 1.0
+    region = shapely.transform(_region_beyond(surface_uv, u_far), lambda xy: xy @ frame)
+    # a scrap far smaller than the part (the skin an earlier push-off left, cut loose at an edge) comes
+    # off as a chip; only a real second piece means the pass cuts the part in two
+    pieces = [piece for piece in shapely.get_parts(current.difference(region))
+              if piece.geom_type == "Polygon" and piece.area > CHIP_SHARE * current.area]
+    if not pieces:
+        raise ModelError(f"{name} consumes the wall: nothing of the part is left beyond its target; "
+                         "check its allowance, offset and extent")
+    if len(pieces) > 1:
+        pieces.sort(key=lambda piece: piece.area, reverse=True)
+        a, b = nearest_points(pieces[0], pieces[1])
+        r, z = 0.5 * (a.x + b.x), 0.5 * (a.y + b.y)
+        raise ModelError(f"{name} cuts the part in two at r = {r:.4g}, z = {z:.4g}: its target reaches the "
+                         "opposite surface there; check its allowance, offset and extent")
+    return _ccw_array(pieces[0])
+
+
+# ---------------------------------------------------------------------------------------------------
+# mass properties
+
+def polygon_mass(rz: np.ndarray, density_g_cm3: float) -> tuple[float, float, float]:
+    """(mass [g], axial mass moment of inertia [kg mm2], volume [mm3]) of the solid of revolution of a
+    polygon (N, 2) of (r, z), either orientation.
+
+    Green's theorem turns each area integral into a boundary one: with Q = r^(n+1) / (n+1),
+    int int r^n dA = closed int Q dz, which on a straight edge from (r0, z0) to (r1, z1) is exactly
+    (z1 - z0) / ((n + 1)(n + 2)) * sum_{k=0}^{n+1} r0^k r1^(n+1-k). Volume = 2 pi int int r dA (Pappus),
+    inertia = rho 2 pi int int r^3 dA.
+    """
+    rz = np.asarray(rz, float)
+    r0, z0 = rz[:, 0], rz[:, 1]
+    r1, z1 = np.roll(r0, -1), np.roll(z0, -1)
+    dz = z1 - z0
+    area = 0.5 * np.sum(r0 * z1 - r1 * z0)
+    sign = 1.0 if area >= 0.0 else -1.0   # clockwise input: every boundary integral changes sign
+    first_moment = sign * np.sum(dz * (r0**2 + r0 * r1 + r1**2)) / 6.0
+    third_moment = sign * np.sum(dz * (r0**4 + r0**3 * r1 + r0**2 * r1**2 + r0 * r1**3 + r1**4)) / 20.0
+    volume_mm3 = 2.0 * math.pi * first_moment
+    mass_g = density_g_cm3 * volume_mm3 * 1e-3            # g/cm3 * mm3: 1 cm3 = 1000 mm3
+    inertia_kg_mm2 = density_g_cm3 * 1e-6 * 2.0 * math.pi * third_moment   # 1 g/cm3 = 1e-6 kg/mm3
+    return float(mass_g), float(inertia_kg_mm2), float(volume_mm3)

@@ -1,0 +1,691 @@
+"""Machining simulation: every pass over the in-process part, with the wall giving way under the tool.
+
+Takes a checked `Job` and its `Process` (stock, tools, passes, machine); gives a `results.Prediction`.
+
+For each pass, cut by cut (roughing steps, the finishing cut, spring cuts), station by station along the
+tool path:
+1. the depth of material the tool meets beyond its target, on the part as it is when the tool arrives
+   (`met_depth`); earlier push-off is already in it, so leftover becomes extra depth;
+2. the 3x3 compliance of the part as it is while the tool stands there: material this cut has removed up
+   to the tool is gone, material ahead is still there (`inprocess.remove(..., upto=k)`, then a new shell
+   model of that shape, `compliance.WallModel`). It is computed at key stations of each cut, all of them
+   planned before any equilibrium is solved (`plan_compliance`, on the part cut to its targets), and
+   interpolated along the path between them (`KEY_STATIONS`; the convergence test doubles them);
+3. the cutting, feed and passive forces of the chip actually taken (`cutting.cutting_forces`: Kienzle on
+   Colwell's equivalent edge) and the force-deflection equilibrium
+       a = a_met - delta(a),   delta = (C_nn + c_tool) F_p + C_na s F_f,
+   (C_na the normal response to a force along the boundary, s the sign of the feed along it), solved by
+   bisection on [0, 2 a_met] (delta grows with a unless the feed force pulls the wall into the tool; a station
+   left unbalanced is reported as a cut that digs in);
+4. the surface the cut leaves is the target pushed out by delta (`inprocess.remove`).
+
+The force constants are uncertain (batch, wear): the whole chain is run again with every force scaled by
+1 - spread and 1 + spread, reusing the compliances (they do not depend on the force constants), to give the
+range of every headline figure.
+"""
+
+from __future__ import annotations
+
+import math
+import multiprocessing
+import os
+from concurrent.futures import ProcessPoolExecutor
+from contextlib import contextmanager
+from dataclasses import dataclass, replace
+
+import numpy as np
+import shapely
+from scipy.interpolate import PchipInterpolator
+from scipy.spatial import cKDTree
+from shapely.geometry import Polygon
+from shapely.geometry.polygon import orient
+from threadpoolctl import threadpool_limits
+
+from deflect.errors import InputError, ModelError
+from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_properties
+from deflect.job.holding import holding_from_table
+from deflect.job.process import Pass, Process
+from deflect.machining.inprocess import CutPath, cuts_for_pass, depth_of_material, deviation_along, polygon_mass, remove
+from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.mechanics.chuck import centrifugal_force_n, grip_in_cut_n
+from deflect.mechanics.clamping import released_deviation
+from deflect.mechanics.compliance import Patch, WallModel
+from deflect.mechanics.cutting import cutting_forces, cutting_time_s, spindle_speed_rpm
+
+STATION_SPACING_MM = 0.1        # tool positions along a path; fine enough for the chords of 1 mm fillets
+KEY_STATIONS = 8                # compliance evaluations per cut, interpolated between; doubling them (and halving
+                                # the station spacing) moves the housing's mass gain 0.12 %, the test sleeve's
+                                # largest deviation 0.00 % (6 keys: 1.3 % and 0.1 %; tests/test_simulate.py)
+# The tool's contact: 1 mm along the meridian (of the order of the chip width), 2 mm around. A 1 x 1 mm
+# patch reads about 2 % more compliant on a 1.2 mm aluminium wall, well inside the force constants' spread.
+CONTACT_PATCH = Patch(length_mm=1.0, width_mm=2.0)
+ELEMENT_MM = 0.5                # meridian elements: within 0.3 % of a 4x finer mesh on thin walls, 2 % at junctions
+HARMONIC_TOLERANCE = 1e-2       # bound on the series' tail; the true truncation error is far smaller
+RUN_TURN_DEG = 10.0             # a path's stretch of constant normal ends where the normal has turned this much
+MET_TURN_DEG = 30.0             # where the path turns this much, the depth met is measured on the part as cut so far
+SHORTEST_RUN_SHARE = 0.1        # stretches shorter than this share of a cut get no key station of their own
+MAX_WORKERS = 4                 # processes for the key stations' shell models
+KEEP_MM = 1e-6                  # the in-process part keeps its shape to this (far below any push-off)
+SLIVER_MM = 0.005               # half the thickness of the thinnest sliver the shell model is given
+SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
+DEVIATION_SPACING_MM = 0.1
+MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubbing (common practice: a honed
+                                # carbide edge needs a chip of a few um to cut at all)
+RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
+ROOT_STEPS = 60                 # most steps of the bracketed root search (it takes about 10)
+ROOT_TOLERANCE = 1e-13          # relative residual the root search stops at
+CYLINDER_COS = 0.999            # a finished od or bore point counts as cylindrical within 2.6 degrees of radial
+EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
+
+
+@dataclass(frozen=True)
+class SimulationSettings:
+    station_spacing_mm: float = STATION_SPACING_MM
+    key_stations: int = KEY_STATIONS
+    patch: Patch = CONTACT_PATCH
+    element_mm: float = ELEMENT_MM
+    harmonic_tolerance: float = HARMONIC_TOLERANCE
+
+
+def simplified(rz: np.ndarray, tolerance_mm: float) -> np.ndarray:
+    """The counter-clockwise polygon with the points that lie within tolerance_mm of a straight line dropped
+    (the station points of a straight cut, for instance)."""
+    simple = shapely.simplify(Polygon(rz), tolerance_mm, preserve_topology=True)
+    return np.asarray(orient(simple, 1.0).exterior.coords)[:-1]
+
+
+def without_slivers(rz: np.ndarray) -> np.ndarray:
+    """The polygon without slivers thinner than 2 SLIVER_MM (a morphological opening with square corners):
+    a pass that stops exactly at the radius an earlier pass left leaves a skin of the earlier push-off,
+    micrometres thick, that carries no load and that no shell model should resolve."""
+    opened = Polygon(rz).buffer(-SLIVER_MM, join_style="mitre").buffer(SLIVER_MM, join_style="mitre")
+    pieces = sorted(shapely.get_parts(opened), key=lambda piece: piece.area)
+    return np.asarray(orient(pieces[-1], 1.0).exterior.coords)[:-1] if pieces else rz
+
+
+def section_of_polygon(rz: np.ndarray) -> Section:
+    """A Section made of the straight edges of a counter-clockwise polygon (already valid), without slivers
+    and simplified to SIMPLIFY_MM, for the shell model."""
+    points = [tuple(map(float, p)) for p in simplified(without_slivers(rz), SIMPLIFY_MM)]
+    return Section(tuple(Line(points[i], points[(i + 1) % len(points)]) for i in range(len(points))))
+
+
+def straight_runs(normals: np.ndarray, turn_deg: float = RUN_TURN_DEG) -> list[tuple[int, int]]:
+    """Stretches of a path whose normal stays within turn_deg of its first station's (od, bore, face, and
+    short pieces of a fillet): (first, last) station indices."""
+    runs, first = [], 0
+    cos_turn = math.cos(math.radians(turn_deg))
+    for k in range(1, len(normals)):
+        if np.dot(normals[k], normals[first]) < cos_turn:
+            runs.append((first, k - 1))
+            first = k
+    runs.append((first, len(normals) - 1))
+    return runs
+
+
+def key_indices(path: CutPath, met_depth_mm: np.ndarray, count: int, lead_in: int) -> np.ndarray:
+    """Stations where the compliance is computed. Interpolating across a corner of the path would mix
+    compliances along different normals, so keys are placed on each stretch of constant normal where the
+    tool cuts, from `lead_in` stations after its start (once the whole patch bears on the surface this cut
+    has left; `behind_and_lead_in`) to its end, about `count` in all; stretches shorter than SHORTEST_RUN_SHARE of the cut (fillets, a short
+    shoulder) take their neighbours' values. A path with no such stretch gets one key in the middle of its cut."""
+    cutting = np.flatnonzero(met_depth_mm > 0.0)
+    if len(cutting) == 0:
+        return cutting
+    runs = []
+    shortest = max(2 * lead_in, round(SHORTEST_RUN_SHARE * len(cutting)))
+    for first, last in straight_runs(path.normals):
+        inside = cutting[(cutting >= first) & (cutting <= last)]
+        if len(inside) > shortest:
+            runs.append((inside[0] + lead_in, inside[-1]))
+    if not runs:
+        return np.array([cutting[len(cutting) // 2]])
+    total = sum(last - first for first, last in runs)
+    keys = [first + (last - first) * clustered(max(2, round(count * (last - first) / total)))
+            for first, last in runs]
+    return np.unique(np.concatenate(keys).round().astype(int))
+
+
+def clustered(m: int) -> np.ndarray:
+    """m points on [0, 1], closer together at the ends (Chebyshev-Lobatto), where the compliance of a wall
+    changes fastest: at its free end and where it is held."""
+    return 0.5 * (1.0 - np.cos(np.pi * np.arange(m) / (m - 1)))
+
+
+def met_depth(current_rz: np.ndarray, path: CutPath, p: Pass) -> np.ndarray:
+    """Depth of material the tool meets at each station, on the part as it is when the tool arrives there.
+
+    Along the first stretch of the path this is the stock beyond the target on the part before the cut. Once
+    the path turns a corner (down a shoulder after the longitudinal cut, say), the material beyond the target
+    along the new normal was partly taken by this very cut on the earlier stretches: the depth there is
+    measured on the part with the earlier stretches already cut."""
+    met = depth_of_material(current_rz, path)
+    runs = straight_runs(path.normals, MET_TURN_DEG)
+    for first, last in runs[1:]:
+        if not (met[first:last + 1] > 0.0).any():
+            continue
+        arrived = remove(current_rz, path, np.zeros(len(path.points_rz)), p.surface, upto=first - 1,
+                         name=f"'{p.name}'")
+        stretch = CutPath(points_rz=path.points_rz[first:last + 1], normals=path.normals[first:last + 1],
+                          feed_dir=path.feed_dir[first:last + 1])
+        met[first:last + 1] = depth_of_material(arrived, stretch)
+    return met
+
+
+def contact_point(path: CutPath, k: int, behind_mm: float) -> np.ndarray:
+    """Where the tool bears on the part: on the freshly cut surface just behind the tool tip."""
+    travelled = np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1))])
+    shift = min(behind_mm, 0.5 * travelled[k])   # near the start: midway between the part's end and the tool
+    return path.points_rz[k] - shift * path.feed_dir[k]
+
+
+def behind_and_lead_in(settings: SimulationSettings) -> tuple[float, int]:
+    """How far behind the tool it bears on the cut surface [mm], and the stations from the start of a
+    stretch to its first key station: one patch length, so that every key station's patch lies whole on
+    the surface this cut has left. Closer to the start the patch is clipped by the part's end and by the
+    tool, and its compliance jumps by 5-10 % from one station to the next with how the clipped patch meets
+    the tool mark; those first stations take the first key's value."""
+    behind_mm = 0.5 * settings.patch.length_mm
+    return behind_mm, math.ceil(settings.patch.length_mm / settings.station_spacing_mm)
+
+
+def interpolated(count: int, keys: np.ndarray, at_keys: np.ndarray) -> np.ndarray:
+    """(count, 3, 3) compliance at every station from its values at the key stations. Compliance changes by
+    orders of magnitude from the held end to a free rim: the normal compliance is interpolated in log scale,
+    the other entries in proportion to it. Between keys, a monotone cubic (Fritsch & Carlson, "Monotone
+    piecewise cubic interpolation", SIAM J. Numer. Anal. 17, 1980; scipy's PCHIP) follows the curvature of
+    the compliance along a wall without overshooting it; straight lines through the same keys were up to
+    2 % off between keys 2-3 mm apart. Beyond the first and last key the values are held."""
+    matrices = np.zeros((count, 3, 3))
+    if len(keys) == 0:
+        return matrices
+    stations = np.clip(np.arange(count), keys[0], keys[-1])
+    normal = np.maximum(at_keys[:, 0, 0], 1e-15)
+    if len(keys) == 1:
+        return np.broadcast_to(at_keys[0], (count, 3, 3)).copy()
+    ratios = at_keys / normal[:, None, None]
+    ratios[:, 0, 0] = np.log(normal)
+    values = PchipInterpolator(keys, ratios.reshape(len(keys), 9), axis=0)(stations).reshape(count, 3, 3)
+    normal_at = np.exp(values[:, 0, 0])
+    values[:, 0, 0] = 1.0
+    return normal_at[:, None, None] * values
+
+
+def plan_compliance(job, process: Process, settings: SimulationSettings, nominal_rz: np.ndarray,
+                    memo: dict | None = None) -> dict:
+    """Cut paths and in-process compliance of every cut, computed once for all runs.
+
+    The key stations' shapes are those of a part cut exactly to its targets: the push-off changes a wall by
+    micrometres, its compliance by far less than the force constants' spread. So every key station of every
+    cut is known before any equilibrium is solved, and all of them go to the cores at once. For the same
+    reason the shapes leave out the passes' wear offsets and programmed compensation (micrometres, too):
+    the compliance along a cut with an offset is that of the same cut without it, taken at the same share
+    of the path's length. (Only where an offset changes the number of cuts of a pass is the plan made on
+    the offset targets themselves.)
+    memo: {key station: 3x3} shared between calls on variants of one job (`deflect.decisions.tune`); a key station is
+    looked up by the exact shape, path and station, so the results do not depend on what it holds.
+    Returns {i: cut paths of pass i, (i, j): (K, 3, 3) compliance along cut j of pass i}.
+    """
+    memo = {} if memo is None else memo
+    actual, actual_parts = laid_out(process, nominal_rz, settings.station_spacing_mm, memo)
+    bare = without_corrections(process)
+    geometry, parts = (laid_out(bare, nominal_rz, settings.station_spacing_mm, memo) if bare is not process
+                       else (actual, actual_parts))
+    if any(len(geometry[i]) != len(actual[i]) for i in actual):
+        bare, geometry, parts = process, actual, actual_parts
+    compliance = compliance_along_cuts(job, bare, geometry, parts, settings, memo)
+    plan = dict(actual)
+    for (i, j), values in compliance.items():
+        plan[(i, j)] = resampled(values, geometry[i][j], actual[i][j])
+    return plan
+
+
+def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict):
+    """({i: the cuts of pass i}, {i: the part before each of them}): each pass's cuts laid out on the part
+    cut exactly to the earlier targets. Kept in memo by the part before the pass and the pass's geometry
+    (feed, speed and tool do not change where a pass cuts)."""
+    paths, parts, current = {}, {}, process.stock_rz
+    for i, p in enumerate(process.passes):
+        name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
+                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring)
+        if name not in memo:
+            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm), []
+            after = current
+            for path in cuts:
+                befores.append(after)
+                after = cut_to_target(after, path, p)
+            memo[name] = (cuts, befores, after)
+        paths[i], parts[i], current = memo[name]
+    return paths, parts
+
+
+def cut_to_target(current_rz: np.ndarray, path: CutPath, p: Pass, upto: int | None = None) -> np.ndarray:
+    """The part with the cut taken exactly to its target (no push-off), up to station `upto` or all of it."""
+    cut = remove(current_rz, path, np.zeros(len(path.points_rz)), p.surface, upto=upto, name=f"'{p.name}'")
+    return cut if upto is not None else simplified(cut, KEEP_MM)
+
+
+def without_corrections(process: Process) -> Process:
+    """The process with no wear offsets and no compensation (the process itself if it has none)."""
+    if not any(p.offset_mm or p.compensation for p in process.passes):
+        return process
+    return replace(process, passes=[replace(p, offset_mm=0.0, compensation=()) for p in process.passes])
+
+
+def compliance_along_cuts(job, process: Process, paths: dict, parts: dict, settings: SimulationSettings,
+                          memo: dict) -> dict[tuple[int, int], np.ndarray]:
+    """{(i, j): (K, 3, 3)} compliance along every cut (paths and the parts before them from `laid_out`), from
+    its key stations (the ones not in memo are computed, on the cores at once, and added to it)."""
+    behind_mm, lead_in = behind_and_lead_in(settings)
+    material = (job.material.E_mpa, job.material.nu, tuple((b.r_range, b.z_range) for b in job.held), settings)
+    owners, tasks, wanted = [], [], {}
+    for i, p in enumerate(process.passes):
+        cut_before = None                    # depth met by the pass's previous cut on the same path
+        for j, path in enumerate(paths[i]):
+            current = parts[i][j]
+            placed = ("keys", current.tobytes(), path.points_rz.tobytes(), p.surface, settings)
+            if placed not in memo:
+                met = met_depth(current, path, p)
+                if not (met > 0.0).any() and cut_before is not None and cut_before[0] is path:
+                    # a spring cut meets only the micrometres the cut before left, not there on the part cut
+                    # exactly to the target: its keys go where that cut cut (its compliance is the finished
+                    # part's)
+                    met = cut_before[1]
+                memo[placed] = (key_indices(path, met, settings.key_stations, lead_in), met)
+            keys, met = memo[placed]
+            cut_before = (path, met)
+            names = [(current.tobytes(), path.points_rz.tobytes(), int(k), p.surface, material) for k in keys]
+            owners.append((i, j, len(path.points_rz), keys, names))
+            for k, name in zip(keys, names):
+                if name not in memo and name not in wanted:
+                    wanted[name] = len(tasks)
+                    tasks.append((job, current, path, p, int(k), behind_mm, settings))
+    for name, value in zip(wanted, parallel_map(key_compliance, tasks)):
+        memo[name] = value
+    return {(i, j): interpolated(count, keys, np.array([memo[n] for n in names]).reshape(-1, 3, 3))
+            for i, j, count, keys, names in owners}
+
+
+def resampled(values: np.ndarray, planned: CutPath, actual: CutPath) -> np.ndarray:
+    """Compliance along `actual` from its values along `planned` (the same cut without offsets), matched
+    by the share of the path's length travelled; the normal entry in log scale, as in `interpolated`."""
+    if planned is actual or (len(planned.points_rz) == len(actual.points_rz)
+                             and np.array_equal(planned.points_rz, actual.points_rz)):
+        return values
+    share_planned, share_actual = (travelled_share(path) for path in (planned, actual))
+    normal = np.maximum(values[:, 0, 0], 1e-15)
+    ratios = (values / normal[:, None, None]).reshape(len(values), 9)
+    out = np.stack([np.interp(share_actual, share_planned, column) for column in ratios.T], axis=1)
+    out = out.reshape(-1, 3, 3)
+    out[:, 0, 0] = 1.0
+    return np.exp(np.interp(share_actual, share_planned, np.log(normal)))[:, None, None] * out
+
+
+def travelled_share(path: CutPath) -> np.ndarray:
+    steps = np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1)
+    travelled = np.concatenate([[0.0], np.cumsum(steps)])
+    return travelled / max(travelled[-1], 1e-12)
+
+
+def parallel_map(function, tasks: list[tuple]):
+    """function(*task) for every task, on the machine's cores (each key station is its own shell model, so
+    they are independent; the results come back in order, so the answer does not depend on the core count).
+    Inside `kept_workers` the same worker processes serve every call."""
+    workers = min(len(tasks), os.cpu_count() or 1, MAX_WORKERS)
+    if workers < 2:
+        return [function(*task) for task in tasks]
+    if _KEPT_POOL:
+        return list(_KEPT_POOL[-1].map(function, *zip(*tasks)))
+    with new_pool(workers) as pool:
+        return list(pool.map(function, *zip(*tasks)))
+
+
+_KEPT_POOL: list = []
+
+
+def new_pool(workers: int) -> ProcessPoolExecutor:
+    return ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
+                               initializer=one_blas_thread)
+
+
+@contextmanager
+def kept_workers():
+    """One set of worker processes for many predictions (the remedy search predicts dozens of plans, most
+    with a few new key stations each; starting workers for each costs more than the stations)."""
+    workers = min(os.cpu_count() or 1, MAX_WORKERS)
+    if workers < 2 or _KEPT_POOL:
+        yield
+        return
+    pool = new_pool(workers)
+    _KEPT_POOL.append(pool)
+    try:
+        yield
+    finally:
+        _KEPT_POOL.pop()
+        pool.shutdown()
+
+
+def one_blas_thread() -> None:
+    """In each worker: BLAS on one thread. The shell models' matrices are small, and workers that each start
+    a BLAS thread per core fight over the cores (tests/bench_predict.py: 15 s instead of 2.2 s on 2 cores
+    when simulate is called from a script that left the BLAS threads unlimited)."""
+    threadpool_limits(limits=1)
+
+
+def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,
+                   settings: SimulationSettings) -> np.ndarray:
+    """3x3 compliance with the tool at station k, the part cut up to there."""
+    shape = cut_to_target(current_rz, path, p, upto=k)
+    r, z = contact_point(path, k, behind_mm)
+    try:
+        model = WallModel(section_of_polygon(shape), job.held, job.material.E_mpa, job.material.nu,
+                          settings.patch, settings.harmonic_tolerance, strict_patch=False,
+                          element_mm=settings.element_mm)
+        return model.at_contacts([(r, z)], [path.normals[k]])[0].matrix_mm_per_n
+    except (InputError, ModelError) as exc:
+        # the shape is the simulation's, not the user's: say where the tool was and what the part was like
+        raise ModelError(f"with the tool of pass '{p.name}' at r = {r:.3f}, z = {z:.3f} mm the part as cut so "
+                         f"far cannot be modelled: {exc.message}", key=p.key) from None
+
+
+def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.ndarray, tool_c: float,
+                job, tool, p: Pass, force_scale: float):
+    """Depth actually cut and the forces there, where the push-off and the chip agree.
+
+    delta(a) = C_nn F_p + C_na s F_f + c_tool F_p along the inward normal (away from the tool), with s the sign
+    of the feed direction along the boundary tangent; the cutting force is circumferential and, at the load
+    point, does not move the surface along the normal (C_nt = 0 by symmetry). The root of
+    g(a) = a + delta(a) - a_met on [0, 2 a_met], g(0) = -a_met <= 0 (`bracketed_root`).
+    """
+    c_nn = compliance[:, 0, 0]
+    c_na = compliance[:, 0, 2]
+
+    def push_off(depth):
+        forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min, force_scale=force_scale)
+        passive, feed = np.asarray(forces.passive_n), np.asarray(forces.feed_n)
+        return (c_nn + tool_c) * passive + c_na * feed_sign * feed, forces
+
+    depth = bracketed_root(lambda a: a + push_off(a)[0] - met_depth_mm, np.zeros_like(met_depth_mm),
+                           2.0 * met_depth_mm, ROOT_TOLERANCE * np.maximum(met_depth_mm, 1e-3))
+    delta, forces = push_off(depth)
+    unbalanced = np.abs(depth + delta - met_depth_mm) > EQUILIBRIUM_TOLERANCE * np.maximum(met_depth_mm, 1e-3)
+    if unbalanced.any():
+        # delta fell with depth so fast that no depth in [0, 2 a_met] balances: the feed force pulls the wall
+        # into the tool by more than the chip it meets, and the cut would dig in
+        raise ModelError(f"pass '{p.name}' digs in: at {int(unbalanced.sum())} station(s) the feed force draws the "
+                         "wall into the tool further than the depth it meets, so no steady cut exists; use a "
+                         "smaller feed, a tool with a smaller approach angle, or a stiffer set-up", key=p.key)
+    return depth, delta, forces
+
+
+def bracketed_root(g, low: np.ndarray, high: np.ndarray, tolerance: np.ndarray) -> np.ndarray:
+    """Roots of g (elementwise, vectorised) with g(low) <= 0 <= g(high), by regula falsi with the Illinois
+    modification (Dowell & Jarratt, "A modified regula falsi method for computing the root of an equation",
+    BIT 11, 1971): superlinear, and it never leaves the bracket. Elements whose g(high) < 0 have no root in
+    the bracket; they are returned at `high` for the caller to judge. Stops where |g| <= tolerance."""
+    g_low, g_high = g(low), g(high)
+    x = np.where(g_high <= 0.0, high, low)
+    g_x = np.where(g_high <= 0.0, g_high, g_low)
+    side = np.zeros(low.shape, int)                 # which end moved last: -1 low, +1 high
+    for _ in range(ROOT_STEPS):
+        open_ = (np.abs(g_x) > tolerance) & (g_high > 0.0) & (g_low < 0.0)
+        if not open_.any():
+            break
+        with np.errstate(divide="ignore", invalid="ignore"):
+            x_new = np.where(open_, high - g_high * (high - low) / (g_high - g_low), x)
+        g_new = g(x_new)
+        up = open_ & (g_new > 0.0)
+        down = open_ & (g_new <= 0.0)
+        # Illinois: when the same end moves twice running, halve the kept end's value
+        g_low = np.where(up & (side == 1), 0.5 * g_low, g_low)
+        g_high = np.where(down & (side == -1), 0.5 * g_high, g_high)
+        high, g_high = np.where(up, x_new, high), np.where(up, g_new, g_high)
+        low, g_low = np.where(down, x_new, low), np.where(down, g_new, g_low)
+        side = np.where(up, 1, np.where(down, -1, side))
+        x, g_x = np.where(open_, x_new, x), np.where(open_, g_new, g_x)
+    return x
+
+
+def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarray, compliance: np.ndarray,
+            met: np.ndarray, force_scale: float, cut_index: int) -> tuple[StationTable, np.ndarray]:
+    """One cut: equilibrium at every station and the part it leaves (met: depth of material the tool meets)."""
+    tool = process.tools[p.tool]
+    tangent = np.column_stack([-path.normals[:, 1], path.normals[:, 0]])   # CCW tangent of the boundary
+    feed_sign = np.sign(np.einsum("ij,ij->i", path.feed_dir, tangent))
+    tool_c = tool.compliance_mm_per_n()
+    depth, delta, forces = equilibrium(met, compliance, feed_sign, tool_c, job, tool, p, force_scale)
+    left = np.where(met > 0.0, delta, 0.0)
+    after = simplified(remove(current_rz, path, left, p.surface, name=f"'{p.name}'"), KEEP_MM)
+    chip = np.asarray(forces.chip.chip_thickness_mm) * np.ones_like(depth)
+    rubbing = (met > MIN_CHIP_MM) & (depth < RUBBING_SHARE * met)
+    table = StationTable(
+        r_mm=path.points_rz[:, 0].copy(), z_mm=path.points_rz[:, 1].copy(), normal_rz=path.normals.copy(),
+        met_depth_mm=met, depth_mm=np.where(met > 0.0, depth, 0.0),
+        chip_thickness_mm=np.where(met > 0.0, chip, 0.0),
+        cutting_n=np.where(met > 0.0, forces.cutting_n, 0.0), feed_n=np.where(met > 0.0, forces.feed_n, 0.0),
+        passive_n=np.where(met > 0.0, forces.passive_n, 0.0), compliance_mm_per_n=compliance[:, 0, 0].copy(),
+        tool_compliance_mm_per_n=tool_c, deflection_mm=left,
+        power_kw=np.where(met > 0.0, forces.power_kw, 0.0), rubbing=rubbing, cut=cut_index)
+    return table, after
+
+
+def run_passes(job, process: Process, force_scale: float, plan: dict, progress=None, memo: dict | None = None):
+    """All passes in order on the planned cuts (`plan_compliance`); returns the per-pass station tables and
+    the as-machined polygon. memo (shared by variants of one job, `deflect.decisions.tune`) keeps each cut's result by
+    everything it depends on: the part it meets, its path, its pass, its compliance and the force scale, so a
+    variant that changes a late pass does not machine the earlier ones again."""
+    memo = {} if memo is None else memo
+    current = process.stock_rz
+    per_pass = []
+    for i, p in enumerate(process.passes):
+        tables = []
+        for j, path in enumerate(plan[i]):
+            # the spread runs reuse the nominal run's met depth: the part differs only by the earlier passes'
+            # push-off (micrometres on tenths), which moves this cut's push-off far less than the spread does
+            if ("met", i, j) not in plan:
+                met_name = ("met", current.tobytes(), path.points_rz.tobytes(), p.surface)
+                if met_name not in memo:
+                    memo[met_name] = met_depth(current, path, p)
+                plan[("met", i, j)] = memo[met_name]
+            met = plan[("met", i, j)]
+            name = ("cut", current.tobytes(), path.points_rz.tobytes(), replace(p, key=""), j, force_scale,
+                    plan[(i, j)].tobytes(), met.tobytes())
+            if name not in memo:
+                memo[name] = run_cut(job, process, p, path, current, plan[(i, j)], met, force_scale, j)
+            table, current = memo[name]
+            tables.append(table)
+            if progress:
+                progress(p.name, j)
+        per_pass.append(tables)
+    return per_pass, current
+
+
+def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str], memo: dict):
+    """With [holding]: what the jaws' squeeze does to the surfaces finished in the chuck once they let go.
+
+    A surface cut round while squeezed springs back by minus the squeeze (`deflect.mechanics.clamping`); the squeeze
+    is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
+    (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.machining.grip.grip_in_cut_n`,
+    VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
+    out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
+    (None, None, 0) without [holding]. The squeeze per newton is kept in memo (it depends on the drawn part, the
+    holding and the points only, not on the passes)."""
+    if "holding" not in job.tables:
+        return None, None, 0
+    holding = holding_from_table(job.tables["holding"])
+    machined = np.array([s in ("od", "id") for s in surfaces])
+    released, roundness = np.zeros(len(surfaces)), np.zeros(len(surfaces))
+    if not machined.any():
+        return released, roundness, 0
+    points, normals = raw.points_rz[machined], raw.normals[machined]
+    name = ("released", job.section, holding, job.material.E_mpa, job.material.nu, points.tobytes(),
+            normals.tobytes())
+    if name not in memo:
+        memo[name] = released_deviation(job, holding, points, normals, force_n=1.0)
+    per_newton = memo[name]
+    by_name = {p.name: p for p in process.passes}
+    passes = [by_name[n] for n, m in zip(names, machined) if m]
+    rpm = np.array([float(spindle_speed_rpm(p.speed_m_min, 2.0 * r, process.machine.max_rpm))
+                    for p, r in zip(passes, raw.points_rz[machined, 0])])
+    grip_n = grip_in_cut_n(holding.force_n, centrifugal_force_n(holding.centrifugal_moment_kg_m, rpm), holding.grip)
+    released[machined] = grip_n * per_newton.mean_mm
+    roundness[machined] = grip_n * per_newton.roundness_mm
+    return released, roundness, per_newton.lobes
+
+
+def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
+    return float(sum(cutting_time_s(t.r_mm, t.z_mm, p.feed_mm, p.speed_m_min, max_rpm) for t in tables))
+
+
+def finished_by(deviation, process: Process, per_pass: list[list[StationTable]]) -> tuple[list[str], list[str]]:
+    """For each deviation point: the kind of surface and the name of the last pass that cut there."""
+    surfaces = ["unmachined"] * len(deviation.points_rz)
+    names = [""] * len(deviation.points_rz)
+    for p, tables in zip(process.passes, per_pass):
+        final = tables[-1]
+        path = np.column_stack([final.r_mm, final.z_mm])
+        reach = abs(p.allowance_mm + p.offset_mm) + max((abs(b) for _, b in p.compensation), default=0.0) \
+            + 0.05 + STATION_SPACING_MM
+        gap, nearest = cKDTree(path).query(deviation.points_rz)
+        # a point this pass finished lies at its final target, across from a station between the path's
+        # ends (at or beyond an end a surface an earlier pass finished may carry on, and the point where the
+        # two meet is their corner) and faces the way the cut surface faces
+        facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > 0.3
+        offset = deviation.points_rz - path[nearest]
+        tangent = np.column_stack([-final.normal_rz[nearest, 1], final.normal_rz[nearest, 0]])
+        across = np.abs(np.einsum("ij,ij->i", offset, tangent)) <= STATION_SPACING_MM
+        inside = (nearest > 0) & (nearest < len(path) - 1)
+        for k in np.flatnonzero(facing & across & inside & (gap <= reach)):
+            surfaces[k], names[k] = p.surface, p.name
+    return surfaces, names
+
+
+def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
+    """Mass of the layer each deviation point stands for: rho 2 pi (r + d n_r / 2) d ds (Pappus)."""
+    spacing = np.linalg.norm(np.diff(np.vstack([points_rz, points_rz[:1]]), axis=0), axis=1)
+    ds = 0.5 * (spacing + np.roll(spacing, 1))
+    mid_r = points_rz[:, 0] + 0.5 * deviation_mm * normals[:, 0]
+    return density_g_cm3 * 1e-3 * 2.0 * math.pi * mid_r * deviation_mm * ds
+
+
+def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
+    """Push-off at the chuck end (low z), the middle and the free end of each finished od and id."""
+    checks = []
+    released = 0.0 if deviation.released_mm is None else deviation.released_mm
+    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
+    for surface in ("od", "id"):
+        order = straight_points(deviation, surface)
+        if len(order) < 3:
+            continue
+        picks = {"chuck end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
+        positions = {name: tuple(map(float, deviation.points_rz[k])) for name, k in picks.items()}
+        left = {name: float(deviation.deviation_mm[k]) for name, k in picks.items()}
+        nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
+        predicted = {name: 2.0 * (deviation.points_rz[k][0] + deviation.deviation_mm[k] * deviation.normals[k][0])
+                     for name, k in picks.items()}
+        mine = [k for k, s in enumerate(deviation.surface) if s == surface]
+        checks.append(SurfaceCheck(surface=surface, positions=positions, deviation_mm=left,
+                                   nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
+                                   predicted_diameter_mm={k: float(v) for k, v in predicted.items()},
+                                   max_deviation_mm=float(np.max(deviation.deviation_mm[mine])),
+                                   mass_left_g=float(layer[mine].sum()),
+                                   roundness_mm=None if deviation.roundness_mm is None else
+                                   {name: float(deviation.roundness_mm[k]) for name, k in picks.items()}))
+    return checks
+
+
+def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
+    """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets), by z."""
+    chosen = np.array([k for k, s in enumerate(deviation.surface)
+                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS], int)
+    return chosen[np.argsort(deviation.points_rz[chosen, 1])] if len(chosen) else chosen
+
+
+def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
+    """Wall thickness against nominal at the chuck end, middle and free end of the height over which a
+    cylindrical od and a cylindrical bore face each other (fillets left out, as a machinist measures)."""
+    od, bore = straight_points(deviation, "od"), straight_points(deviation, "id")
+    if len(od) < 3 or len(bore) < 3:
+        return []
+    z_od, z_bore = deviation.points_rz[od, 1], deviation.points_rz[bore, 1]
+    low, high = max(z_od[0], z_bore[0]), min(z_od[-1], z_bore[-1])
+    if high <= low:
+        return []
+    rows = []
+    for name, z in (("chuck end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
+        r_od = float(np.interp(z, z_od, deviation.points_rz[od, 0]))
+        r_id = float(np.interp(z, z_bore, deviation.points_rz[bore, 0]))
+        left = float(np.interp(z, z_od, deviation.deviation_mm[od]) + np.interp(z, z_bore, deviation.deviation_mm[bore]))
+        rows.append({"where": name, "z_mm": float(z), "nominal_mm": r_od - r_id, "predicted_mm": r_od - r_id + left})
+    return rows
+
+
+def simulate(job, process: Process, settings: SimulationSettings = SimulationSettings(), progress=None,
+             memo: dict | None = None, with_ranges: bool = True) -> Prediction:
+    """Machine the part pass by pass; the nominal constants and their +/- spread.
+
+    memo: key-station compliances shared between variants of one job (see `plan_compliance`).
+    with_ranges: False skips the runs at 1 -/+ spread (every range then equals its value), for searches."""
+    material = job.material
+    nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
+    memo = {} if memo is None else memo
+    plan = plan_compliance(job, process, settings, nominal_rz, memo)
+    per_pass, machined = run_passes(job, process, 1.0, plan, progress, memo)
+    spread = material.force_spread
+    scales = (1.0 - spread, 1.0 + spread) if with_ranges else ()
+    ranges = [run_passes(job, process, scale, plan, memo=memo)[1] for scale in scales]
+
+    nominal = mass_properties(job.section, material.density_g_cm3)
+    mass, inertia, _ = polygon_mass(machined, material.density_g_cm3)
+    range_masses = [polygon_mass(rz, material.density_g_cm3)[0] for rz in ranges] or [mass]
+
+    raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
+    surfaces, names = finished_by(raw, process, per_pass)
+    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
+    deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
+                                 deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
+                                 surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness)
+    spring_back = 0.0 if released is None else released
+    range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
+                 for rz in ranges] or [float(np.max(deviation.deviation_mm))]
+    # the mass is the material the cuts left; the spring-back on release moves the surface, not material
+    layer = ring_mass_g(deviation.points_rz, deviation.normals, raw.deviation_mm, material.density_g_cm3)
+
+    passes = []
+    for p, tables in zip(process.passes, per_pass):
+        mine = np.array([n == p.name for n in names], bool)
+        passes.append(PassResult(
+            name=p.name, surface=p.surface, tool=p.tool, feed_mm=p.feed_mm, speed_m_min=p.speed_m_min,
+            cuts=tables, cycle_time_s=pass_time_s(tables, p, process.machine.max_rpm),
+            max_deflection_mm=float(max(t.deflection_mm.max(initial=0.0) for t in tables)),
+            peak_power_kw=float(max(t.power_kw.max(initial=0.0) for t in tables)),
+            mass_left_g=float(layer[mine].sum()) if mine.any() else 0.0))
+
+    by_surface = {}
+    for name in ("od", "id", "face", "unmachined"):
+        mine = np.array([s == name for s in surfaces], bool)
+        if mine.any():
+            by_surface[name] = float(layer[mine].sum())
+    checks = surface_checks(deviation, material.density_g_cm3)
+    peak_power = max((p.peak_power_kw for p in passes), default=0.0)
+    warnings = list(process.warnings)
+    if peak_power > process.machine.power_kw:
+        warnings.append(f"peak cutting power {peak_power:.2f} kW exceeds the machine's {process.machine.power_kw:g} kW")
+    rubbing = sum(int(t.rubbing.sum()) for tables in per_pass for t in tables)
+    if rubbing:
+        warnings.append(f"{rubbing} station(s) rub rather than cut: the wall gives way so far that the tool "
+                        "barely takes a chip (see the 'rubbing' column)")
+    max_dev = float(np.max(deviation.deviation_mm))
+    gains = [m - nominal.mass_g for m in range_masses]
+    return Prediction(
+        title=job.title, material=material.name, force_spread=spread,
+        nominal_mass_g=nominal.mass_g, nominal_inertia_kg_mm2=nominal.inertia_axial_kg_mm2,
+        predicted_mass_g=SpreadValue(mass, min(range_masses), max(range_masses)),
+        predicted_inertia_kg_mm2=inertia,
+        mass_gain_g=SpreadValue(mass - nominal.mass_g, min(gains), max(gains)),
+        max_deviation_mm=SpreadValue(max_dev, min(range_max), max(range_max)),
+        cycle_time_s=float(sum(p.cycle_time_s for p in passes)),
+        machine_power_kw=process.machine.power_kw, peak_power_kw=peak_power,
+        passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(deviation),
+        machined_rz=machined, nominal_rz=nominal_rz, stock_rz=process.stock_rz,
+        mass_gain_by_surface_g=by_surface, warnings=warnings, lobes=lobes)

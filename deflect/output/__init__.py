@@ -1,0 +1,13 @@
+"""Output: results -> terminal tables, JSON objects, CSV files, figures and programs. Formatting only.
+
+    tables.py          table layout, the section and compliance tables
+    predict_report.py  the terminal report of a prediction
+    predict_json.py    the JSON object of `deflect predict --json`
+    clamp_report.py    the terminal report and JSON of `deflect clamp`
+    tune_report.py     the terminal report and JSON of `deflect tune`
+    csv_files.py       CSV tables of a prediction
+    figures.py         PNG figures (matplotlib, imported only when a figure is drawn)
+    programs.py        the compensated contour as CSV points and ISO 6983 moves
+
+No physics is computed here. May import every room below; only `deflect.cli` imports this room.
+"""

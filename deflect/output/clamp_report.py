@@ -1,0 +1,202 @@
+"""Terminal report and JSON object of a work-holding study: a `grip.ClampStudy` -> text, dict.
+
+Formatting only; no physics is computed here (the figures come from `deflect.machining.grip` and `deflect.mechanics.clamping`).
+Roundness is the radial peak to valley around the circumference after release, in um; size changes are on
+the diameter.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from deflect.machining.grip import Clamped, ClampStudy
+from deflect.output.tables import grid
+
+SURFACE_NAMES = {"od": "OD", "id": "bore"}
+TABLE_ROWS_PER_SURFACE = 6     # rows of the roundness table per surface (evenly spread, the worst kept)
+
+
+def _um(value_mm) -> float:
+    return 1000.0 * float(value_mm)
+
+
+def _force(value) -> str:
+    return "-" if value is None else f"{value:.0f}"
+
+
+def _newtons(value) -> str:
+    return "-" if value is None else f"{value:.0f} N"
+
+
+def _pairs(rows: list[tuple[str, str]], title: str) -> str:
+    """Label and value, both left-aligned (the values here are sentences, not numbers)."""
+    width = max(len(label) for label, _ in rows)
+    lines = [f"{label:<{width}}   {value}" for label, value in rows]
+    return "\n".join([title, "-" * max(len(title), max(len(line) for line in lines)), *lines])
+
+
+def _left(cells: list[str]) -> list[str]:
+    """Pad a column's cells to one width, so the right-aligning grid shows them left-aligned."""
+    width = max(len(cell) for cell in cells)
+    return [cell.ljust(width) for cell in cells]
+
+
+def _window_text(clamped: Clamped) -> str:
+    least, most, is_open = clamped.least_to_hold_n, clamped.most_for_roundness_n, clamped.window_open
+    if is_open is None:
+        return "not known (no passes, or no diameter tolerance on a surface finished here)"
+    if most is None:
+        return f"open: any grip from {least:.0f} N (the grip leaves the finished surfaces round)"
+    if is_open:
+        return f"open: {least:.0f} to {most:.0f} N"
+    return f"EMPTY: the least grip that holds ({least:.0f} N) is more than the most that keeps the form ({most:.0f} N)"
+
+
+def holding_text(clamped: Clamped) -> str:
+    """The holding in one line, in the trade's words."""
+    h = clamped.holding
+    side = "the OD" if h.grip == "od" else "the bore"
+    where = f"z {h.z_mm[0]:g} to {h.z_mm[1]:g} mm"
+    if h.all_round:
+        return f"{h.kind} gripping {side} all round at {where}"
+    return f"{h.jaws} jaws, {h.width_mm:g} mm wide, gripping {side} at {where}"
+
+
+def holding_record(clamped: Clamped) -> dict:
+    h, c = clamped.holding, clamped.contact
+    return {"kind": h.kind, "jaws": h.jaws, "grip": h.grip, "z": list(h.z_mm), "width": h.width_mm,
+            "force": h.force_n, "friction": h.friction, "jaw_mass": h.jaw_mass_kg, "jaw_radius": h.jaw_radius_mm,
+            "safety": h.safety, "gripped_diameter_mm": 2.0 * c.radius_mm, "contact_z_mm": list(c.z_mm),
+            "wall_under_grip_mm": c.wall_mm}
+
+
+def point_records(clamped: Clamped) -> list[dict]:
+    s = clamped.surfaces
+    return [{"surface": str(s.surface[i]), "z": float(s.points_rz[i, 1]), "value": _um(clamped.roundness_mm[i]),
+             "r": float(s.points_rz[i, 0]), "diameter_change_um": _um(clamped.size_change_mm[i]),
+             "grip_in_cut_N": float(clamped.grip_in_cut_n[i]), "finished_by": s.finished_by[i],
+             "tolerance_band_um": None if not np.isfinite(clamped.form_limit_mm[i])
+             else 2.0 * _um(clamped.form_limit_mm[i])}
+            for i in range(len(s.surface))]
+
+
+def demand_record(clamped: Clamped) -> dict | None:
+    d = clamped.demand
+    if d is None:
+        return None
+    return {"pass": d.pass_name, "r": d.r_mm, "z": d.z_mm, "cutting_N": d.cutting_n, "torque_Nm": d.torque_nm,
+            "axial_N": d.axial_n, "rpm": d.rpm, "centrifugal_N": d.centrifugal_n}
+
+
+def _worst_um(clamped: Clamped) -> float:
+    return _um(clamped.roundness_mm.max()) if len(clamped.roundness_mm) else 0.0
+
+
+def clamp_payload(study: ClampStudy) -> dict:
+    """The JSON object of `deflect clamp --json` (keys of shared/CONTRACT.md first)."""
+    g = study.given
+    limiting = None
+    if g.limiting is not None:
+        limiting = {"surface": str(g.surfaces.surface[g.limiting]), "z": float(g.surfaces.points_rz[g.limiting, 1]),
+                    "tolerance_band_um": 2.0 * _um(g.form_limit_mm[g.limiting])}
+    return {
+        "grip_force_N": {"given": g.holding.force_n, "least_to_hold": g.least_to_hold_n,
+                         "most_for_roundness": g.most_for_roundness_n},
+        "lobes": g.lobes,
+        "roundness_um": point_records(g),
+        "window_open": g.window_open,
+        "max_roundness_um": _worst_um(g),
+        "holding": holding_record(g),
+        "heaviest_cut": demand_record(g),
+        "limiting_point": limiting,
+        "highest_harmonic": int(g.squeeze.harmonics[-1]),
+        "remedies": [{"change": r.change, "applies": r.clamped is not None, "note": r.note,
+                      **({} if r.clamped is None else {
+                          "grip_force_N": r.clamped.holding.force_n, "max_roundness_um": _worst_um(r.clamped),
+                          "lobes": r.clamped.lobes, "least_to_hold": r.clamped.least_to_hold_n,
+                          "most_for_roundness": r.clamped.most_for_roundness_n,
+                          "window_open": r.clamped.window_open})}
+                     for r in study.remedies],
+        "cautions": list(study.cautions),
+        "notes": list(study.notes),
+    }
+
+
+def _shown_rows(clamped: Clamped, side: str) -> np.ndarray:
+    """Indices of the rows shown for one surface: evenly spread along it, its worst point kept."""
+    on = np.flatnonzero(clamped.surfaces.surface == side)
+    if len(on) <= TABLE_ROWS_PER_SURFACE:
+        return on
+    chosen = set(on[np.linspace(0, len(on) - 1, TABLE_ROWS_PER_SURFACE - 1).round().astype(int)])
+    chosen.add(int(on[np.argmax(clamped.roundness_mm[on])]))
+    return np.array(sorted(chosen, key=lambda i: clamped.surfaces.points_rz[i, 1]))
+
+
+def surfaces_table(clamped: Clamped) -> str:
+    s = clamped.surfaces
+    header = ["surface", "z mm", "dia. mm", "cut by", "grip in cut N", "dia. change um", "roundness um",
+              "band um"]
+    rows = []
+    for side in ("od", "id"):
+        for i in _shown_rows(clamped, side):
+            band = clamped.form_limit_mm[i]
+            rows.append([SURFACE_NAMES[side], f"{s.points_rz[i, 1]:.2f}", f"{2 * s.points_rz[i, 0]:.3f}",
+                         s.finished_by[i] or "-", f"{clamped.grip_in_cut_n[i]:.0f}",
+                         f"{_um(clamped.size_change_mm[i]):+.1f}", f"{_um(clamped.roundness_mm[i]):.1f}",
+                         "-" if not np.isfinite(band) else f"{2 * _um(band):.0f}"])
+    if not rows:
+        return "No OD or bore is finished in this setup outside the grip."
+    return grid(header, rows)
+
+
+def remedies_table(study: ClampStudy) -> str:
+    header = ["change", "grip N", "roundness um", "lobes", "least N", "most N", "window"]
+    rows, notes = [], []
+    for k, r in enumerate(study.remedies, start=1):
+        c = r.clamped
+        if c is None:
+            rows.append([f"{k}. {r.change}", "-", "-", "-", "-", "-", "n/a"])
+        else:
+            window = {None: "?", True: "open", False: "empty"}[c.window_open]
+            rows.append([f"{k}. {r.change}", f"{c.holding.force_n:.0f}", f"{_worst_um(c):.1f}", str(c.lobes),
+                         _force(c.least_to_hold_n), _force(c.most_for_roundness_n), window])
+        if r.note:
+            notes.append(f"  {k}. {r.note}")
+    names = _left([header[0]] + [row[0] for row in rows])
+    header[0] = names[0]
+    for row, name in zip(rows, names[1:]):
+        row[0] = name
+    return grid(header, rows) + ("\n" + "\n".join(notes) if notes else "")
+
+
+def clamp_report(study: ClampStudy) -> str:
+    """The terminal report of `deflect clamp`."""
+    g = study.given
+    h, d = g.holding, g.demand
+    rows = [
+        ("holding", holding_text(g)),
+        ("gripped diameter", f"{2 * g.contact.radius_mm:.3f} mm, wall under the grip {g.contact.wall_mm:.3g} mm"),
+        ("friction, safety factor", f"{h.friction:g}, {h.safety:g}"),
+        ("grip given (standstill)", f"{h.force_n:.0f} N"),
+        ("least grip to hold", _newtons(g.least_to_hold_n)),
+    ]
+    if d is not None:
+        rows.append(("  heaviest cut", f"'{d.pass_name}' at r {d.r_mm:.3g}, z {d.z_mm:.3g} mm: cutting force "
+                                       f"{d.cutting_n:.0f} N (torque {d.torque_nm:.2f} N m), axial {d.axial_n:.0f} N, "
+                                       f"{d.rpm:.0f} /min, jaws' centrifugal force {d.centrifugal_n:.0f} N"))
+    rows.append(("most grip for roundness", _newtons(g.most_for_roundness_n)))
+    if g.limiting is not None:
+        i = g.limiting
+        where = f"{SURFACE_NAMES[str(g.surfaces.surface[i])]} at z {g.surfaces.points_rz[i, 1]:.2f} mm"
+        rows.append(("  set by", f"{where} (diameter band {2 * _um(g.form_limit_mm[i]):.0f} um)"))
+    rows += [("window", _window_text(g)),
+             ("after release", f"{g.lobes} lobes, roundness up to {_worst_um(g):.1f} um"),
+             ("harmonics summed", f"n = 0 to {int(g.squeeze.harmonics[-1])}")]
+    parts = [_pairs(rows, f"Work holding: {study.title}"), "",
+             "Surfaces finished in the chuck, after release (roundness: radial peak to valley around the part):",
+             surfaces_table(g), "",
+             "What widens the window (each computed with the model; grip at standstill):", remedies_table(study)]
+    if study.notes:
+        parts += ["", "Notes:", *(f"  {line}" for line in study.notes)]
+    parts += ["", "Cautions:", *(f"  - {line}" for line in study.cautions)]
+    return "\n".join(parts)

@@ -1,0 +1,234 @@
+"""Figures: plain results -> PNG files. Drawing only; no physics is computed here.
+
+matplotlib is imported inside each function with the file-only Agg backend, so the solver path and the
+command line start without it.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+DPI = 120
+
+
+def _pyplot():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def _save(plt, fig, path) -> None:
+    """Lay the figure out, write it as PNG at a readable resolution, free it."""
+    fig.tight_layout()
+    fig.savefig(path, dpi=DPI)
+    plt.close(fig)
+
+
+def compliance_map_plot(section, points: list, title: str, path: str) -> None:
+    """The section with its boundary coloured by normal compliance, and the compliance along the boundary."""
+    plt = _pyplot()
+    from matplotlib.colors import LogNorm
+
+    outline = section.polygon()
+    values_um = np.array([1e3 * max(p.normal_mm_per_n, 1e-12) for p in points])
+    r = np.array([p.r_mm for p in points])
+    z = np.array([p.z_mm for p in points])
+    fig, (ax_section, ax_line) = plt.subplots(1, 2, figsize=(12, 5.5), gridspec_kw={"width_ratios": [1, 1.4]})
+    closed = np.vstack([outline, outline[:1]])
+    ax_section.fill(closed[:, 0], closed[:, 1], color="0.88", label="section")
+    ax_section.plot(closed[:, 0], closed[:, 1], color="0.3", lw=0.8)
+    shown = ax_section.scatter(r, z, c=values_um, cmap="viridis", s=14,
+                               norm=LogNorm(vmin=max(values_um.min(), values_um.max() * 1e-4), vmax=values_um.max()),
+                               label="loaded points (held zones off the scale)")
+    fig.colorbar(shown, ax=ax_section, label="normal compliance [um/N]")
+    ax_section.set_aspect("equal")
+    ax_section.set_xlabel("r [mm]")
+    ax_section.set_ylabel("z [mm]")
+    ax_section.set_title("where the wall gives most")
+    ax_section.legend(loc="best", fontsize=8)
+
+    ax_line.semilogy(np.arange(len(points)), values_um, ".-", lw=0.8, label="normal compliance")
+    ax_line.set_ylim(bottom=max(values_um.min(), values_um.max() * 1e-4) / 2.0)
+    ax_line.set_xlabel("point along the boundary (counter-clockwise from the first outline node)")
+    ax_line.set_ylabel("compliance [um/N]")
+    ax_line.set_title("compliance along the boundary")
+    ax_line.grid(True, which="both", alpha=0.3)
+    ax_line.legend(loc="best")
+    fig.suptitle(f"Compliance map: {title}")
+    _save(plt, fig, path)
+
+
+SURFACE_LABELS = {"od": "OD", "id": "bore (ID)", "face": "faces"}
+SURFACE_COLOURS = {"od": "tab:blue", "id": "tab:orange", "face": "tab:green"}
+MAGNIFIED_SHARE = 0.05          # the largest deviation is drawn as about this share of the part's size
+NICE_STEPS = (1.0, 2.0, 5.0)
+TRUE_SCALE_UP_TO = 4.0          # slenderer sections are drawn with r and z to different scales, to be seen
+
+
+def magnification(max_deviation_mm: float, size_mm: float, share: float = MAGNIFIED_SHARE) -> float:
+    """Factor on the deviation for the section figure: 1, 2 or 5 x 10^k, nearest (on a log scale) to the
+    factor that draws the largest deviation as `share` of the part's size; never below 1 (true scale)."""
+    if max_deviation_mm <= 0.0 or size_mm <= 0.0:
+        return 1.0
+    wanted = share * size_mm / max_deviation_mm
+    if wanted <= 1.0:
+        return 1.0
+    decade = 10.0 ** np.floor(np.log10(wanted))
+    candidates = [step * decade * scale for scale in (1.0, 10.0) for step in NICE_STEPS]
+    return float(min(candidates, key=lambda c: abs(np.log10(c / wanted))))
+
+
+def closed_ring(rz: np.ndarray) -> np.ndarray:
+    return np.vstack([rz, rz[:1]])
+
+
+def runs(mask: np.ndarray) -> list[np.ndarray]:
+    """Indices of the stretches of consecutive True entries."""
+    chosen = np.flatnonzero(mask)
+    if len(chosen) == 0:
+        return []
+    return np.split(chosen, np.flatnonzero(np.diff(chosen) > 1) + 1)
+
+
+def section_plot(pred, path: Path) -> Path:
+    """Stock (faint), nominal and as-machined outlines, and the material left drawn magnified on the normals."""
+    plt = _pyplot()
+    d = pred.deviation
+    extent = pred.nominal_rz.max(axis=0) - pred.nominal_rz.min(axis=0)
+    factor = magnification(float(np.max(np.abs(d.deviation_mm), initial=0.0)), float(extent.max()))
+    magnified = d.points_rz + factor * d.deviation_mm[:, None] * d.normals
+    fig, ax = plt.subplots(figsize=(8, 8))
+    stock, nominal, machined = (closed_ring(rz) for rz in (pred.stock_rz, pred.nominal_rz, pred.machined_rz))
+    ax.fill(stock[:, 0], stock[:, 1], color="0.93", label="stock")
+    ax.plot(stock[:, 0], stock[:, 1], color="0.75", lw=0.6)
+    ax.plot(nominal[:, 0], nominal[:, 1], color="k", lw=1.0, label="nominal (as drawn)")
+    ax.plot(machined[:, 0], machined[:, 1], color="tab:blue", lw=0.9, ls="--",
+            label="predicted as machined (true scale)")
+    ax.plot(*closed_ring(magnified).T, color="tab:red", lw=1.0, label=f"material left x {factor:.0f}")
+    slender = max(extent) > TRUE_SCALE_UP_TO * max(min(extent), 1e-9)
+    if slender:
+        ax.set_xlabel("r [mm] (r and z to different scales)")
+    else:
+        ax.set_aspect("equal", adjustable="datalim")
+        ax.set_xlabel("r [mm]")
+    ax.set_ylabel("z [mm]")
+    ax.grid(True, alpha=0.3)
+    ax.legend(loc="best", fontsize=8)
+    ax.set_title(f"Section: {pred.title}\nmaterial left x {factor:.0f} "
+                 f"(largest {1e3 * pred.max_deviation_mm.value:.1f} um a side)")
+    _save(plt, fig, path)
+    return path
+
+
+def deviation_plot(pred, path: Path) -> Path:
+    """Material left along each finished OD and bore against z, and along the faces against r."""
+    plt = _pyplot()
+    d = pred.deviation
+    kinds = np.array(d.surface)
+    panels = []                     # (what, coordinate drawn along: 1 = z, 0 = r, surface kinds)
+    if np.isin(kinds, ("od", "id")).any():
+        panels.append(("along the axis", 1, ("od", "id")))
+    if np.isin(kinds, ("face",)).any():
+        panels.append(("across the faces", 0, ("face",)))
+    panels = panels or [("along the axis", 1, ())]
+    fig, axes = plt.subplots(1, len(panels), figsize=(6 * len(panels) + 2, 5), squeeze=False)
+    for ax, (name, axis, kinds_here) in zip(axes[0], panels):
+        ax.axhline(0.0, color="k", lw=0.8, label="as drawn")
+        for kind in kinds_here:
+            for i, stretch in enumerate(runs(kinds == kind)):
+                ax.plot(d.points_rz[stretch, axis], 1e3 * d.deviation_mm[stretch], color=SURFACE_COLOURS[kind],
+                        lw=1.2, label=SURFACE_LABELS[kind] if i == 0 else None)
+        ax.set_xlabel("z [mm]" if axis == 1 else "r [mm]")
+        ax.set_ylabel("material left, a side [um]")
+        ax.set_title(f"finished surfaces {name}")
+        ax.grid(True, alpha=0.3)
+        ax.legend(loc="best", fontsize=8)
+    fig.suptitle(f"Material left beyond the drawn surface (> 0 thicker): {pred.title}")
+    _save(plt, fig, path)
+    return path
+
+
+def passes_plot(pred, path: Path) -> Path:
+    """Passive force and push-off along every pass: z for OD and bore passes, r for face passes."""
+    plt = _pyplot()
+    along_z = [p for p in pred.passes if p.surface != "face"]
+    along_r = [p for p in pred.passes if p.surface == "face"]
+    columns = [(axis, passes) for axis, passes in ((1, along_z), (0, along_r)) if passes] or [(1, [])]
+    fig, axes = plt.subplots(2, len(columns), figsize=(7 * len(columns) + 1, 7), sharex="col", squeeze=False)
+    colours = plt.rcParams["axes.prop_cycle"].by_key()["color"]
+    styles = ("-", "--", ":", "-.")
+    for column, (axis, passes) in enumerate(columns):
+        ax_force, ax_push = axes[0, column], axes[1, column]
+        for i, p in enumerate(passes):
+            for j, t in enumerate(p.cuts):
+                x = t.z_mm if axis == 1 else t.r_mm
+                label = p.name if len(p.cuts) == 1 else f"{p.name}, cut {t.cut}"
+                style = {"color": colours[i % len(colours)], "ls": styles[j % len(styles)], "lw": 1.1}
+                ax_force.plot(x, t.passive_n, label=label, **style)
+                ax_push.plot(x, 1e3 * t.deflection_mm, label=label, **style)
+        where = "OD and bore passes" if axis == 1 else "face passes"
+        ax_force.set_title(f"{where}: passive force")
+        ax_force.set_ylabel("passive force [N]")
+        ax_push.set_title(f"{where}: push-off of part and tool")
+        ax_push.set_ylabel("push-off [um]")
+        ax_push.set_xlabel("tool position z [mm]" if axis == 1 else "tool position r [mm]")
+        for ax in (ax_force, ax_push):
+            ax.axhline(0.0, color="0.5", lw=0.6)
+            ax.grid(True, alpha=0.3)
+            if passes:
+                ax.legend(loc="best", fontsize=8)
+    fig.suptitle(f"Forces and push-off along the passes: {pred.title}")
+    _save(plt, fig, path)
+    return path
+
+
+def predict_plots(pred, folder, key: str = "--plot") -> list[Path]:
+    """Write section.png, deviation.png and passes.png of a machining prediction into `folder` (created if
+    missing; an InputError naming `key`, the option that gave it, when it cannot be)."""
+    from deflect.output.csv_files import output_folder
+
+    out = output_folder(folder, key)
+    return [section_plot(pred, out / "section.png"), deviation_plot(pred, out / "deviation.png"),
+            passes_plot(pred, out / "passes.png")]
+
+
+# ---------------------------------------------------------------------------------------------------
+# work holding (deflect clamp)
+
+LOBE_SHARE = 0.15      # the largest radial deviation is drawn as about this share of the radius
+
+
+def released_shape_plot(profile, title: str, path: str) -> None:
+    """Polar plot: the surface as cut in the chuck (round), the same surface after release (deviation
+    magnified), and the jaws' positions."""
+    plt = _pyplot()
+    largest = float(np.max(np.abs(profile.radial_mm), initial=0.0))
+    factor = magnification(largest, profile.r_mm, LOBE_SHARE)
+    theta = np.radians(profile.theta_deg)
+    fig = plt.figure(figsize=(7.5, 7.5))
+    ax = fig.add_subplot(projection="polar")
+    ax.plot(theta, np.full_like(theta, profile.r_mm), color="k", lw=1.0, ls="--",
+            label=f"as cut in the chuck: round, diameter {2 * profile.r_mm:.3f} mm")
+    ax.plot(theta, profile.r_mm + factor * profile.radial_mm, color="tab:red", lw=1.6,
+            label=f"after release, radial deviation x {factor:g} "
+                  f"(peak to valley {1e3 * np.ptp(profile.radial_mm):.1f} um)")
+    outer = profile.r_mm + factor * largest
+    for k, jaw in enumerate(profile.jaw_deg):
+        half = np.radians(max(profile.jaw_width_deg, 1.0)) / 2.0
+        span = np.linspace(np.radians(jaw) - half, np.radians(jaw) + half, 30)
+        ax.fill_between(span, 1.04 * outer, 1.12 * outer, color="tab:blue", alpha=0.6,
+                        label=f"jaws ({len(profile.jaw_deg)}, {profile.jaw_width_deg:.3g} deg wide)" if k == 0
+                        else None)
+    ax.set_ylim(0.0, 1.18 * outer)
+    ax.set_xlabel("angle around the part from the middle of a jaw [deg]")
+    ax.set_ylabel(f"radius [mm]: as cut + {factor:g} x deviation", labelpad=28)
+    ax.grid(True, alpha=0.4)
+    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.1), fontsize=8)
+    ax.set_title(f"{title}\nreleased shape of the {SURFACE_LABELS.get(profile.surface, profile.surface)} at "
+                 f"z = {profile.z_mm:.2f} mm (deviation magnified x {factor:g})", fontsize=10)
+    _save(plt, fig, path)

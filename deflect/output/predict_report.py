@@ -1,0 +1,149 @@
+"""Terminal report of a machining prediction: a `results.Prediction` -> text, in the trade's words.
+
+Formatting only; no physics is computed here (the figures come from `deflect.machining.simulate`). Material left is
+given "a side", i.e. on the radius (half the change of the measured diameter); push-off in um.
+"""
+
+from __future__ import annotations
+
+from deflect.machining.results import PassResult, Prediction, SpreadValue, SurfaceCheck
+from deflect.output.tables import grid, table
+
+CHECK_ORDER = ("chuck end", "middle", "free end")
+SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "faces", "unmachined": "stock no pass removed"}
+CAUTION = (
+    "Caution: these are estimates from a model of the wall and of the cutting forces;\n"
+    "confirm them on a first article before running the batch. The force constants should be calibrated\n"
+    "on your material and tools (test cuts with a force measurement, or a first article measured and fed\n"
+    "back). The machine's and the chuck maker's limits and your local safety rules come first."
+)
+
+
+def spread_text(spread: SpreadValue, unit: str, digits: int, sign: str = "") -> str:
+    """'(low to high unit)': the range of a headline figure."""
+    return f"({spread.low:{sign}.{digits}f} to {spread.high:{sign}.{digits}f} {unit})"
+
+
+def duration_text(seconds: float) -> str:
+    """Seconds, and minutes with seconds once it runs past a minute."""
+    if seconds < 60.0:
+        return f"{seconds:.1f} s"
+    minutes, rest = divmod(round(seconds), 60)
+    return f"{seconds:.1f} s ({minutes} min {rest:02d} s)"
+
+
+def headline(pred: Prediction) -> str:
+    """Masses, most material left, cycle time and power; each uncertain figure with its range."""
+    gain = pred.mass_gain_g
+    gain_pct = 100.0 * gain.value / pred.nominal_mass_g
+    power_pct = 100.0 * pred.peak_power_kw / pred.machine_power_kw if pred.machine_power_kw > 0 else float("nan")
+    rows = [
+        ("material", pred.material),
+        ("nominal mass (as drawn)", f"{pred.nominal_mass_g:.3f} g"),
+        ("predicted mass", f"{pred.predicted_mass_g.value:.3f} g {spread_text(pred.predicted_mass_g, 'g', 3)}"),
+        ("mass gain", f"{gain.value:+.3f} g, {gain_pct:+.2f} % {spread_text(gain, 'g', 3, '+')}"),
+        ("most material left", f"{pred.max_deviation_mm.value:.3f} mm a side "
+                               f"{spread_text(pred.max_deviation_mm, 'mm', 3)}"),
+        ("inertia about spin axis", f"{pred.nominal_inertia_kg_mm2:.4g} kg mm2 drawn, "
+                                    f"{pred.predicted_inertia_kg_mm2:.4g} kg mm2 predicted"),
+        ("cycle time (cutting)", duration_text(pred.cycle_time_s)),
+        ("peak cutting power", f"{pred.peak_power_kw:.2f} kW of the machine's {pred.machine_power_kw:g} kW "
+                               f"({power_pct:.1f} %)"),
+    ]
+    note = f"(in brackets: the range for force constants +/- {100.0 * pred.force_spread:.0f} %)"
+    return table(rows, title=f"Machining prediction: {pred.title}") + "\n" + note
+
+
+def pass_row(p: PassResult) -> list[str]:
+    peak_passive = max((float(c.passive_n.max(initial=0.0)) for c in p.cuts), default=0.0)
+    rubbing = sum(int(c.rubbing.sum()) for c in p.cuts)
+    return [p.name, SURFACE_NAMES.get(p.surface, p.surface), p.tool, str(len(p.cuts)), f"{p.feed_mm:.3f}",
+            f"{p.speed_m_min:.0f}", f"{1e3 * p.max_deflection_mm:.1f}", f"{peak_passive:.1f}",
+            f"{p.peak_power_kw:.2f}", f"{p.cycle_time_s:.1f}", f"{p.mass_left_g:.3f}", str(rubbing)]
+
+
+def pass_table(passes: list[PassResult]) -> str:
+    header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "max push-off um",
+              "peak passive N", "peak kW", "time s", "mass left g", "rubbing"]
+    note = "(rubbing: stations where the wall gives way so far that the tool barely cuts)"
+    return "Passes, in order\n" + grid(header, [pass_row(p) for p in passes]) + "\n" + note
+
+
+def surface_table(check: SurfaceCheck) -> str:
+    """The finished surface as a machinist checks it: diameter at the chuck end, middle and free end."""
+    header = ["where", "z mm", "drawn dia. mm", "predicted dia. mm", "material left"]
+    if check.roundness_mm is not None:
+        header.append("out of round um")
+    rows = []
+    for where in (w for w in CHECK_ORDER if w in check.positions):
+        rows.append([where, f"{check.positions[where][1]:.2f}", f"{check.nominal_diameter_mm[where]:.3f}",
+                     f"{check.predicted_diameter_mm[where]:.3f}",
+                     f"leaves {1e3 * check.deviation_mm[where]:.1f} um a side"])
+        if check.roundness_mm is not None:
+            rows[-1].append(f"{1e3 * check.roundness_mm[where]:.1f}")
+    title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: at most "
+             f"{1e3 * check.max_deviation_mm:.1f} um a side, {check.mass_left_g:.3f} g left on it")
+    return title + "\n" + grid(header, rows)
+
+
+def wall_table(wall: list[dict]) -> str:
+    header = ["where", "z mm", "drawn wall mm", "predicted wall mm", "thicker by um"]
+    rows = [[row["where"], f"{row['z_mm']:.2f}", f"{row['nominal_mm']:.3f}", f"{row['predicted_mm']:.3f}",
+             f"{1e3 * (row['predicted_mm'] - row['nominal_mm']):.1f}"] for row in wall]
+    return "Wall thickness (OD against bore)\n" + grid(header, rows)
+
+
+def gain_table(pred: Prediction) -> str:
+    total = pred.mass_gain_g.value
+    rows = []
+    for surface, grams in pred.mass_gain_by_surface_g.items():
+        share = f" ({100.0 * grams / total:.0f} % of the gain)" if total > 0 else ""
+        rows.append((SURFACE_NAMES.get(surface, surface), f"{grams:.3f} g{share}"))
+    return table(rows, title="Mass gain by surface")
+
+
+GRIP_CAUTION = (
+    "Work holding: the diameters include the spring-back of the jaws' squeeze once they let go, and the\n"
+    "out-of-round column is what the jaws leave ({lobes} lobes). A grip below the least needed can let the\n"
+    "part turn in the jaws or be thrown from the chuck: see `deflect clamp` for the grip window, and keep\n"
+    "to the chuck maker's speed and force limits and the machine's interlocks."
+)
+
+
+def feature_table(features) -> str:
+    """Each toleranced feature in or out, with its margin to the nearer limit."""
+    rows = []
+    for c in features:
+        if c.unit == "um":
+            rows.append([c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um",
+                         "in" if c.meets else "OUT"])
+        else:
+            rows.append([c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
+                         f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um",
+                         "in" if c.meets else "OUT"])
+    note = "(diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside)"
+    return "Against the drawing\n" + grid(["feature", "limits", "predicted", "margin", "verdict"], rows) + "\n" + note
+
+
+def predict_report(pred: Prediction, features=()) -> str:
+    """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
+    surface, warnings, caution."""
+    blocks = [headline(pred)]
+    if pred.passes:
+        blocks.append(pass_table(pred.passes))
+    checks = [c for c in pred.surfaces if c.surface in ("od", "id")]
+    blocks += [surface_table(c) for c in checks]
+    if not checks:
+        blocks.append("No finished OD or bore long enough to check at the chuck end, middle and free end.")
+    if pred.wall:
+        blocks.append(wall_table(pred.wall))
+    if features:
+        blocks.append(feature_table(features))
+    if pred.lobes:
+        blocks.append(GRIP_CAUTION.format(lobes=pred.lobes))
+    if pred.mass_gain_by_surface_g:
+        blocks.append(gain_table(pred))
+    if pred.warnings:
+        blocks.append("\n".join(f"warning: {w}" for w in pred.warnings))
+    blocks.append(CAUTION)
+    return "\n\n".join(blocks)

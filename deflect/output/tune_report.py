@@ -1,0 +1,161 @@
+"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of shared/CONTRACT.md.
+
+Formatting only; the figures come from `deflect.decisions.tune`. Changes are said the way a machinist says them
+(leave 0.1 mm a side for the finish pass; one spring pass; wear offset X -0.026). Values in the JSON and in
+the words are in the job's own units (mm or inch), so that they can be written back into the job file.
+"""
+
+from __future__ import annotations
+
+from deflect.decisions.tune import Change, Outcome, TuneResult
+from deflect.job.reader import MM_PER_INCH
+from deflect.output.predict_json import feature_record
+from deflect.output.predict_report import duration_text, feature_table
+from deflect.output.tables import grid
+
+LENGTH_KEYS = ("feed", "allowance", "offset")
+CAUTION = ("Caution: the options are predictions; prove a changed program out (dry run, single block) and measure "
+           "the first part. The machine's and chuck maker's limits and your local safety rules come first.")
+
+
+def in_job_units(change: Change, units: str):
+    """(from, to) of a change in the job's units."""
+    factor = MM_PER_INCH if units == "inch" else 1.0
+    if change.key in LENGTH_KEYS:
+        return change.before / factor, change.after / factor
+    if change.key == "compensate":
+        return None, [[z / factor, c / factor] for z, c in change.after]
+    if change.key == "order":
+        return list(change.before), list(change.after)
+    return change.before, change.after
+
+
+def change_words(change: Change, surface_of: dict, units: str) -> str:
+    """One change in a machinist's words."""
+    unit = "in" if units == "inch" else "mm"
+    before, after = in_job_units(change, units)
+    name = change.pass_name
+    if change.key == "feed":
+        return f"{name}: feed {before:g} -> {after:g} {unit}/rev"
+    if change.key == "allowance":
+        return f"{name}: leave {after:g} {unit} a side for the finish pass (was {before:g})"
+    if change.key == "spring":
+        count = {0: "no spring pass", 1: "one spring pass", 2: "two spring passes"}.get(after, f"{after} spring passes")
+        return f"{name}: {count}"
+    if change.key == "speed":
+        return f"{name}: cutting speed {before:g} -> {after:g} m/min (within the machine's power)"
+    if change.key == "tool":
+        return f"{name}: finish with {after} instead of {before}"
+    if change.key == "offset":
+        surface = surface_of.get(name, "od")
+        if surface == "face":
+            return f"{name}: wear offset Z {after:+.4g}"
+        x = 2.0 * after if surface == "od" else -2.0 * after
+        return f"{name}: wear offset X {x:+.4g} (on diameter)"
+    if change.key == "compensate":
+        most = max((c for _, c in after), key=abs)
+        return f"{name}: program the compensated contour (push-off taken out, up to {most:+.4g} {unit} a side)"
+    if change.key == "order":
+        swapped = [n for n, m in zip(after, before) if n != m]
+        if len(swapped) == 2 and {surface_of.get(n) for n in swapped} == {"od", "id"}:
+            first, second = ("the bore" if surface_of[n] == "id" else "the OD" for n in swapped)
+            return f"finish {first} before {second} ({swapped[0]} before {swapped[1]})"
+        return f"passes in the order {', '.join(after)}"
+    return f"{name}: {change.key} {before} -> {after}"
+
+
+def option_words(outcome: Outcome, surface_of: dict, units: str) -> str:
+    return "; ".join(change_words(c, surface_of, units) for c in outcome.changes) or "as programmed"
+
+
+def wall_lines(walls, units: str) -> list[str]:
+    """The design revision: per wall, the thinnest that holds and what the change costs."""
+    factor = MM_PER_INCH if units == "inch" else 1.0
+    unit = "in" if units == "inch" else "mm"
+    lines = ["Design revision (the recommended finishing, offsets centred again for each wall):"]
+    for w in walls:
+        wall = w.wall
+        where = (f"wall between OD {2 * wall.od_radius_mm / factor:g} and bore {2 * wall.bore_radius_mm / factor:g} "
+                 f"{unit}, z {wall.z_low_mm / factor:g} to {wall.z_high_mm / factor:g}")
+        if w.thinnest_mm is None:
+            lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}; {w.note}")
+            continue
+        change = w.thinnest_mm - wall.thickness_mm
+        lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}, thinnest that holds "
+                     f"{w.thinnest_mm / factor:.3f} {unit} ({change / factor:+.3f}): mass "
+                     f"{w.mass_g - w.drawn_mass_g:+.3f} g, axial inertia "
+                     f"{w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2:+.4g} kg mm2 against the drawing"
+                     + (f"; {w.note}" if w.note else ""))
+    return lines
+
+
+def wall_records(walls, units: str) -> list[dict]:
+    factor = MM_PER_INCH if units == "inch" else 1.0
+    return [{"od": 2 * w.wall.od_radius_mm / factor, "bore": 2 * w.wall.bore_radius_mm / factor,
+             "z": [w.wall.z_low_mm / factor, w.wall.z_high_mm / factor],
+             "drawn_wall": w.wall.thickness_mm / factor,
+             "thinnest_wall_that_holds": None if w.thinnest_mm is None else w.thinnest_mm / factor,
+             "mass_change_g": None if w.mass_g is None else w.mass_g - w.drawn_mass_g,
+             "inertia_change_kg_mm2": None if w.inertia_kg_mm2 is None else w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2,
+             "note": w.note} for w in walls]
+
+
+def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None) -> str:
+    current = result.current
+    lines = [f"Remedies: {title}", "",
+             f"as programmed: cycle time {duration_text(current.cycle_time_s)}, worst deviation "
+             f"{1000 * current.max_deviation_mm:.1f} um a side, {'meets' if current.meets else 'does NOT meet'} "
+             "the drawing", feature_table(current.checks) if current.checks else "nothing toleranced", ""]
+    rows = []
+    for rank, o in enumerate(result.options, 1):
+        delta = o.cycle_time_s - current.cycle_time_s
+        margin = "-" if o.least_margin_mm is None else f"{1000 * o.least_margin_mm:+.1f}"
+        rows.append([str(rank), "yes" if o.meets else "no", f"{o.cycle_time_s:.1f}", f"{delta:+.1f}",
+                     f"{1000 * o.max_deviation_mm:.1f}", margin, f"{o.ra_um:.2f}", f"{o.mass_g:.3f}"])
+    if rows:
+        header = ["rank", "meets", "cycle s", "vs now s", "worst dev. um", "least margin um", "Ra um", "mass g"]
+        lines += [grid(header, rows),
+                  "(worst dev.: the largest deviation from the drawn size a side, either way, wear offsets "
+                  "included; least margin: the nearest a diameter or the wall comes to a limit)", ""]
+        for rank, o in enumerate(result.options, 1):
+            lines.append(f"{rank}. {option_words(o, surface_of, units)}")
+            if o.broken:
+                lines.append(f"   breaks: {'; '.join(o.broken)}")
+    else:
+        lines.append("no option could be predicted")
+    if result.limiting:
+        lines += ["", result.limiting]
+    if result.offset_note:
+        lines += ["", f"wear offset only: {result.offset_note}"]
+    if walls is not None:
+        lines += [""] + wall_lines(walls, units)
+    lines += ["", f"({result.evaluations} plans predicted)", CAUTION]
+    return "\n".join(lines)
+
+
+def change_record(change: Change, units: str) -> dict:
+    before, after = in_job_units(change, units)
+    return {"pass": change.pass_name, "key": change.key, "from": before, "to": after}
+
+
+def outcome_record(outcome: Outcome, units: str) -> dict:
+    return {"meets": outcome.meets, "cycle_time_s": outcome.cycle_time_s,
+            "max_deviation_mm": outcome.max_deviation_mm, "least_margin_mm": outcome.least_margin_mm,
+            "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
+            "breaks": outcome.broken,
+            "features": [feature_record(c) for c in outcome.checks]}
+
+
+def tune_payload(result: TuneResult, surface_of: dict, units: str, walls=None) -> dict:
+    current = outcome_record(result.current, units)
+    options = []
+    for rank, o in enumerate(result.options, 1):
+        record = {"rank": rank, **outcome_record(o, units),
+                  "changes": [change_record(c, units) for c in o.changes],
+                  "in_words": option_words(o, surface_of, units)}
+        options.append(record)
+    payload = {"current": current, "options": options, "limiting": result.limiting,
+               "offset_note": result.offset_note, "plans_predicted": result.evaluations, "units": units}
+    if walls is not None:
+        payload["walls"] = wall_records(walls, units)
+    return payload
