@@ -22,6 +22,10 @@ import click  # noqa: E402  (after the thread settings, before numpy is first im
 from deflect.errors import InputError, ModelError
 
 EXIT_BAD_INPUT = 2
+HTML_HELP = ("Also write the report as one self-contained HTML file: key figures, every table and figure, the "
+             "inputs and the cautions; it prints to clean A4 or Letter pages.")
+HTML_MARK = '<meta name="generator" content="deflect'      # in every HTML report deflect writes
+JOB_MARK = "written in by deflect"                          # in the header of every job --apply writes
 
 
 def emit_json(payload: dict) -> None:
@@ -205,7 +209,8 @@ def write_outputs(pred, csv_dir, plot_dir) -> list:
 @click.option("--plot", "plot_dir", type=click.Path(file_okay=False), default=None,
               help="Draw the section, the deviation and the pass forces as PNG files into this folder.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
-def predict(job_file, as_json, csv_dir, plot_dir, quiet):
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+def predict(job_file, as_json, csv_dir, plot_dir, quiet, html_file):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -214,8 +219,13 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
 
+    html_target(html_file)
     pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
     written = write_outputs(pred, csv_dir, plot_dir)
+    if html_file:
+        from deflect.output.html_chapters import predict_chapter
+        written.append(write_html(html_file, pred.title, "machining prediction", [job_file],
+                                  [predict_chapter(pred, features)]))
     if as_json:
         emit_json(prediction_payload(pred, features))
     else:
@@ -247,6 +257,9 @@ def demo(out_dir):
     except OSError as exc:
         raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
     written = write_outputs(pred, out / "csv", out / "figures")
+    from deflect.output.html_chapters import predict_chapter
+    written.append(write_html(out / "report.html", pred.title, "machining prediction", [job_file],
+                              [predict_chapter(pred, features)], key="--out"))
     click.echo(report)
     click.echo(f"\nreport, JSON, CSV and figures written to {out.resolve()}:")
     for path in [out / "report.txt", out / "prediction.json", *written]:
@@ -260,7 +273,8 @@ def demo(out_dir):
               help="Draw the released shape of one finished section around the circumference into this PNG file.")
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
-def clamp(job_file, as_json, plot_file, plot_at):
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+def clamp(job_file, as_json, plot_file, plot_at, html_file):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
     From [holding]: the least grip that holds the heaviest cut (friction, safety factor, the jaws' loss of grip
@@ -272,6 +286,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
     from deflect.machining.grip import clamp_study, nearest_point, released_profile
     from deflect.output.clamp_report import clamp_payload, clamp_report
 
+    html_target(html_file)
     job = read_job(job_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
@@ -303,12 +318,16 @@ def clamp(job_file, as_json, plot_file, plot_at):
             released_shape_plot(profile, job.title, plot_file)
         except OSError as exc:
             raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+    if html_file:
+        write_clamp_html(html_file, job_file, study)
     if as_json:
         emit_json(clamp_payload(study))
     else:
         click.echo(clamp_report(study))
         if profile is not None:
             click.echo(f"released shape drawn in {plot_file}")
+        if html_file:
+            click.echo(f"wrote {html_file}")
 
 
 @cli.command()
@@ -320,40 +339,64 @@ def clamp(job_file, as_json, plot_file, plot_at):
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
-def tune(job_file, as_json, contour_dir, design, quiet):
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--apply", "apply_number", type=int, default=None, metavar="N",
+              help="Write option N's changes into a copy of the job (--out), comments and layout kept.")
+@click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None, metavar="NEW.toml",
+              help="The job file --apply writes (a new file; the job itself is never changed).")
+def tune(job_file, as_json, contour_dir, design, quiet, html_file, apply_number, out_file):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
     Tries feeds, spring passes, the finishing allowance, the job's other tools, a wear offset, a compensated
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
-    from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
     from deflect.output.tune_report import tune_payload, tune_report
 
+    html_target(html_file)
+    check_apply(job_file, apply_number, out_file)
     job = read_job(job_file)
     warn(job.warnings, job_file)
     try:
         require_cutting_constants(job.material)
         process = process_from_job(job)
         surface_of = {p.name: p.surface for p in process.passes}
-        with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
-                               show_eta=False, hidden=quiet or as_json) as bar:
-            result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
-            bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+        result = searched_with_progress(job, hidden=quiet or as_json)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         written = write_contours(job, result, contour_dir) if contour_dir else []
+        applied = apply_option(job_file, job, result, apply_number, out_file) if apply_number else None
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
+    if html_file:
+        from deflect.output.html_chapters import tune_chapter
+        written.append(write_html(html_file, job.title, "remedies", [job_file],
+                                  [tune_chapter(result, surface_of, job.units, walls)]))
+    if applied:
+        written.append(applied)
     if as_json:
-        emit_json(tune_payload(result, surface_of, job.units, walls))
+        payload = tune_payload(result, surface_of, job.units, walls)
+        if applied:
+            payload["applied"] = {"option": apply_number, "file": str(applied)}
+        emit_json(payload)
     else:
         click.echo(tune_report(result, surface_of, job.units, job.title, walls))
         for path in written:
             click.echo(f"wrote {path}")
+
+
+def searched_with_progress(job, hidden: bool):
+    """The remedy search (`deflect.decisions.tune`) with a progress bar on stderr."""
+    from deflect.decisions.tune import tune as search_remedies
+
+    with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
+                           show_eta=False, hidden=hidden) as bar:
+        result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+        bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+    return result
 
 
 def short_of_the_end(bar, length: int):
@@ -414,6 +457,194 @@ def write_contours(job, result, folder: str) -> list:
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
     return written
+
+
+# ---------------------------------------------------------------------------------------------------
+# the HTML report, a remedy written into a job
+
+
+
+def html_target(html_file) -> None:
+    """Before any work: the HTML file can be written (an error naming --html otherwise)."""
+    if html_file:
+        from deflect.output.atomic import check_target
+        check_target(html_file, "--html", HTML_MARK)
+
+
+def write_html(html_file, title: str, what: str, job_files: list, chapters: list, notes=(), key: str = "--html"):
+    """The chapters as one HTML report, written whole (`deflect.output.html_report`)."""
+    from pathlib import Path
+
+    from deflect import __version__
+    from deflect.output.atomic import check_target, write_whole
+    from deflect.output.html_report import JobSource, Report, render, report_date
+
+    check_target(html_file, key, HTML_MARK)
+    jobs = tuple(JobSource(Path(f).name, Path(f).read_text(encoding="utf-8", errors="replace")) for f in job_files)
+    report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), tuple(notes))
+    return write_whole(html_file, render(report), key)
+
+
+def clamp_chapter_of(study):
+    """The work-holding chapter, with the released shape of the least round section finished in the chuck."""
+    from deflect.machining.grip import released_profile
+    from deflect.output.html_chapters import clamp_chapter
+
+    index = study.given.worst
+    return clamp_chapter(study, released_profile(study.given, index) if index is not None else None)
+
+
+def write_clamp_html(html_file, job_file: str, study):
+    return write_html(html_file, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
+
+
+def check_apply(job_file: str, number, out_file) -> None:
+    """Before the search: --apply and --out come together, N counts from 1, the new job can be written and is
+    not the job itself."""
+    from pathlib import Path
+
+    from deflect.output.atomic import check_target
+
+    if number is None and out_file is None:
+        return
+    if number is None:
+        raise InputError("--out", "writes the job with an option's changes: give the option with --apply N")
+    if out_file is None:
+        raise InputError("--apply", "give the file to write the changed job to with --out NEW.toml")
+    if number < 1:
+        raise InputError("--apply", f"options are numbered from 1 as the table ranks them, got {number}")
+    if Path(out_file).resolve() == Path(job_file).resolve():
+        raise InputError("--out", "is the job file itself; write the changed job to a new file")
+    check_target(out_file, "--out", JOB_MARK)
+
+
+def apply_option(job_file: str, job, result, number: int, out_file):
+    """Write option `number`'s changes into a copy of the job file (`deflect.output.job_file`)."""
+    from pathlib import Path
+
+    from deflect import __version__
+    from deflect.output.atomic import write_whole
+    from deflect.output.html_report import report_date
+    from deflect.output.job_file import job_text_with, written_header
+    from deflect.output.tune_report import change_record
+
+    if number > len(result.options):
+        found = f"options 1 to {len(result.options)}" if result.options else "no option"
+        raise InputError("--apply", f"there is no option {number}: the search found {found}")
+    option = result.options[number - 1]
+    if not option.meets:
+        warn([f"option {number} does not hold the drawing ({'; '.join(option.broken) or 'see the table'})"],
+             job_file)
+    label = f"deflect tune option {number}"
+    text = job_text_with(Path(job_file).read_text(encoding="utf-8"),
+                         [change_record(c, job.units) for c in option.changes], label, job.units)
+    return write_whole(out_file, written_header(label, Path(job_file).name, __version__, report_date()) + text,
+                       "--out")
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), required=True,
+              help="The HTML file to write: one self-contained page that prints to clean A4 or Letter pages.")
+@click.option("--json", "as_json", is_flag=True,
+              help="Also print one JSON object: each part's JSON under its command's name (predict, clamp, tune).")
+@click.option("--quiet", is_flag=True, help="No progress on stderr.")
+def report(job_file, html_file, as_json, quiet):
+    """One report of JOB_FILE to hand over, as a single HTML file.
+
+    The prediction; with [holding], the work holding; with [tolerance], the remedies ranked by cycle time. Key
+    figures and cautions first, then the inputs, every table and figure of those commands, and the job file as
+    given; the tool's version and the date. No scripts and nothing fetched: it reads and prints anywhere.
+    """
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.reader import read_job
+    from deflect.machining.grip import clamp_study
+    from deflect.machining.targets import process_from_job
+    from deflect.output.clamp_report import clamp_payload
+    from deflect.output.html_chapters import predict_chapter, tune_chapter
+    from deflect.output.predict_json import prediction_payload
+    from deflect.output.tune_report import tune_payload
+
+    html_target(html_file)
+    pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
+    chapters = [predict_chapter(pred, features)]
+    payload = {"title": pred.title, "predict": prediction_payload(pred, features), "clamp": None, "tune": None}
+    notes = []
+    job = read_job(job_file)
+    try:
+        if "holding" in job.tables:
+            study = clamp_study(job)
+            chapters.append(clamp_chapter_of(study))
+            payload["clamp"] = clamp_payload(study)
+        else:
+            notes.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no work-holding "
+                         "study is made.")
+        if "tolerance" in job.tables:
+            require_cutting_constants(job.material)
+            surface_of = {p.name: p.surface for p in process_from_job(job).passes}
+            result = searched_with_progress(job, hidden=quiet or as_json)
+            chapters.append(tune_chapter(result, surface_of, job.units))
+            payload["tune"] = tune_payload(result, surface_of, job.units)
+        else:
+            notes.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    written = write_html(html_file, pred.title, "report", [job_file], chapters, notes)
+    if as_json:
+        emit_json(payload)
+    else:
+        click.echo(f"wrote {written}: " + ", ".join(chapter.title.lower() for chapter in chapters))
+
+
+@cli.command()
+@click.argument("job_a", type=click.Path(dir_okay=False))
+@click.argument("job_b", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
+def compare(job_a, job_b, as_json, html_file, quiet):
+    """Two jobs side by side: JOB_A and JOB_B predicted, and the change from A to B.
+
+    Mass and gain, the most material left, cycle time, the OD and bore diameters and the wall at the chuck end,
+    middle and free end, each toleranced feature in or out, and the two material-left profiles overlaid (with
+    --html). Typically a job and the same job with a remedy written in (`deflect tune --apply`); two different
+    parts (a wall revision) may be compared too, and the report says so at the top.
+    """
+    from pathlib import Path
+
+    from deflect.decisions.compare import Compared
+    from deflect.decisions.compare import compare as compare_jobs
+    from deflect.output.compare_report import compare_payload, compare_report
+
+    html_target(html_file)
+    sides = []
+    for job_file in (job_a, job_b):
+        if not quiet and not as_json:
+            click.echo(f"predicting {job_file}", err=True)
+        pred, features = run_prediction(job_file, show_progress=False)
+        sides.append(Compared(Path(job_file).name, pred, features))
+    comparison = compare_jobs(*sides)
+    written = None
+    if html_file:
+        from deflect.output.html_chapters import compare_chapter
+        a, b = comparison.a.prediction, comparison.b.prediction
+        title = a.title if a.title == b.title else f"{a.title} against {b.title}"
+        notes = () if comparison.same_part else (compare_report_note(comparison),)
+        written = write_html(html_file, title, "comparison of two jobs", [job_a, job_b],
+                             [compare_chapter(comparison)], notes)
+    if as_json:
+        emit_json(compare_payload(comparison))
+    else:
+        click.echo(compare_report(comparison))
+        if written:
+            click.echo(f"wrote {written}")
+
+
+def compare_report_note(comparison) -> str:
+    from deflect.output.compare_report import part_words
+
+    return part_words(comparison)
 
 
 def main(argv: list[str] | None = None) -> None:

@@ -1,6 +1,6 @@
 """Output: results -> terminal tables, JSON objects, CSV files, figures and programs. Formatting only.
 
-    tables.py          table layout, the section and compliance tables
+    tables.py          tables and paragraphs of a report as data, their terminal layout
     predict_report.py  the terminal report of a prediction
     predict_json.py    the JSON object of `deflect predict --json`
     clamp_report.py    the terminal report and JSON of `deflect clamp`
@@ -8,6 +8,11 @@
     csv_files.py       CSV tables of a prediction
     figures.py         PNG figures (matplotlib, imported only when a figure is drawn)
     programs.py        the compensated contour as CSV points and ISO 6983 moves
+    compare_report.py  the terminal report and JSON of `deflect compare`
+    html_report.py     the self-contained HTML report (template in templates/report.html)
+    html_chapters.py   what each command puts into the HTML report
+    job_file.py        a job file with a remedy's changes written in, comments and layout kept
+    atomic.py          output files written whole, never over a file deflect did not write
 
 No physics is computed here. May import every room below; only `deflect.cli` imports this room.
 """

@@ -7,7 +7,7 @@ given "a side", i.e. on the radius (half the change of the measured diameter); p
 from __future__ import annotations
 
 from deflect.machining.results import PassResult, Prediction, SpreadValue, SurfaceCheck
-from deflect.output.tables import grid, table
+from deflect.output.tables import Grid, Text, blocks_text, column_grid, pairs_grid
 
 CHECK_ORDER = ("chuck end", "middle", "free end")
 SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "faces", "unmachined": "stock no pass removed"}
@@ -32,7 +32,7 @@ def duration_text(seconds: float) -> str:
     return f"{seconds:.1f} s ({minutes} min {rest:02d} s)"
 
 
-def headline(pred: Prediction) -> str:
+def headline(pred: Prediction) -> Grid:
     """Masses, most material left, cycle time and power; each uncertain figure with its range."""
     gain = pred.mass_gain_g
     gain_pct = 100.0 * gain.value / pred.nominal_mass_g
@@ -50,8 +50,8 @@ def headline(pred: Prediction) -> str:
         ("peak cutting power", f"{pred.peak_power_kw:.2f} kW of the machine's {pred.machine_power_kw:g} kW "
                                f"({power_pct:.1f} %)"),
     ]
-    note = f"(in brackets: the range for force constants +/- {100.0 * pred.force_spread:.0f} %)"
-    return table(rows, title=f"Machining prediction: {pred.title}") + "\n" + note
+    note = f"in brackets: the range for force constants +/- {100.0 * pred.force_spread:.0f} %"
+    return pairs_grid(rows, f"Machining prediction: {pred.title}", (note,))
 
 
 def pass_row(p: PassResult) -> list[str]:
@@ -62,14 +62,14 @@ def pass_row(p: PassResult) -> list[str]:
             f"{p.peak_power_kw:.2f}", f"{p.cycle_time_s:.1f}", f"{p.mass_left_g:.3f}", str(rubbing)]
 
 
-def pass_table(passes: list[PassResult]) -> str:
+def pass_table(passes: list[PassResult]) -> Grid:
     header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "max push-off um",
               "peak passive N", "peak kW", "time s", "mass left g", "rubbing"]
-    note = "(rubbing: stations where the wall gives way so far that the tool barely cuts)"
-    return "Passes, in order\n" + grid(header, [pass_row(p) for p in passes]) + "\n" + note
+    note = "rubbing: stations where the wall gives way so far that the tool barely cuts"
+    return column_grid("Passes, in order", header, [pass_row(p) for p in passes], (note,))
 
 
-def surface_table(check: SurfaceCheck) -> str:
+def surface_table(check: SurfaceCheck) -> Grid:
     """The finished surface as a machinist checks it: diameter at the chuck end, middle and free end."""
     header = ["where", "z mm", "drawn dia. mm", "predicted dia. mm", "material left"]
     if check.roundness_mm is not None:
@@ -83,23 +83,23 @@ def surface_table(check: SurfaceCheck) -> str:
             rows[-1].append(f"{1e3 * check.roundness_mm[where]:.1f}")
     title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: at most "
              f"{1e3 * check.max_deviation_mm:.1f} um a side, {check.mass_left_g:.3f} g left on it")
-    return title + "\n" + grid(header, rows)
+    return column_grid(title, header, rows)
 
 
-def wall_table(wall: list[dict]) -> str:
+def wall_table(wall: list[dict]) -> Grid:
     header = ["where", "z mm", "drawn wall mm", "predicted wall mm", "thicker by um"]
     rows = [[row["where"], f"{row['z_mm']:.2f}", f"{row['nominal_mm']:.3f}", f"{row['predicted_mm']:.3f}",
              f"{1e3 * (row['predicted_mm'] - row['nominal_mm']):.1f}"] for row in wall]
-    return "Wall thickness (OD against bore)\n" + grid(header, rows)
+    return column_grid("Wall thickness (OD against bore)", header, rows)
 
 
-def gain_table(pred: Prediction) -> str:
+def gain_table(pred: Prediction) -> Grid:
     total = pred.mass_gain_g.value
     rows = []
     for surface, grams in pred.mass_gain_by_surface_g.items():
         share = f" ({100.0 * grams / total:.0f} % of the gain)" if total > 0 else ""
         rows.append((SURFACE_NAMES.get(surface, surface), f"{grams:.3f} g{share}"))
-    return table(rows, title="Mass gain by surface")
+    return pairs_grid(rows, "Mass gain by surface")
 
 
 GRIP_CAUTION = (
@@ -110,7 +110,7 @@ GRIP_CAUTION = (
 )
 
 
-def feature_table(features) -> str:
+def feature_table(features) -> Grid:
     """Each toleranced feature in or out, with its margin to the nearer limit."""
     rows = []
     for c in features:
@@ -121,29 +121,34 @@ def feature_table(features) -> str:
             rows.append([c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
                          f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um",
                          "in" if c.meets else "OUT"])
-    note = "(diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside)"
-    return "Against the drawing\n" + grid(["feature", "limits", "predicted", "margin", "verdict"], rows) + "\n" + note
+    note = "diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside"
+    return column_grid("Against the drawing", ["feature", "limits", "predicted", "margin", "verdict"], rows, (note,))
 
 
 def predict_report(pred: Prediction, features=()) -> str:
-    """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
-    surface, warnings, caution."""
+    """The whole report as the terminal prints it."""
+    return blocks_text(predict_blocks(pred, features))
+
+
+def predict_blocks(pred: Prediction, features=()) -> list[Grid | Text]:
+    """The report's tables and paragraphs: headline, passes, finished surfaces, wall, the toleranced features,
+    mass gain by surface, warnings, caution."""
     blocks = [headline(pred)]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
     checks = [c for c in pred.surfaces if c.surface in ("od", "id")]
     blocks += [surface_table(c) for c in checks]
     if not checks:
-        blocks.append("No finished OD or bore long enough to check at the chuck end, middle and free end.")
+        blocks.append(Text(("No finished OD or bore long enough to check at the chuck end, middle and free end.",)))
     if pred.wall:
         blocks.append(wall_table(pred.wall))
     if features:
         blocks.append(feature_table(features))
     if pred.lobes:
-        blocks.append(GRIP_CAUTION.format(lobes=pred.lobes))
+        blocks.append(Text((GRIP_CAUTION.format(lobes=pred.lobes),), "caution"))
     if pred.mass_gain_by_surface_g:
         blocks.append(gain_table(pred))
     if pred.warnings:
-        blocks.append("\n".join(f"warning: {w}" for w in pred.warnings))
-    blocks.append(CAUTION)
-    return "\n\n".join(blocks)
+        blocks.append(Text(tuple(f"warning: {w}" for w in pred.warnings), "warning"))
+    blocks.append(Text((CAUTION,), "caution"))
+    return blocks

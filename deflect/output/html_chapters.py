@@ -1,0 +1,166 @@
+"""What each command puts into the HTML report: its results -> a `html_report.Chapter`. Formatting only.
+
+One function per command. Each takes the same results the command prints (and the same blocks its terminal
+report is made of: `predict_blocks`, `tune_blocks`, `clamp_blocks`), adds its figures as SVG and its key figures
+with their place in the command's JSON, and lays them out in sheets (one printed page each, for the shipped
+jobs). A new command adds one function here and passes its chapter to `html_report.render`.
+"""
+
+from __future__ import annotations
+
+from deflect.output.html_report import Chapter, Figure, KeyFigure, Sheet, split_cautions
+
+
+def _spread(value, unit: str, digits: int, scale: float = 1.0, sign: str = "") -> str:
+    return (f"{scale * value.low:{sign}.{digits}f} to {scale * value.high:{sign}.{digits}f} {unit} for the force "
+            "constants' spread")
+
+
+def drawing_figure(features) -> KeyFigure:
+    """The toleranced features in one figure: all in, or which are out."""
+    out = [c.feature for c in features if not c.meets]
+    if not out:
+        return KeyFigure("against the drawing", f"all {len(features)} in", verdict="good",
+                         note="every toleranced feature within its limits")
+    return KeyFigure("against the drawing", f"{len(out)} of {len(features)} OUT", verdict="bad",
+                     note="out: " + ", ".join(out))
+
+
+def predict_key_figures(pred, features) -> tuple[KeyFigure, ...]:
+    gain_pct = 100.0 * pred.mass_gain_g.value / pred.nominal_mass_g
+    figures = [
+        KeyFigure("predicted mass", f"{pred.predicted_mass_g.value:.3f} g", ("predicted.mass_g",),
+                  note=f"drawn {pred.nominal_mass_g:.3f} g; {_spread(pred.predicted_mass_g, 'g', 3)}"),
+        KeyFigure("mass gain over the drawing", f"{pred.mass_gain_g.value:+.3f} g", ("predicted.mass_gain_g",),
+                  note=f"{gain_pct:+.2f} %; {_spread(pred.mass_gain_g, 'g', 3, sign='+')}"),
+        KeyFigure("most material left", f"{1e3 * pred.max_deviation_mm.value:.1f} um a side",
+                  ("predicted.max_deviation_mm",), 1000.0, note=_spread(pred.max_deviation_mm, "um", 1, 1000.0)),
+        KeyFigure("cycle time (cutting)", f"{pred.cycle_time_s:.1f} s", ("cycle_time_s",),
+                  note=f"{len(pred.passes)} passes"),
+        KeyFigure("peak cutting power", f"{pred.peak_power_kw:.2f} kW", ("peak_power_kW",),
+                  note=f"of the machine's {pred.machine_power_kw:g} kW",
+                  verdict="bad" if pred.peak_power_kw > pred.machine_power_kw else ""),
+    ]
+    if features:
+        figures.append(drawing_figure(features))
+    return tuple(figures)
+
+
+def predict_chapter(pred, features=()) -> Chapter:
+    """`deflect predict`: the headline and the passes on one sheet, the finished surfaces against the drawing on
+    the next, then the section and the profiles."""
+    from deflect.output.figures import deviation_figure, passes_figure, section_figure, svg_text
+    from deflect.output.predict_report import predict_blocks
+
+    blocks, cautions = split_cautions(predict_blocks(pred, features))
+    section = Figure("The drawn section (black), as machined at true scale (blue, dashed) and the material left "
+                     "drawn magnified along the normals (red); the stock in grey.", svg_text(section_figure(pred)))
+    deviation = Figure("Material left beyond the drawn surface, a side, along the finished OD and bore and across "
+                       "the faces (> 0: thicker than drawn).", svg_text(deviation_figure(pred)))
+    passes = Figure("Passive force and push-off (part and tool together) at every station of every pass.",
+                    svg_text(passes_figure(pred)))
+    sheets = (Sheet("Machining prediction", tuple(blocks[:2])),
+              Sheet("Finished surfaces against the drawing", tuple(blocks[2:])),
+              Sheet("The section as machined", (section,)),
+              Sheet("Material left and push-off along the passes", (deviation, passes)))
+    return Chapter("predict", "Prediction", predict_key_figures(pred, features), sheets, cautions)
+
+
+def tune_key_figures(result) -> tuple[KeyFigure, ...]:
+    current = result.current
+    figures = [KeyFigure("as programmed: cycle time", f"{current.cycle_time_s:.1f} s", ("current.cycle_time_s",),
+                         note="meets the drawing" if current.meets else "does NOT meet the drawing",
+                         verdict="good" if current.meets else "bad")]
+    if result.options:
+        best = result.options[0]
+        figures += [
+            KeyFigure("option 1: cycle time", f"{best.cycle_time_s:.1f} s", ("options.0.cycle_time_s",),
+                      note=f"{best.cycle_time_s - current.cycle_time_s:+.1f} s against now; "
+                           + ("meets the drawing" if best.meets else "does NOT meet the drawing"),
+                      verdict="good" if best.meets else "bad"),
+            KeyFigure("option 1: worst deviation", f"{1e3 * best.max_deviation_mm:.1f} um a side",
+                      ("options.0.max_deviation_mm",), 1000.0,
+                      note=f"now {1e3 * current.max_deviation_mm:.1f} um a side"),
+            KeyFigure("options that meet the drawing", f"{sum(o.meets for o in result.options)} of "
+                                                       f"{len(result.options)}", note="ranked by cycle time")]
+    return tuple(figures)
+
+
+def tune_chapter(result, surface_of: dict, units: str, walls=None) -> Chapter:
+    """`deflect tune`: the remedies on one sheet; the material left as programmed and with option 1 on the next."""
+    from deflect.output.figures import plain, profiles_figure, svg_text
+    from deflect.output.tune_report import tune_blocks
+
+    blocks, cautions = split_cautions(tune_blocks(result, surface_of, units, walls))
+    sheets = [Sheet("Remedies that hold the drawing", tuple(blocks))]
+    if result.options:
+        named = [("as programmed", result.current.prediction), ("option 1", result.options[0].prediction)]
+        title = f"Material left, as programmed and with option 1: {plain(result.current.prediction.title)}"
+        sheets.append(Sheet("Option 1 against the plan as programmed", (
+            Figure("Material left beyond the drawn surface, a side, as programmed (solid) and with option 1's "
+                   "changes (dashed).", svg_text(profiles_figure(named, title))),)))
+    return Chapter("tune", "Remedies", tune_key_figures(result), tuple(sheets), cautions)
+
+
+def clamp_key_figures(study) -> tuple[KeyFigure, ...]:
+    g = study.given
+    window = {None: ("not known", ""), True: ("open", "good"), False: ("EMPTY", "bad")}[g.window_open]
+    figures = [KeyFigure("grip given (standstill)", f"{g.holding.force_n:.0f} N", ("grip_force_N.given",))]
+    if g.least_to_hold_n is not None:
+        figures.append(KeyFigure("least grip to hold", f"{g.least_to_hold_n:.0f} N", ("grip_force_N.least_to_hold",),
+                                 note="the heaviest cut, with the safety factor and the loss at speed"))
+    if g.most_for_roundness_n is not None:
+        figures.append(KeyFigure("most grip for roundness", f"{g.most_for_roundness_n:.0f} N",
+                                 ("grip_force_N.most_for_roundness",),
+                                 note="keeps the finished diameters in tolerance"))
+    figures += [KeyFigure("grip window", window[0], verdict=window[1]),
+                KeyFigure("roundness after release", f"{1e3 * g.roundness_mm.max(initial=0.0):.1f} um",
+                          ("max_roundness_um",), note=f"{g.lobes} lobes, radial peak to valley")]
+    return tuple(figures)
+
+
+def clamp_chapter(study, profile=None) -> Chapter:
+    """`deflect clamp`: the holding, its window and the remedies on one sheet; the released shape of the least
+    round section (`profile`, when there is one) on the next."""
+    from deflect.output.clamp_report import clamp_blocks
+    from deflect.output.figures import released_shape_figure, svg_text
+
+    blocks, cautions = split_cautions(clamp_blocks(study))
+    sheets = [Sheet("Work holding", tuple(blocks))]
+    if profile is not None:
+        sheets.append(Sheet("The shape the jaws leave", (
+            Figure("A section finished in the chuck, as cut (round) and after the jaws let go (the deviation "
+                   "magnified), with the jaws.", svg_text(released_shape_figure(profile, study.title))),)))
+    return Chapter("clamp", "Work holding", clamp_key_figures(study), tuple(sheets), cautions)
+
+
+
+def compare_key_figures(c) -> tuple[KeyFigure, ...]:
+    a, b = c.a.prediction, c.b.prediction
+    figures = [
+        KeyFigure("mass gain, A -> B", f"{a.mass_gain_g.value:+.3f} g -> {b.mass_gain_g.value:+.3f} g",
+                  ("a.mass_gain_g", "b.mass_gain_g")),
+        KeyFigure("most material left, A -> B", f"{1e3 * a.max_deviation_mm.value:.1f} -> "
+                                                f"{1e3 * b.max_deviation_mm.value:.1f} um a side",
+                  ("a.max_deviation_mm", "b.max_deviation_mm"), 1000.0),
+        KeyFigure("cycle time, A -> B", f"{a.cycle_time_s:.1f} s -> {b.cycle_time_s:.1f} s",
+                  ("a.cycle_time_s", "b.cycle_time_s"))]
+    for side, label in ((c.a, "A"), (c.b, "B")):
+        if side.features:
+            figure = drawing_figure(side.features)
+            figures.append(KeyFigure(f"{label} against the drawing", figure.value, note=figure.note,
+                                     verdict=figure.verdict))
+    return tuple(figures)
+
+
+def compare_chapter(c) -> Chapter:
+    """`deflect compare`: the two jobs side by side on one sheet, their material left overlaid on the next."""
+    from deflect.output.compare_report import compare_blocks
+    from deflect.output.figures import plain, profiles_figure, svg_text
+
+    blocks, cautions = split_cautions(compare_blocks(c))
+    named = [(f"A ({c.a.name})", c.a.prediction), (f"B ({c.b.name})", c.b.prediction)]
+    overlay = Figure("Material left beyond the drawn surface, a side: A solid, B dashed.",
+                     svg_text(profiles_figure(named, f"Material left: A {plain(c.a.name)} and B {plain(c.b.name)}")))
+    sheets = (Sheet("Two jobs side by side", tuple(blocks)), Sheet("Material left, A and B", (overlay,)))
+    return Chapter("compare", "Comparison", compare_key_figures(c), sheets, cautions)

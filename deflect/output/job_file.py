@@ -1,0 +1,93 @@
+"""A remedy written into a job: the job file's text and an option's changes -> the text of the changed job.
+
+Takes the TOML text of a job as the user wrote it and the changes of one `deflect tune` option as its JSON
+gives them (`{"pass", "key", "from", "to"}`, values in the job's own units, as `tune_report.change_record`
+writes them); gives the text of the same job with the changes written into its [[pass]] tables. Every comment
+and the layout are kept (tomlkit keeps a TOML document's comments, spacing and order when it is edited), and
+each changed value carries a comment saying what it was. Keys:
+* feed, allowance, spring, speed, tool, offset: the value set on the named pass (`offset` in the job's own
+  convention: a side, along the surface's outward normal);
+* compensate: the pairs `[[z, offset], ...]` set on the pass, as an array written one pair a line;
+* order: the [[pass]] tables put in the new order, each moved table's name marked with where it was.
+Formatting only; no physics is computed here.
+"""
+
+from __future__ import annotations
+
+import tomlkit
+
+from deflect.errors import InputError
+from deflect.output.tune_report import offset_words
+
+PASS_KEYS = ("feed", "allowance", "spring", "speed", "tool", "offset", "compensate")
+
+
+def _was(item) -> str:
+    """What a value was, as the file wrote it."""
+    return "not set" if item is None else item.as_string().strip()
+
+
+def _pass_table(passes, name: str):
+    for table in passes:
+        if table.get("name") == name:
+            return table
+    raise InputError("pass", f"the job has no pass named {name!r} (the option was found for another job?)")
+
+
+def _set(table, key: str, value, label: str) -> None:
+    old = table.get(key)
+    table[key] = tomlkit.item(value)
+    if isinstance(value, list) and value and isinstance(value[0], list):
+        table[key].multiline(True)
+    if old is not None and old.trivia.comment:
+        table[key].comment(old.trivia.comment.lstrip("#").strip())
+    _note(table, key, f"was {_was(old)} ({label})")
+
+
+def _reorder(passes, names: list[str], label: str) -> None:
+    tables = list(passes)
+    by_name = {table.get("name"): (k, table) for k, table in enumerate(tables)}
+    missing = [n for n in names if n not in by_name]
+    if missing or len(names) != len(tables):
+        raise InputError("pass", f"the option's order {names} does not name the job's passes "
+                                 f"{[t.get('name') for t in tables]}")
+    for position, name in enumerate(names):
+        was, table = by_name[name]
+        if was != position:
+            _note(table, "name", f"was pass {was + 1} of {len(tables)}, now pass {position + 1} ({label})")
+        passes[position] = table
+
+
+def _note(table, key: str, text: str) -> None:
+    """A comment on a value left as it is (after the user's own comment, if any)."""
+    item = table[key]
+    own = item.trivia.comment.lstrip("#").strip() if item.trivia.comment else ""
+    item.comment(f"{own}; {text}" if own else text)
+
+
+def job_text_with(text: str, changes: list[dict], label: str, units: str) -> str:
+    """The job's text with the changes written in (values in the job's `units`, "mm" or "inch"); `label` names
+    where they come from in each comment (e.g. "deflect tune option 1")."""
+    document = tomlkit.parse(text)
+    passes = document.get("pass")
+    if passes is None:
+        raise InputError("pass", "the job has no [[pass]] tables to change")
+    for change in changes:
+        key = change["key"]
+        if key == "order":
+            _reorder(passes, list(change["to"]), label)
+        elif key in PASS_KEYS:
+            table = _pass_table(passes, change["pass"])
+            said = label
+            if key == "offset":       # both conventions beside the job's own (the machinist's X on the diameter)
+                said = f"{label}: {offset_words(change['to'], str(table.get('surface', 'od')), units)}"
+            _set(table, key, change["to"], said)
+        else:
+            raise InputError("pass", f"cannot write a change of {key!r} into a job")
+    return tomlkit.dumps(document)
+
+
+def written_header(label: str, source: str, version: str, date: str) -> str:
+    """The comment lines that open a written job: what it is and where it came from."""
+    return (f"# {source} with {label} written in by deflect {version} on {date}; each changed value says what it\n"
+            "# was. Prove the changed program out before cutting (dry run, single block).\n")
