@@ -471,7 +471,8 @@ def html_target(html_file) -> None:
         check_target(html_file, "--html", HTML_MARK)
 
 
-def write_html(html_file, title: str, what: str, job_files: list, chapters: list, notes=(), key: str = "--html"):
+def write_html(html_file, title: str, what: str, job_files: list, chapters: list, notes=(), remarks=(),
+               key: str = "--html"):
     """The chapters as one HTML report, written whole (`deflect.output.html_report`)."""
     from pathlib import Path
 
@@ -481,7 +482,7 @@ def write_html(html_file, title: str, what: str, job_files: list, chapters: list
 
     check_target(html_file, key, HTML_MARK)
     jobs = tuple(JobSource(Path(f).name, Path(f).read_text(encoding="utf-8", errors="replace")) for f in job_files)
-    report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), tuple(notes))
+    report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), tuple(notes), tuple(remarks))
     return write_whole(html_file, render(report), key)
 
 
@@ -569,7 +570,7 @@ def report(job_file, html_file, as_json, quiet):
     pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
     chapters = [predict_chapter(pred, features)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, features), "clamp": None, "tune": None}
-    notes = []
+    remarks = []
     job = read_job(job_file)
     try:
         if "holding" in job.tables:
@@ -577,8 +578,8 @@ def report(job_file, html_file, as_json, quiet):
             chapters.append(clamp_chapter_of(study))
             payload["clamp"] = clamp_payload(study)
         else:
-            notes.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no work-holding "
-                         "study is made.")
+            remarks.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no "
+                           "work-holding study is made.")
         if "tolerance" in job.tables:
             require_cutting_constants(job.material)
             surface_of = {p.name: p.surface for p in process_from_job(job).passes}
@@ -586,11 +587,11 @@ def report(job_file, html_file, as_json, quiet):
             chapters.append(tune_chapter(result, surface_of, job.units))
             payload["tune"] = tune_payload(result, surface_of, job.units)
         else:
-            notes.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
+            remarks.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    written = write_html(html_file, pred.title, "report", [job_file], chapters, notes)
+    written = write_html(html_file, pred.title, "report", [job_file], chapters, remarks=remarks)
     if as_json:
         emit_json(payload)
     else:
@@ -615,9 +616,12 @@ def compare(job_a, job_b, as_json, html_file, quiet):
 
     from deflect.decisions.compare import Compared
     from deflect.decisions.compare import compare as compare_jobs
-    from deflect.output.compare_report import compare_payload, compare_report
+    from deflect.job.reader import read_job
+    from deflect.output.compare_report import compare_payload, compare_report, part_words
 
     html_target(html_file)
+    for job_file in (job_a, job_b):       # both read and checked before either is predicted
+        read_job(job_file)
     sides = []
     for job_file in (job_a, job_b):
         if not quiet and not as_json:
@@ -630,7 +634,7 @@ def compare(job_a, job_b, as_json, html_file, quiet):
         from deflect.output.html_chapters import compare_chapter
         a, b = comparison.a.prediction, comparison.b.prediction
         title = a.title if a.title == b.title else f"{a.title} against {b.title}"
-        notes = () if comparison.same_part else (compare_report_note(comparison),)
+        notes = () if comparison.same_part else (part_words(comparison),)
         written = write_html(html_file, title, "comparison of two jobs", [job_a, job_b],
                              [compare_chapter(comparison)], notes)
     if as_json:
@@ -639,12 +643,6 @@ def compare(job_a, job_b, as_json, html_file, quiet):
         click.echo(compare_report(comparison))
         if written:
             click.echo(f"wrote {written}")
-
-
-def compare_report_note(comparison) -> str:
-    from deflect.output.compare_report import part_words
-
-    return part_words(comparison)
 
 
 def main(argv: list[str] | None = None) -> None:

@@ -116,10 +116,10 @@ def figures_drawn(page) -> list[dict]:
 
 
 def key_figures(page) -> list[dict]:
-    """The key figures on the first sheet: chapter, JSON key, scale and the value as shown."""
+    """The key figures on the first sheet that carry JSON keys: chapter, keys, scale and the value as shown."""
     return page.eval_on_selector_all(
-        ".figure-card[data-key]", """cards => cards.map(card => ({chapter: card.dataset.chapter,
-            key: card.dataset.key, scale: parseFloat(card.dataset.scale),
+        ".figure-card[data-keys]", """cards => cards.map(card => ({chapter: card.dataset.chapter,
+            keys: card.dataset.keys.split(' '), scale: parseFloat(card.dataset.scale),
             shown: card.querySelector('.value').textContent}))""")
 
 
@@ -140,15 +140,35 @@ def json_value(payload: dict, key: str):
     return value
 
 
-def sheet_heights_mm(page, paper: str) -> list[float]:
-    """The height of every sheet laid out for print on the paper's printable width [mm]."""
+def laid_out_for_print(page, paper: str, script: str):
+    """`script` evaluated on the page laid out as printed on the paper: print styles, the printable width."""
     width_mm = PAPER_MM[paper][0] - PAGE_MARGINS_MM["left"] - PAGE_MARGINS_MM["right"]
     page.set_viewport_size({"width": round(width_mm * MM_PX), "height": VIEWPORT["height"]})
     page.emulate_media(media="print")
-    heights = page.eval_on_selector_all("section.sheet", "ss => ss.map(s => s.getBoundingClientRect().height)")
-    page.emulate_media(media="null")
-    page.set_viewport_size(VIEWPORT)
+    try:
+        return page.evaluate(script)
+    finally:
+        page.emulate_media(media="null")
+        page.set_viewport_size(VIEWPORT)
+
+
+def sheet_heights_mm(page, paper: str) -> list[float]:
+    """The height of every sheet laid out for print on the paper's printable width [mm]."""
+    heights = laid_out_for_print(page, paper, """() => Array.from(document.querySelectorAll('section.sheet'),
+                                                 s => s.getBoundingClientRect().height)""")
     return [h / MM_PX for h in heights]
+
+
+def print_overflow_px(page, paper: str) -> float:
+    """How much wider than the printable width the page lays out for print [CSS px] (0: it fits)."""
+    return laid_out_for_print(page, paper, """() => Math.max(0,
+        document.documentElement.scrollWidth - document.documentElement.clientWidth)""")
+
+
+def job_file_sheets(page) -> set[int]:
+    """The positions of the sheets holding a job file as given (they may run over several pages)."""
+    classes = page.eval_on_selector_all("section.sheet", "ss => ss.map(s => s.className)")
+    return {k for k, name in enumerate(classes) if "job-file" in name.split()}
 
 
 def printable_height_mm(paper: str) -> float:

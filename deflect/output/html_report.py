@@ -95,6 +95,7 @@ class Report:
     version: str
     date: str
     notes: tuple[str, ...] = field(default_factory=tuple)    # said at the top, under the title
+    remarks: tuple[str, ...] = field(default_factory=tuple)  # said at the foot of the first page
 
 
 def split_cautions(blocks: list) -> tuple[list, tuple[str, ...]]:

@@ -1,0 +1,82 @@
+"""Fixtures shared by test modules: the demo's full report, made once per test session.
+
+`deflect report` on the shipped housing predicts it and searches its remedies (the slowest step of the report,
+about 15 s of CPU); the browser checks, the `tune --apply` round trip and the comparison all start from this
+one run: its HTML file and its JSON (each part under its command's name).
+"""
+
+from __future__ import annotations
+
+import io
+import json
+from contextlib import redirect_stderr, redirect_stdout
+from pathlib import Path
+
+import pytest
+
+from deflect.cli import main
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
+DEMO_JOB = EXAMPLES / "housing.toml"
+
+
+def run_deflect(args: list[str]) -> tuple[int, str, str]:
+    """deflect.cli.main with its exit code, stdout and stderr."""
+    out, err = io.StringIO(), io.StringIO()
+    code = 0
+    with redirect_stdout(out), redirect_stderr(err):
+        try:
+            main([str(a) for a in args])
+        except SystemExit as exc:
+            code = exc.code
+    return code, out.getvalue(), err.getvalue()
+
+
+@pytest.fixture(scope="session")
+def demo_report(tmp_path_factory) -> tuple[Path, dict]:
+    """The demo's report: (the HTML file, the JSON printed with it)."""
+    html = tmp_path_factory.mktemp("demo-report") / "housing-report.html"
+    code, out, err = run_deflect(["report", DEMO_JOB, "--html", html, "--json"])
+    assert code == 0, err
+    return html, json.loads(out)
+
+
+def write_option(folder: Path, job: Path, tune_payload: dict, number: int) -> Path:
+    """The job with option `number` of its tune written in, as `deflect tune --apply` writes it (the same
+    writer, from the same change records the tune's JSON gives)."""
+    from deflect.output.job_file import job_text_with, written_header
+
+    label = f"deflect tune option {number}"
+    option = tune_payload["options"][number - 1]
+    text = job_text_with(job.read_text(encoding="utf-8"), option["changes"], label, tune_payload["units"])
+    path = folder / f"{job.stem}-option-{number}.toml"
+    path.write_text(written_header(label, job.name, "test", "2026-01-01") + text, encoding="utf-8")
+    return path
+
+
+@pytest.fixture(scope="session")
+def demo_option(demo_report, tmp_path_factory):
+    """A function: option N of the demo's tune written into the job -> (the job file, `deflect predict --json`
+    of it). Each option is written and predicted once per session."""
+    folder = tmp_path_factory.mktemp("demo-options")
+    made = {}
+
+    def option(number: int) -> tuple[Path, dict]:
+        if number not in made:
+            path = write_option(folder, DEMO_JOB, demo_report[1]["tune"], number)
+            code, out, err = run_deflect(["predict", path, "--json", "--quiet"])
+            assert code == 0, err
+            made[number] = (path, json.loads(out))
+        return made[number]
+
+    return option
+
+
+@pytest.fixture(scope="session")
+def demo_comparison(demo_option, tmp_path_factory) -> tuple[Path, dict]:
+    """`deflect compare` of the demo and its job with option 1 written in: (the HTML file, the JSON)."""
+    option_job, _ = demo_option(1)
+    html = tmp_path_factory.mktemp("demo-compare") / "housing-compare.html"
+    code, out, err = run_deflect(["compare", DEMO_JOB, option_job, "--json", "--html", html])
+    assert code == 0, err
+    return html, json.loads(out)
