@@ -72,8 +72,8 @@ _WALL_XATOL = 1e-11
 _RAYS_PER_BATCH = 256  # rays intersected with all segments at once (bounds the size of the work arrays)
 
 # unit_size_warning: a turned part smaller or larger than this [mm] was probably drawn in the other unit.
-_SMALLEST_PLAUSIBLE_MM = 2.5
-_LARGEST_PLAUSIBLE_MM = 2500.0
+SMALLEST_PLAUSIBLE_MM = 2.5
+LARGEST_PLAUSIBLE_MM = 2500.0
 _MM_PER_INCH = 25.4
 
 
@@ -808,6 +808,12 @@ def section_from_outline(outline: list, key: str = "part.outline") -> Section:
     return Section(tuple(segments))
 
 
+def part_size_mm(section: Section) -> float:
+    """The part's size for the unit check: the larger of its diameter and its length [mm]."""
+    r_min, r_max, z_min, z_max = section.bounds()
+    return max(2.0 * r_max, z_max - z_min)
+
+
 def unit_size_warning(section: Section, units: str, to_inch: str = 'set units = "inch" in [job]',
                       to_mm: str = 'set units = "mm" in [job]') -> str | None:
     """A warning when the part's size suggests the outline was drawn in the other unit, else None.
@@ -815,15 +821,14 @@ def unit_size_warning(section: Section, units: str, to_inch: str = 'set units = 
     The size is the larger of the part's diameter and its length, in mm (inch jobs already converted).
     `to_inch` and `to_mm` say how to switch the unit where the outline came from (the job, a drawing).
     """
-    r_min, r_max, z_min, z_max = section.bounds()
-    size_mm = max(2.0 * r_max, z_max - z_min)
+    size_mm = part_size_mm(section)
     if units == "mm":
-        if size_mm < _SMALLEST_PLAUSIBLE_MM:
+        if size_mm < SMALLEST_PLAUSIBLE_MM:
             return (f"the part is only {size_mm:.3g} mm across (largest of diameter and length); if the drawing "
                     f"is in inches, {to_inch}")
         return None
     if units == "inch":
-        if size_mm > _LARGEST_PLAUSIBLE_MM:
+        if size_mm > LARGEST_PLAUSIBLE_MM:
             return (f"the part is {size_mm / _MM_PER_INCH:.4g} in ({size_mm:.4g} mm) across (largest of diameter "
                     f"and length); if the drawing is in millimetres, {to_mm}")
         return None

@@ -733,7 +733,10 @@ class _Chains:
 
 
 def _chain(pieces: list[_Piece], join: float, same: float) -> _Chains:
-    """Join the ends of the pieces closer than `join` into nodes and walk the closed chains."""
+    """Join the pieces' ends into nodes and walk the closed chains. Ends at the same point (within rounding)
+    are one node; then every free end (one that meets no other) is joined to the nearest other free end
+    closer than `join`, nearest pairs first. Ends already joined are never pulled together further, so two
+    vertices of a fine polyline that come close are not mistaken for a gap."""
     ends = np.array([p for piece in pieces for p in (piece.start, piece.end)], float).reshape(-1, 2)
     parent = list(range(len(ends)))
 
@@ -743,8 +746,21 @@ def _chain(pieces: list[_Piece], join: float, same: float) -> _Chains:
             i = parent[i]
         return i
 
-    for i, j in cKDTree(ends).query_pairs(join):
+    tree = cKDTree(ends)
+    for i, j in tree.query_pairs(same):
         parent[root(i)] = root(j)
+    count = Counter(root(i) for i in range(len(ends)))
+    free = [i for i in range(len(ends)) if count[root(i)] == 1]
+    if len(free) > 1:
+        pairs = cKDTree(ends[free]).query_pairs(join, output_type="ndarray")
+        order = np.argsort(np.hypot(*(ends[free][pairs[:, 0]] - ends[free][pairs[:, 1]]).T)) if len(pairs) else []
+        taken = set()
+        for a, b in (pairs[k] for k in order):
+            i, j = free[a], free[b]
+            if i in taken or j in taken:
+                continue
+            taken.update((i, j))
+            parent[root(i)] = root(j)
     roots = [root(i) for i in range(len(ends))]
     members: dict[int, list[int]] = {}
     for i, r in enumerate(roots):
@@ -819,15 +835,18 @@ def _outline_items(loop: list[_Piece], scale: float, same: float) -> tuple[list,
         return [r, p[1] * scale]
 
     items, sources = [node(loop[0].start)], [loop[0].source]
+    here = items[0]
     for k, piece in enumerate(loop):
         last = k == len(loop) - 1
         if piece.center is None:
             if not last:
-                items.append(node(piece.end))
+                here = node(piece.end)
+                items.append(here)
                 sources.append(piece.source)
             continue
         parts = max(1, math.ceil(piece.sweep / math.pi - 1e-9))
-        start, end = items[-1], node(piece.end) if not last else items[0]
+        start, end = here, node(piece.end) if not last else items[0]
+        here = end
         center = [piece.center[0] * scale, piece.center[1] * scale]
         radius = 0.5 * (math.dist(start, center) + math.dist(end, center))
         radius = max(radius, 0.5 * math.dist(start, end))

@@ -125,10 +125,10 @@ def feature_table(features) -> str:
     return "Against the drawing\n" + grid(["feature", "limits", "predicted", "margin", "verdict"], rows) + "\n" + note
 
 
-def predict_report(pred: Prediction, features=()) -> str:
-    """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
-    surface, warnings, caution."""
-    blocks = [headline(pred)]
+def predict_report(pred: Prediction, features=(), rules_summary: str = "") -> str:
+    """The whole report: headline, the design rules' findings in brief, passes, finished surfaces, wall, the
+    toleranced features, mass gain by surface, warnings, caution."""
+    blocks = [headline(pred), *([rules_summary] if rules_summary else [])]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
     checks = [c for c in pred.surfaces if c.surface in ("od", "id")]
