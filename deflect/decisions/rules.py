@@ -30,8 +30,14 @@ import numpy as np
 from shapely.geometry import LineString, Point
 
 from deflect.geometry.corners import concave_corners, nose_material
-from deflect.geometry.section import (LARGEST_PLAUSIBLE_MM, POLYGON_CHORD_MM, SMALLEST_PLAUSIBLE_MM, Arc,
-                                      part_size_mm, thinnest_wall)
+from deflect.geometry.section import (
+    LARGEST_PLAUSIBLE_MM,
+    POLYGON_CHORD_MM,
+    SMALLEST_PLAUSIBLE_MM,
+    Arc,
+    part_size_mm,
+    thinnest_wall,
+)
 from deflect.job.drawing import CURVE_TOLERANCE_MM
 from deflect.machining.inprocess import target_surface
 

@@ -37,6 +37,7 @@ Every problem is an `InputError(key, message)` with a key such as "file", "heade
 
 from __future__ import annotations
 
+import logging
 import math
 import re
 from collections import Counter
@@ -78,6 +79,9 @@ _CURVES = ("SPLINE", "ELLIPSE")
 _DRAWN = ("LINE", "ARC", "CIRCLE", "LWPOLYLINE", "POLYLINE", *_CURVES)
 
 Point = tuple[float, float]
+
+# ezdxf logs what its recovery repairs; the notes here say it once, in the user's terms.
+logging.getLogger("ezdxf").addHandler(logging.NullHandler())
 
 
 @dataclass(frozen=True)
@@ -197,6 +201,12 @@ def _bulge_piece(p: Point, q: Point, bulge: float, source: str, layer: str) -> _
 # ---------------------------------------------------------------------------------------------------
 # reading the file
 
+def _said(exc: Exception) -> str:
+    """An exception's text on one line (ezdxf's messages may run over several), at most 200 characters."""
+    text = " ".join(str(exc).split()) or type(exc).__name__
+    return text if len(text) <= 200 else text[:197] + "..."
+
+
 def _looks_like_dxf(path: Path) -> None:
     """A DXF file is text opening with the group code 0 (or the binary DXF sentinel)."""
     try:
@@ -225,15 +235,15 @@ def _open(path: Path):
     try:
         return ezdxf.readfile(str(path)), []
     except OSError as exc:
-        raise InputError("file", f"cannot be read ({exc.strerror or exc})") from None
+        raise InputError("file", f"cannot be read ({exc.strerror or _said(exc)})") from None
     except Exception as exc:  # ezdxf raises many kinds of error on a damaged file; each means the same here
-        strict = str(exc) or type(exc).__name__
+        strict = _said(exc)
     try:
         doc, auditor = recover.readfile(str(path))
     except Exception:   # the recovery gave up too: the file is not a DXF we can read
         raise InputError("file", f"is not a DXF file that can be read ({strict})") from None
     if auditor.has_errors:
-        raise InputError("file", f"is a damaged DXF file ({auditor.errors[0].message})")
+        raise InputError("file", f"is a damaged DXF file ({_said(auditor.errors[0].message)})")
     return doc, [f"the file is damaged ({strict}); it was read with ezdxf's recovery: check the outline"]
 
 
@@ -260,7 +270,10 @@ def _unit(doc, units: str | None, unitless: str, notes: list[str]) -> tuple[str,
 
 
 def _source(entity, layer: str, block: str | None) -> str:
-    handle = entity.dxf.get("handle")
+    try:
+        handle = entity.dxf.get("handle")
+    except Exception:   # a damaged entity: named by its type alone
+        handle = None
     name = f"{entity.dxftype()} #{handle}" if handle else entity.dxftype()
     inside = f' in block "{block}"' if block else ""
     return f'{name} on layer "{layer}"{inside}'
@@ -523,25 +536,28 @@ def _is_centre_line(entity, doc, layer: str) -> bool:
 def _walk(entities, doc, found: _Read, tol_of, block: str | None, parent_layer: str | None, depth: int) -> None:
     """Every entity, block references exploded (entities on layer 0 inside a block take the reference's layer)."""
     for entity in entities:
-        kind = entity.dxftype()
-        layer = str(entity.dxf.get("layer", "0"))
+        kind = str(entity.dxftype())
+        if kind != "INSERT" and kind not in _DRAWN:
+            found.ignored[kind] += 1
+            continue
+        try:
+            layer = str(entity.dxf.get("layer", "0"))
+        except Exception:   # a damaged entity without a usable layer: it lies on layer 0
+            layer = "0"
         if parent_layer is not None and layer == "0":
             layer = parent_layer
         if kind == "INSERT":
             if depth >= MAX_BLOCK_DEPTH:
                 raise InputError("entities", f"blocks are nested more than {MAX_BLOCK_DEPTH} deep: "
                                              "explode them in the CAD program")
-            name = str(entity.dxf.get("name", "?"))
             try:
+                name = str(entity.dxf.get("name", "?"))
                 exploded = [list(ref.virtual_entities()) for ref in entity.multi_insert()]
             except Exception as exc:   # ezdxf cannot resolve the block (missing, damaged, odd transform)
-                raise InputError("entities", f'{_source(entity, layer, block)}: block "{name}" cannot be '
-                                             f"exploded ({exc})") from None
+                raise InputError("entities", f"{_source(entity, layer, block)}: its block cannot be "
+                                             f"exploded ({_said(exc)})") from None
             for parts in exploded:
                 _walk(parts, doc, found, tol_of, name, layer, depth + 1)
-            continue
-        if kind not in _DRAWN:
-            found.ignored[kind] += 1
             continue
         source = _source(entity, layer, block)
         try:
@@ -570,7 +586,7 @@ def _walk(entities, doc, found: _Read, tol_of, block: str | None, parent_layer: 
         except InputError:
             raise
         except Exception as exc:   # a damaged entity: ezdxf or the numbers in it
-            raise InputError("entities", f"{source} cannot be read: {exc}") from None
+            raise InputError("entities", f"{source} cannot be read: {_said(exc)}") from None
         for piece in pieces:
             if not _finite(*piece.start, *piece.end) or (piece.center is not None and not _finite(*piece.center)):
                 raise InputError("entities", f"{source} has a coordinate that is not a finite number")
@@ -887,9 +903,10 @@ def read_drawing(path: str | Path, units: str | None = None, layer: str | None =
     try:
         entities = list(doc.modelspace())
     except Exception as exc:   # a damaged entities section
-        raise InputError("entities", f"the drawing's entities cannot be read ({exc})") from None
+        raise InputError("entities", f"the drawing's entities cannot be read ({_said(exc)})") from None
     if not entities:
-        raise InputError("entities", "the drawing holds no entities (an empty model space)")
+        damaged = "; the file is damaged" if any(n.startswith("the file is damaged") for n in notes) else ""
+        raise InputError("entities", f"the drawing holds no entities (an empty model space){damaged}")
 
     found = _Read(notes=notes)
     _walk(entities, doc, found, lambda mm: mm / mm_per_drawing_unit, None, None, 0)

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 from pathlib import Path
 
-
 SIGNIFICANT_DIGITS = 12          # a part of 1 m to 1 nm; hides the last-bit rounding of bulges and angles
 
 
