@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 import tomllib
+from pathlib import Path
 
 import ezdxf
 import numpy as np
@@ -302,6 +303,16 @@ def test_round_trip_job_to_dxf_to_job(tmp_path, capsys):
     # the written job runs as it is
     main(["section", str(tmp_path / "job.toml"), "--json"])
     assert '"mass_g"' in capsys.readouterr().out
+
+
+def test_shipped_example_drawing_is_the_housing():
+    """data/examples/housing.dxf (tests/make_example_drawing.py) reproduces the demo job's section."""
+    examples = Path(__file__).resolve().parents[1] / "data" / "examples"
+    drawn = read_job(examples / "housing.toml").section
+    read = drawing_section(read_drawing(examples / "housing.dxf"))
+    assert len(read.segments) == len(drawn.segments)
+    for a, b in zip(read.segments, drawn.segments):
+        assert type(a) is type(b) and math.dist(a.start, b.start) <= 1e-12 and math.dist(a.end, b.end) <= 1e-12
 
 
 def test_job_names_its_drawing(tmp_path):

@@ -76,6 +76,10 @@ UNIT_CODE = {"mm": 4, "inch": 1}
 _CENTRE_LINETYPE = re.compile(r"CENT(ER|RE)|DASHDOT|ISO0?4W", re.IGNORECASE)
 _CENTRE_LAYER = re.compile(r"^(CL|C/L|.*CENT(ER|RE).*|.*AXIS.*)$", re.IGNORECASE)
 _CURVES = ("SPLINE", "ELLIPSE")
+# Annotation and construction entities a drawing usually holds beside the outline: ignored without a note.
+_ANNOTATIONS = {"TEXT", "MTEXT", "DIMENSION", "ARC_DIMENSION", "LARGE_RADIAL_DIMENSION", "LEADER", "MLEADER",
+                "MULTILEADER", "HATCH", "POINT", "ATTDEF", "ATTRIB", "TOLERANCE", "VIEWPORT", "XLINE", "RAY",
+                "WIPEOUT", "IMAGE", "ACAD_TABLE", "SOLID", "TRACE"}
 _DRAWN = ("LINE", "ARC", "CIRCLE", "LWPOLYLINE", "POLYLINE", *_CURVES)
 
 Point = tuple[float, float]
@@ -949,8 +953,10 @@ def read_drawing(path: str | Path, units: str | None = None, layer: str | None =
     if chains.open_ends and len(chains.loops) + len(circles) >= 1:
         notes.append(f"{len(chains.open_ends)} open end(s) of lines not on the outline were left out, e.g. "
                      f"{chains.open_ends[0][1]}")
-    if found.ignored:
-        notes.append("ignored: " + ", ".join(f"{n} {k}" for k, n in sorted(found.ignored.items())))
+    unusual = {k: n for k, n in found.ignored.items() if k not in _ANNOTATIONS}
+    if unusual:
+        notes.append("ignored (not lines, arcs or curves of a section): "
+                     + ", ".join(f"{n} {k}" for k, n in sorted(unusual.items())))
     items, sources = _outline_items(loop, scale, same)
     layers = tuple(sorted({p.layer for p in loop if p.source != "the axis"}))
     curves = _curve_notes(loop, found.curves, scale, mm_per_drawing_unit)

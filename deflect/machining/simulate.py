@@ -47,6 +47,7 @@ from deflect.job.holding import holding_from_table
 from deflect.job.process import Pass, Process
 from deflect.machining.inprocess import CutPath, cuts_for_pass, depth_of_material, deviation_along, polygon_mass, remove
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.machining.toolshape import tool_shape
 from deflect.mechanics.chuck import centrifugal_force_n, grip_in_cut_n
 from deflect.mechanics.clamping import released_deviation
 from deflect.mechanics.compliance import Patch, WallModel
@@ -240,16 +241,19 @@ def plan_compliance(job, process: Process, settings: SimulationSettings, nominal
     return plan
 
 
-def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict):
+def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict, tool_shapes: bool = True):
     """({i: the cuts of pass i}, {i: the part before each of them}): each pass's cuts laid out on the part
-    cut exactly to the earlier targets. Kept in memo by the part before the pass and the pass's geometry
-    (feed, speed and tool do not change where a pass cuts)."""
+    cut exactly to the earlier targets, each target swept by its tool's nose and edges (tool_shapes False: a
+    point tool, the drawn contour itself). Kept in memo by the part before the pass, the pass's geometry and
+    its tool's shape (feed and speed do not change where a pass cuts)."""
     paths, parts, current = {}, {}, process.stock_rz
     for i, p in enumerate(process.passes):
+        tool = process.tools[p.tool] if tool_shapes else None
+        shape = tool_shape(tool, p.surface) if tool is not None else None
         name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
-                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring)
+                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring, shape)
         if name not in memo:
-            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm), []
+            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm, tool), []
             after = current
             for path in cuts:
                 befores.append(after)
