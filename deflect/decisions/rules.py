@@ -15,7 +15,8 @@ the part and a message in the shop's words. The rules:
   where the shop finishes with fine inserts (just above the common 0.4 and 0.2 mm noses of ISO 1832, so the
   nose can follow the fillet). A job without passes has its corners checked against 1.1 mm;
 * reach: stretches of the contour that the finishing tool's insert cannot follow with its edge angles (an
-  undercut, the steep back wall of a groove), with the material left there (`machining.toolshape`);
+  undercut, the steep back wall of a groove), with the material left there: the part cut exactly to the
+  targets with the tools' shapes (`machining.toolshape`) against the drawing (`machining.leftover`);
 * drawing: splines in the drawing (a lathe program follows lines and arcs), segments too short to program,
   corners that turn so little that they were probably meant to be tangent, and a size that suggests the
   outline was drawn in the other unit (inch for mm).
@@ -26,10 +27,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-import numpy as np
-from shapely.geometry import LineString, Point
-
-from deflect.geometry.corners import concave_corners, nose_material
+from deflect.geometry.corners import concave_corners
 from deflect.geometry.section import (
     LARGEST_PLAUSIBLE_MM,
     POLYGON_CHORD_MM,
@@ -39,7 +37,8 @@ from deflect.geometry.section import (
     thinnest_wall,
 )
 from deflect.job.drawing import CURVE_TOLERANCE_MM
-from deflect.machining.inprocess import target_surface
+from deflect.machining.leftover import corners_left
+from deflect.machining.simulate import SimulationSettings, shape_left
 
 # Least fillet radii to draw in internal corners [mm] (common practice): any shop; fine finishing inserts.
 ANY_SHOP_FILLET_MM = 1.1
@@ -51,8 +50,6 @@ TINY_SEGMENT_MM = 0.01
 # SMOOTH_DEG (the rounding of coordinates a CAD program writes) to count as a corner at all.
 NEAR_TANGENT_DEG = 0.5
 SMOOTH_DEG = 1e-4
-# A pass's target within this of a corner runs through it [mm], beside the pass's own offset.
-THROUGH_CORNER_MM = 1e-3
 
 
 @dataclass(frozen=True)
@@ -89,7 +86,16 @@ def check_rules(job, process=None) -> Rules:
     findings = wall_findings(job, wall)
     if job.material.min_wall_mm is None:
         notes.append(f"material {job.material.name!r} gives no least wall (min_wall_mm): the wall is not checked")
-    findings += corner_findings(job, process)
+    if process is None:
+        findings += corner_findings(job, None)
+    else:
+        corners, reach = shape_left(job, process, job.section.polygon(POLYGON_CHORD_MM), SimulationSettings(), {})
+        findings += corner_findings(job, process, corners)
+        findings += reach_findings(job, process, corners, reach)
+        unchecked = sorted({t.name for t in process.tools.values() if t.included_angle_deg is None})
+        if unchecked:
+            notes.append(f"tool(s) {', '.join(unchecked)} give no ISO 1832 insert shape: only their nose is checked "
+                         "for reach, not their edges")
     findings += drawing_findings(job)
     return Rules(findings=findings, thinnest_wall_mm=wall.thickness_mm, least_wall_mm=job.material.min_wall_mm,
                  notes=notes)
@@ -132,68 +138,63 @@ def _fillet_advice(nose_radius_mm: float) -> str:
     return f"draw a fillet of at least {suggested:g} mm (this tool's nose), or finish it with a smaller nose"
 
 
-def finishing_targets(job, process) -> list[tuple]:
-    """(pass, tool, target line) of every pass that finishes (no allowance), in the order they cut; the
-    target is the drawn contour offset by the pass's wear offset, as seen from the pass's side."""
-    nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
-    size = float(np.ptp(nominal_rz, axis=0).max())
-    out = []
-    for p in process.passes:
-        if p.allowance_mm > 0.0:
-            continue
-        target = target_surface(nominal_rz, p.surface, p.offset_mm, p.start_mm, p.end_mm, spacing_mm=size)
-        out.append((p, process.tools[p.tool], LineString(target.points_rz)))
-    return out
-
-
-def finisher_of(point, targets) -> tuple | None:
-    """The last finishing pass whose target runs through the point: (pass, tool), or None."""
-    found = None
-    for p, tool, line in targets:
-        if line.distance(Point(point)) <= abs(p.offset_mm) + THROUGH_CORNER_MM:
-            found = (p, tool)
-    return found
-
-
-def corner_findings(job, process) -> list[Finding]:
-    """A finding for every concave corner drawn sharper than the nose that finishes it."""
-    targets = finishing_targets(job, process) if process is not None else []
+def corner_findings(job, process, left=None) -> list[Finding]:
+    """A finding for every concave corner drawn sharper than the nose that finishes it (`leftover.corners_left`);
+    without passes, every one sharper than the least fillet any shop follows."""
+    if process is None:
+        return [_unplanned_corner(c) for c in concave_corners(job.section) if c.radius_mm < ANY_SHOP_FILLET_MM]
     findings = []
-    for corner in concave_corners(job.section):
-        r, z = corner.point
-        drawn = "sharp" if corner.radius_mm == 0.0 else f"with a {corner.radius_mm:g} mm fillet"
-        if process is None:
-            if corner.radius_mm < ANY_SHOP_FILLET_MM:
-                findings.append(Finding(
-                    rule="corner", r_mm=r, z_mm=z, value=corner.radius_mm, limit=ANY_SHOP_FILLET_MM, unit="mm",
-                    mass_left_g=0.0,
-                    message=f"internal corner at r = {r:.4g}, z = {z:.4g} drawn {drawn}: no pass is given, so the "
-                            f"tool is not known; any shop's tool follows {ANY_SHOP_FILLET_MM:g} mm, fine finishing "
-                            f"inserts {FINE_INSERT_FILLETS_MM[1]:g} or {FINE_INSERT_FILLETS_MM[0]:g} mm"))
-            continue
-        finisher = finisher_of(corner.point, targets)
-        if finisher is None:
-            continue
-        p, tool = finisher
-        nose = tool.nose_radius_mm
+    for c in corners_left(job, process) if left is None else left:
+        corner, nose = c.corner, c.nose_radius_mm
         if corner.radius_mm >= nose:
             continue
-        left = nose_material(job.section, corner, nose)
-        if left is None:
+        r, z = corner.point
+        drawn = "sharp" if corner.radius_mm == 0.0 else f"with a {corner.radius_mm:g} mm fillet"
+        where = f"internal corner at r = {r:.4g}, z = {z:.4g} drawn {drawn}: '{c.pass_name}' finishes it with {c.tool}"
+        if c.material is None:
             findings.append(Finding(
                 rule="corner", r_mm=r, z_mm=z, value=corner.radius_mm, limit=nose, unit="mm", mass_left_g=0.0,
-                pass_name=p.name, tool=tool.name,
-                message=f"internal corner at r = {r:.4g}, z = {z:.4g} drawn {drawn}: '{p.name}' finishes it with "
-                        f"{tool.name} (nose {nose:g} mm), whose nose does not fit between its walls; "
+                pass_name=c.pass_name, tool=c.tool,
+                message=f"{where} (nose {nose:g} mm), whose nose does not fit between its walls; "
                         + _fillet_advice(nose)))
             continue
-        mass = _grams(job, left.volume_mm3)
+        m = c.material
         findings.append(Finding(
-            rule="corner", r_mm=r, z_mm=z, value=corner.radius_mm, limit=nose, unit="mm", mass_left_g=mass,
-            area_mm2=left.area_mm2, volume_mm3=left.volume_mm3, pass_name=p.name, tool=tool.name,
-            message=f"internal corner at r = {r:.4g}, z = {z:.4g} drawn {drawn}: '{p.name}' finishes it with "
-                    f"{tool.name}, whose {nose:g} mm nose leaves its own radius there ({left.area_mm2:.4g} mm2 of "
-                    f"section, {mass:.4g} g on the part); " + _fillet_advice(nose)))
+            rule="corner", r_mm=r, z_mm=z, value=corner.radius_mm, limit=nose, unit="mm", mass_left_g=c.mass_g,
+            area_mm2=m.area_mm2, volume_mm3=m.volume_mm3, pass_name=c.pass_name, tool=c.tool,
+            message=f"{where}, whose {nose:g} mm nose leaves its own radius there ({m.area_mm2:.4g} mm2 of "
+                    f"section, {c.mass_g:.4g} g on the part); " + _fillet_advice(nose)))
+    return findings
+
+
+def _unplanned_corner(corner) -> Finding:
+    r, z = corner.point
+    drawn = "sharp" if corner.radius_mm == 0.0 else f"with a {corner.radius_mm:g} mm fillet"
+    return Finding(rule="corner", r_mm=r, z_mm=z, value=corner.radius_mm, limit=ANY_SHOP_FILLET_MM, unit="mm",
+                   mass_left_g=0.0,
+                   message=f"internal corner at r = {r:.4g}, z = {z:.4g} drawn {drawn}: no pass is given, so the tool "
+                           f"is not known; any shop's tool follows {ANY_SHOP_FILLET_MM:g} mm, fine finishing inserts "
+                           f"{FINE_INSERT_FILLETS_MM[1]:g} or {FINE_INSERT_FILLETS_MM[0]:g} mm")
+
+
+# ---------------------------------------------------------------------------------------------------
+# reach
+
+def reach_findings(job, process, corners, reach) -> list[Finding]:
+    """A finding for every piece of material a finishing tool's edges leave (`leftover.reach_left`)."""
+    findings = []
+    for piece in reach:
+        way = "falls away" if piece.descending else "rises"
+        edge = "trailing edge" if piece.descending else "cutting edge"
+        findings.append(Finding(
+            rule="reach", r_mm=piece.r_mm, z_mm=piece.z_mm, value=piece.steepest_deg, limit=piece.limit_deg,
+            unit="deg", mass_left_g=piece.mass_g, area_mm2=piece.area_mm2, volume_mm3=piece.volume_mm3,
+            pass_name=piece.pass_name, tool=piece.tool,
+            message=f"near r = {piece.r_mm:.4g}, z = {piece.z_mm:.4g} the contour {way} at up to "
+                    f"{piece.steepest_deg:.3g} deg from the feed of '{piece.pass_name}', steeper than the "
+                    f"{piece.limit_deg:.3g} deg its tool {piece.tool} follows (its {edge} would run into the part): "
+                    f"{piece.area_mm2:.4g} mm2 of section, {piece.mass_g:.4g} g are left. Finish it from the other "
+                    "side, with a narrower insert or a grooving tool, or redraw it"))
     return findings
 
 

@@ -30,6 +30,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import numpy as np
+
 from deflect.geometry.section import Arc, Point, Section, part_of, region_moments, tangent_arc
 
 # A corner turning less than this [rad] is straight or smooth (as in the section's own outline rules).
@@ -58,6 +60,11 @@ class NoseMaterial:
     centroid_z_mm: float
     volume_mm3: float            # 2 pi centroid_r area (Pappus)
     nose_arc: Arc                # the arc the nose cuts, from its tangent point on `before` to the one on `after`
+    boundary: tuple = ()         # the region's closed chain of lines and arcs (clockwise)
+
+    def polygon(self, max_chord_error_mm: float) -> np.ndarray:
+        """The region as a polygon (N, 2), arcs split into chords straying at most max_chord_error_mm."""
+        return Section(self.boundary).polygon(max_chord_error_mm)
 
 
 def _turn(a: Point, b: Point) -> float:
@@ -116,7 +123,7 @@ def nose_material(section: Section, corner: ConcaveCorner, nose_radius_mm: float
     area, first_r, first_z = sign * area, sign * first_r, sign * first_z
     return NoseMaterial(nose_radius_mm=nose_radius_mm, area_mm2=float(area),
                         centroid_r_mm=float(first_r / area), centroid_z_mm=float(z0 + first_z / area),
-                        volume_mm3=float(2.0 * math.pi * first_r), nose_arc=arc)
+                        volume_mm3=float(2.0 * math.pi * first_r), nose_arc=arc, boundary=tuple(chain))
 
 
 def corner_area_closed_form(nose_radius_mm: float, opening_deg: float) -> float:

@@ -221,10 +221,8 @@ def _swept_by_nose(hidden: Polygon, nominal_uv: np.ndarray, offset_mm: float, sh
 
     The closing is done only in windows around the corners sharper than the nose (`_nose_corners`) and the
     edges' shadows, each window wide enough that the disc does not feel its edges; elsewhere the surface is
-    the offset alone, exactly as without the tool's shape. (GEOS smooths a buffer's input by up to 1 % of the
-    buffer distance where dense arcs meet long edges; confined to the corners, that never moves a surface the
-    nose does not touch.) The arcs are chords of at most BUFFER_CHORD_MM, so a corner's polygon differs from
-    the exact region by less than that chord error times the arc's length.
+    the offset alone, exactly as without the tool's shape. The arcs are chords of at most BUFFER_CHORD_MM, so
+    a corner's polygon differs from the exact region by less than that chord error times the arc's length.
     """
     moved = hidden.buffer(offset_mm, quad_segs=_quad_segs(offset_mm), join_style="round") if offset_mm else hidden
     u_far, v_low, u_near, v_high = hidden.bounds
@@ -244,7 +242,9 @@ def _swept_by_nose(hidden: Polygon, nominal_uv: np.ndarray, offset_mm: float, sh
     reach = 2.0 * (abs(offset_mm) + nose) + 1.0
     for lo_u, lo_v, hi_u, hi_v in windows:
         near = shapely.box(lo_u - reach, lo_v - reach, hi_u + reach, hi_v + reach)
-        local = part_side.intersection(near.buffer(reach, join_style="mitre"))
+        # long edges beside dense arcs make GEOS smooth its buffers' input by up to 1 % of the distance (a
+        # face moved micrometres); edges no longer than NOSE_EDGE_MM keep every face where it is
+        local = shapely.segmentize(part_side.intersection(near.buffer(reach, join_style="mitre")), NOSE_EDGE_MM)
         if offset_mm < 0.0:
             local = local.buffer(offset_mm, quad_segs=_quad_segs(offset_mm), join_style="round")
         grown = max(offset_mm, 0.0) + nose
@@ -252,17 +252,12 @@ def _swept_by_nose(hidden: Polygon, nominal_uv: np.ndarray, offset_mm: float, sh
             local = local.buffer(grown, quad_segs=_quad_segs(grown), join_style="round")
         if nose > 0.0:
             local = local.buffer(-nose, quad_segs=_quad_segs(nose), join_style="round")
-        # only what the nose adds, opened by a disc of NOSE_FILL_MM: the closing's own rounding along faces it
-        # does not change (GEOS's input smoothing, micrometres thin) is left out, so it makes no steps there
-        added = local.intersection(near).difference(moved).buffer(-NOSE_FILL_MM).buffer(NOSE_FILL_MM)
-        if not added.is_empty:
-            moved = moved.union(added)
+        moved = moved.union(local.intersection(near))
     return moved
 
 
-# A fill thinner than twice this [mm] is the closing's rounding along a face, not material the nose leaves
-# (the opening that drops it trims the fill's cusps at the nose's tangent points by about as much).
-NOSE_FILL_MM = 2.0 * BUFFER_CHORD_MM
+# Longest edge handed to the nose's closing [mm] (see `_swept_by_nose`).
+NOSE_EDGE_MM = 0.05
 # A stretch of the surface turning this much more [rad] than an arc of the nose's radius would is a corner the
 # nose rounds off (less leaves a sliver below a nanometre: r (theta / 2)^2 / 2 for r = 1 mm).
 NOSE_CORNER_RAD = 0.01

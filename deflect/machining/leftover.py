@@ -9,9 +9,10 @@ Takes a checked `Job` and its `Process` and gives
   exact (`deflect.geometry.corners.nose_material`), and its mass;
 * `reach_left` - the material a part cut exactly to the targets with the tools' shapes keeps beyond the
   drawn section (`inprocess.target_surface` with the tool, `deflect.machining.toolshape`), less the corners
-  above: each piece a finishing pass's target runs past, with its area, volume (Pappus, on the piece's
-  centroid) and mass, where it is, the steepest the drawn contour runs there from the feed direction and
-  the steepest the tool can follow.
+  above: each piece a finishing pass's target runs past and where the drawn contour faces that pass's tool
+  (an undercut, a wall too steep for the insert's edges; not the stock beyond a face the pass does not turn),
+  with its area, volume (Pappus, on the piece's centroid) and mass, where it is, the steepest the drawn
+  contour runs there from the feed direction and the steepest the tool can follow.
 
 The corners are exact; the pieces are polygons cut with arcs of `inprocess.BUFFER_CHORD_MM` chord error, so
 a piece thinner than a few chord errors is noise, not a finding.
@@ -39,6 +40,8 @@ THROUGH_MM = 1e-3
 NOISE_CHORDS = 4.0
 # Spacing of the drawn contour's points inside a piece, to find how steep it runs there [mm].
 CONTOUR_SPACING_MM = 0.01
+# A stretch of the contour faces a pass's tool when its outward normal leans this much (cosine) towards it.
+FACING_COS = 0.1
 
 
 @dataclass(frozen=True)
@@ -68,6 +71,17 @@ class ReachLeft:
     limit_deg: float                 # the steepest the tool follows on that side
     descending: bool                 # True: the contour falls away in the feed direction (trailing edge limits)
     polygon: Polygon
+
+
+def covered(points_rz: np.ndarray, corners: list[CornerLeft], reach: list[ReachLeft]) -> np.ndarray:
+    """(N,) True for the points (on the drawn boundary) that lie in a corner's nose material or a piece the
+    edges leave (their material is counted there, not in the layer left on the surface)."""
+    regions = [Polygon(c.material.polygon(POLYGON_CHORD_MM)) for c in corners if c.material is not None]
+    regions += [piece.polygon for piece in reach]
+    if not regions:
+        return np.zeros(len(points_rz), bool)
+    area = shapely.union_all(regions).buffer(THROUGH_MM)
+    return shapely.contains_xy(area, points_rz[:, 0], points_rz[:, 1])
 
 
 def grams(density_g_cm3: float, volume_mm3: float) -> float:
@@ -122,16 +136,16 @@ def _feed_and_tool_side(p: Pass) -> tuple[np.ndarray, np.ndarray]:
     return np.array([0.0, sign]), np.array([1.0 if p.surface == "od" else -1.0, 0.0])
 
 
-def _steepness(job, piece: Polygon, p: Pass) -> tuple[float, bool]:
+def _steepness(samples, piece: Polygon, p: Pass) -> tuple[float, bool] | None:
     """The steepest the drawn contour runs inside the piece, from the feed direction [deg], and whether it falls
-    away (the normal leans along the feed) or rises ahead."""
-    samples = job.section.sample(CONTOUR_SPACING_MM)
+    away (the normal leans along the feed) or rises ahead; None where no stretch of the contour there faces the
+    pass's tool (stock beyond a face the pass does not turn, such as above the part's end, is no reach of it)."""
     inside = shapely.contains_xy(piece.buffer(10.0 * BUFFER_CHORD_MM), samples.points[:, 0], samples.points[:, 1])
-    normals = samples.normals[inside]
-    if not len(normals):
-        _, normal, _, _ = job.section.closest_point(*piece.representative_point().coords[0])
-        normals = np.array([normal])
     feed, towards_tool = _feed_and_tool_side(p)
+    normals = samples.normals[inside]
+    normals = normals[normals @ towards_tool > FACING_COS]
+    if not len(normals):
+        return None
     angles = np.degrees(np.arctan2(normals @ feed, normals @ towards_tool))
     steepest = angles[np.argmax(np.abs(angles))]
     return float(abs(steepest)), bool(steepest > 0.0)
@@ -144,6 +158,7 @@ def reach_left(job, process: Process, shaped_rz: np.ndarray, corners: list[Corne
     targets = finishing_targets(job, process) if targets is None else targets
     nominal = Polygon(job.section.polygon(POLYGON_CHORD_MM))
     beyond = Polygon(shaped_rz).difference(nominal)
+    samples = job.section.sample(CONTOUR_SPACING_MM)
     out = []
     for piece in shapely.get_parts(beyond):
         if piece.geom_type != "Polygon" or piece.is_empty:
@@ -163,7 +178,10 @@ def reach_left(job, process: Process, shaped_rz: np.ndarray, corners: list[Corne
             continue
         p, tool = finisher
         shape = tool_shape(tool, p.surface)
-        steepest, descending = _steepness(job, piece, p)
+        found = _steepness(samples, piece, p)
+        if found is None:
+            continue
+        steepest, descending = found
         volume = 2.0 * math.pi * first_r
         out.append(ReachLeft(r_mm=float(first_r / area), z_mm=float(first_z / area), area_mm2=float(area),
                              volume_mm3=float(volume), mass_g=grams(job.material.density_g_cm3, volume),

@@ -10,7 +10,8 @@ from deflect.machining.results import PassResult, Prediction, SpreadValue, Surfa
 from deflect.output.tables import grid, table
 
 CHECK_ORDER = ("chuck end", "middle", "free end")
-SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "faces", "unmachined": "stock no pass removed"}
+SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "faces", "unmachined": "stock no pass removed",
+                 "corners": "internal corners (the nose's radius)", "reach": "where the insert cannot reach"}
 CAUTION = (
     "Caution: these are estimates from a model of the wall and of the cutting forces;\n"
     "confirm them on a first article before running the batch. The force constants should be calibrated\n"
@@ -99,7 +100,7 @@ def gain_table(pred: Prediction) -> str:
     for surface, grams in pred.mass_gain_by_surface_g.items():
         share = f" ({100.0 * grams / total:.0f} % of the gain)" if total > 0 else ""
         rows.append((SURFACE_NAMES.get(surface, surface), f"{grams:.3f} g{share}"))
-    return table(rows, title="Mass gain by surface")
+    return table(rows, title="Mass gain by surface (and by the tools' shape)")
 
 
 GRIP_CAUTION = (
