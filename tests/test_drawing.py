@@ -9,6 +9,7 @@ the centroid of a circular segment of half-angle a at 4 R sin^3(a) / (3 (2 a - s
 
 from __future__ import annotations
 
+import json
 import math
 import tomllib
 from pathlib import Path
@@ -407,3 +408,50 @@ def test_import_never_overwrites(tmp_path, capsys):
     (tmp_path / "job.toml").write_text("mine")
     assert run_import(tmp_path / "tube.dxf", "--out", str(tmp_path / "job.toml")) == 2
     assert (tmp_path / "job.toml").read_text() == "mine"
+
+
+# ---------------------------------------------------------------------------------------------------
+# drawings out
+
+PREDICT_JOB = """
+[job]
+title = "sleeve"
+[material]
+name = "al-6061-t6"
+[part]
+outline = [[19.0, 0.0], [20.0, 0.0], [20.0, 30.0, 0.3], [19.0, 30.0]]
+[[held]]
+r = [0.0, 100.0]
+z = [0.0, 5.0]
+[stock]
+outline = [[19.0, 0.0], [20.3, 0.0], [20.3, 30.0], [19.0, 30.0]]
+[[tool]]
+name = "T1"
+insert = "DCMT11T304"
+approach = 93.0
+[[pass]]
+name = "finish OD"
+surface = "od"
+tool = "T1"
+allowance = 0.0
+feed = 0.1
+speed = 200.0
+z = [31.0, 5.0]
+"""
+
+
+def test_predict_writes_the_drawn_and_predicted_sections(tmp_path, capsys):
+    (tmp_path / "job.toml").write_text(PREDICT_JOB)
+    main(["predict", str(tmp_path / "job.toml"), "--json", "--dxf", str(tmp_path / "out.dxf")])
+    payload = json.loads(capsys.readouterr().out)
+    assert "rules" in payload and "findings" in payload["rules"]
+    drawn = drawing_section(read_drawing(tmp_path / "out.dxf", layer="SECTION"))
+    job = read_job(tmp_path / "job.toml")
+    assert close(mass_properties(drawn, 2.7).mass_g, payload["nominal"]["mass_g"])
+    predicted = drawing_section(read_drawing(tmp_path / "out.dxf", layer="PREDICTED"))
+    assert close(mass_properties(predicted, 2.7).mass_g, payload["predicted"]["mass_g"], rel=1e-9)
+    doc = ezdxf.readfile(tmp_path / "out.dxf")
+    magnified = [layer.dxf.name for layer in doc.layers if layer.dxf.name.startswith("MATERIAL-LEFT-X")]
+    assert len(magnified) == 1
+    assert any(e.dxf.layer == magnified[0] for e in doc.modelspace())
+    assert len(job.section.segments) == len(drawn.segments)
