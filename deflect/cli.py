@@ -390,6 +390,9 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    if job.drawing is not None:   # the walls are redrawn on the outline read from the drawing
+        from deflect.job.drawing import outline_in
+        data["part"] = {"outline": outline_in(job.drawing, job.units)}
     recommended = result.options[0].changes if result.options else ()
     with click.progressbar(length=WALL_STEPS_SHOWN, label="trying wall thicknesses", file=sys.stderr,
                            show_eta=False, hidden=quiet) as bar:

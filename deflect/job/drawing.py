@@ -1100,12 +1100,17 @@ def _curve_notes(loop: list[_Piece], curves: list, scale: float, mm_per_unit: fl
 # ---------------------------------------------------------------------------------------------------
 # the section of a drawing
 
+def outline_in(drawing: Drawing, units: str) -> list:
+    """The drawing's outline items in a job's unit ("mm" or "inch"), for a job's `[part] outline`."""
+    scale = drawing.mm_per_unit / (MM_PER_INCH if units == "inch" else 1.0)
+    return [[v * scale for v in item] if isinstance(item, list) else
+            {"to": [v * scale for v in item["to"]], "radius": item["radius"] * scale} for item in drawing.outline]
+
+
 def drawing_section(drawing: Drawing, key: str = "part.drawing") -> Section:
     """The validated section (mm) of a drawing's outline; a problem names the drawing's entities, not the
     outline's item numbers."""
-    outline = [[v * drawing.mm_per_unit for v in item] if isinstance(item, list) else
-               {"to": [v * drawing.mm_per_unit for v in item["to"]], "radius": item["radius"] * drawing.mm_per_unit}
-               for item in drawing.outline]
+    outline = outline_in(drawing, "mm")
     try:
         return section_from_outline(outline, "outline")
     except InputError as exc:

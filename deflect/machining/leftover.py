@@ -88,18 +88,22 @@ def grams(density_g_cm3: float, volume_mm3: float) -> float:
     return density_g_cm3 * 1e-3 * volume_mm3       # g/cm3 * mm3, 1 cm3 = 1000 mm3
 
 
-def finishing_targets(job, process: Process) -> list[tuple[Pass, object, LineString]]:
+def finishing_targets(job, process: Process, memo: dict | None = None) -> list[tuple[Pass, object, LineString]]:
     """(pass, tool, target line) of every pass that finishes (no allowance), in the order they cut; the
     target is the drawn contour offset by the pass's wear offset, as seen from the pass's side, without the
-    tool's shape."""
+    tool's shape. memo (shared by the variants of one job) keeps each line by the pass's geometry."""
+    memo = {} if memo is None else memo
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
     size = float(np.ptp(nominal_rz, axis=0).max())
     out = []
     for p in process.passes:
         if p.allowance_mm > 0.0:
             continue
-        target = target_surface(nominal_rz, p.surface, p.offset_mm, p.start_mm, p.end_mm, spacing_mm=size)
-        out.append((p, process.tools[p.tool], LineString(target.points_rz)))
+        name = ("finishing target", nominal_rz.tobytes(), p.surface, p.offset_mm, p.start_mm, p.end_mm)
+        if name not in memo:
+            target = target_surface(nominal_rz, p.surface, p.offset_mm, p.start_mm, p.end_mm, spacing_mm=size)
+            memo[name] = LineString(target.points_rz)
+        out.append((p, process.tools[p.tool], memo[name]))
     return out
 
 

@@ -637,7 +637,7 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
 def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict):
     """(corners, reach): what the finishing tools' nose and edges leave beyond the drawing
     (`deflect.machining.leftover`), on the part cut exactly to the targets."""
-    targets = finishing_targets(job, process)
+    targets = finishing_targets(job, process, memo)
     corners = corners_left(job, process, targets)
     shaped = cut_to_targets(process, nominal_rz, settings.station_spacing_mm, memo)
     return corners, reach_left(job, process, shaped, corners, targets)
