@@ -1,8 +1,9 @@
-"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of shared/CONTRACT.md.
+"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict described in INTERFACE.md.
 
 Formatting only; the figures come from `deflect.decisions.tune`. Changes are said the way a machinist says them
-(leave 0.1 mm a side for the finish pass; one spring pass; wear offset X -0.026). Values in the JSON and in
-the words are in the job's own units (mm or inch), so that they can be written back into the job file.
+(leave 0.1 mm a side for the finish pass; one spring cut; wear offset X -0.026 mm on the diameter, with the
+job key it means beside it). Values in the JSON and in the words are in the job's own units (mm or inch), so
+that they can be written back into the job file.
 """
 
 from __future__ import annotations
@@ -47,11 +48,7 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     if change.key == "tool":
         return f"{name}: finish with {after} instead of {before}"
     if change.key == "offset":
-        surface = surface_of.get(name, "od")
-        if surface == "face":
-            return f"{name}: wear offset Z {after:+.4g}"
-        x = 2.0 * after if surface == "od" else -2.0 * after
-        return f"{name}: wear offset X {x:+.4g} (on diameter)"
+        return f"{name}: {offset_words(after, surface_of.get(name, 'od'), units)}"
     if change.key == "compensate":
         most = max((c for _, c in after), key=abs)
         return f"{name}: program the compensated contour (push-off taken out, up to {most:+.4g} {unit} a side)"
@@ -62,6 +59,31 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
             return f"finish {first} before {second} ({swapped[0]} before {swapped[1]})"
         return f"passes in the order {', '.join(after)}"
     return f"{name}: {change.key} {before} -> {after}"
+
+
+def job_number(value: float, units: str) -> str:
+    """A length as it is written into the job file: mm to the micrometre (offsets are found in 1 um steps),
+    inches to six significant digits."""
+    return f"{value:.3f}" if units == "mm" else f"{value:.6g}"
+
+
+def offset_words(offset: float, surface: str, units: str) -> str:
+    """A wear offset in both conventions on one line: the machinist's, as keyed into the control (X on the
+    diameter, + moves the tool away from the axis, so + makes an OD larger and a bore larger; Z along the
+    axis for a face, + away from the chuck), and the job's `offset` key, a side along the surface's outward
+    normal (+ leaves material), as it must be written into the [[pass]] table. On an OD the outward normal
+    is +r, so X = 2 offset; in a bore it points at the axis, so X = -2 offset: the two differ in sign there.
+    A face is taken to look away from the chuck (+z), as a face turned from the tailstock side does."""
+    unit = "in" if units == "inch" else "mm"
+    job_key = f"(job key offset = {job_number(offset, units)}, a side along the outward normal)"
+    if surface == "face":
+        return f"wear offset Z {signed(offset, units)} {unit} {job_key}"
+    x = 2.0 * offset if surface == "od" else -2.0 * offset
+    return f"wear offset X {signed(x, units)} {unit} on the diameter {job_key}"
+
+
+def signed(value: float, units: str) -> str:
+    return ("+" if value >= 0.0 else "") + job_number(value, units)
 
 
 def option_words(outcome: Outcome, surface_of: dict, units: str) -> str:
