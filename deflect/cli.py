@@ -160,8 +160,8 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
 
 def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
-    toleranced features (empty without [tolerance])."""
-    from deflect.decisions.conformance import check_features
+    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings)."""
+    from deflect.decisions.conformance import verdict
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
@@ -180,7 +180,7 @@ def run_prediction(job_file: str, show_progress: bool):
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        return pred, (check_features(pred, process, tolerances) if tolerances else [])
+        return pred, verdict(job, process, pred, tolerances)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -214,12 +214,12 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
 
-    pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
+    pred, judged = run_prediction(job_file, show_progress=not (quiet or as_json))
     written = write_outputs(pred, csv_dir, plot_dir)
     if as_json:
-        emit_json(prediction_payload(pred, features))
+        emit_json(prediction_payload(pred, judged.checks, judged.warnings))
     else:
-        click.echo(predict_report(pred, features))
+        click.echo(predict_report(pred, judged.checks, judged.warnings))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -237,13 +237,14 @@ def demo(out_dir):
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, features = run_prediction(job_file, show_progress=True)
+    pred, judged = run_prediction(job_file, show_progress=True)
     out = Path(out_dir)
-    report = predict_report(pred, features)
+    report = predict_report(pred, judged.checks, judged.warnings)
     try:
         out.mkdir(parents=True, exist_ok=True)
         (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2))
+        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, judged.checks, judged.warnings),
+                                                        indent=2))
     except OSError as exc:
         raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
     written = write_outputs(pred, out / "csv", out / "figures")

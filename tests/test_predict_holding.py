@@ -118,7 +118,7 @@ def test_toleranced_features_against_the_drawing():
             # material left makes an OD larger (nr = +1) and a bore smaller (nr = -1)
             change = np.array([2.0 * p["deviation_mm"] * p["nr"] for p in mine])
             lower, upper = limits_of_fit(code, diameter, "test")
-            name = f"{'OD' if surface == 'od' else 'bore'} {diameter:g}"
+            name = f"{'OD' if surface == 'od' else 'ID'} {diameter:g}"
             feature = features[name]
             assert feature["low"] == pytest.approx(change.min(), abs=1e-12)
             assert feature["high"] == pytest.approx(change.max(), abs=1e-12)

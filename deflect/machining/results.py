@@ -59,6 +59,12 @@ class SurfaceDeviation:
     # outward normal (already in deviation_mm), and the out-of-roundness it leaves (peak to valley, radial)
     released_mm: np.ndarray | None = None
     roundness_mm: np.ndarray | None = None
+    # ... and what a gauge sees of the lobes (`deflect.mechanics.clamping.Squeeze`): their highest point above
+    # the mean surface along the outward normal (>= 0, where a ring or plug gauge meets it), and the least and
+    # most change of a two-point half-size they make around the circumference (<= 0, >= 0)
+    lobe_peak_mm: np.ndarray | None = None
+    two_point_low_mm: np.ndarray | None = None
+    two_point_high_mm: np.ndarray | None = None
 
 
 @dataclass(frozen=True)

@@ -500,6 +500,11 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
     return per_pass, current
 
 
+# the lobes' form on a SurfaceDeviation, from the released shape per newton (`clamping.ReleasedDeviation`)
+FORM_FIELDS = {"roundness_mm": "roundness_mm", "lobe_peak_mm": "peak_mm", "two_point_low_mm": "two_point_low_mm",
+               "two_point_high_mm": "two_point_high_mm"}
+
+
 def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str], memo: dict):
     """With [holding]: what the jaws' squeeze does to the surfaces finished in the chuck once they let go.
 
@@ -507,16 +512,18 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
     (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.machining.grip.grip_in_cut_n`,
     VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
-    out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
-    (None, None, 0) without [holding]. The squeeze per newton is kept in memo (it depends on the drawn part, the
-    holding and the points only, not on the passes)."""
+    {roundness_mm, lobe_peak_mm, two_point_low_mm, two_point_high_mm: the lobes' form [mm]}, lobes) for every
+    deviation point (0 where no od or bore pass finished it), or (None, {}, 0) without [holding]. The squeeze
+    per newton is kept in memo (it depends on the drawn part, the holding and the points only, not on the
+    passes)."""
     if "holding" not in job.tables:
-        return None, None, 0
+        return None, {}, 0
     holding = holding_from_table(job.tables["holding"])
     machined = np.array([s in ("od", "id") for s in surfaces])
-    released, roundness = np.zeros(len(surfaces)), np.zeros(len(surfaces))
+    released = np.zeros(len(surfaces))
+    form = {name: np.zeros(len(surfaces)) for name in FORM_FIELDS}
     if not machined.any():
-        return released, roundness, 0
+        return released, form, 0
     points, normals = raw.points_rz[machined], raw.normals[machined]
     name = ("released", job.section, holding, job.material.E_mpa, job.material.nu, points.tobytes(),
             normals.tobytes())
@@ -529,8 +536,9 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
                     for p, r in zip(passes, raw.points_rz[machined, 0])])
     grip_n = grip_in_cut_n(holding.force_n, centrifugal_force_n(holding.centrifugal_moment_kg_m, rpm), holding.grip)
     released[machined] = grip_n * per_newton.mean_mm
-    roundness[machined] = grip_n * per_newton.roundness_mm
-    return released, roundness, per_newton.lobes
+    for name, field_name in FORM_FIELDS.items():
+        form[name][machined] = grip_n * getattr(per_newton, field_name)
+    return released, form, per_newton.lobes
 
 
 def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
@@ -641,10 +649,10 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
 
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
-    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
+    released, form, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
-                                 surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness)
+                                 surface=surfaces, finished_by=names, released_mm=released, **form)
     spring_back = 0.0 if released is None else released
     range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
                  for rz in ranges] or [float(np.max(deviation.deviation_mm))]

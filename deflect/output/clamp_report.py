@@ -75,9 +75,27 @@ def point_records(clamped: Clamped) -> list[dict]:
     return [{"surface": str(s.surface[i]), "z": float(s.points_rz[i, 1]), "value": _um(clamped.roundness_mm[i]),
              "r": float(s.points_rz[i, 0]), "diameter_change_um": _um(clamped.size_change_mm[i]),
              "grip_in_cut_N": float(clamped.grip_in_cut_n[i]), "finished_by": s.finished_by[i],
-             "tolerance_band_um": None if not np.isfinite(clamped.form_limit_mm[i])
-             else 2.0 * _um(clamped.form_limit_mm[i])}
+             "tolerance_band_um": _band_um(clamped, i), "roundness_limit_um": _roundness_limit_um(clamped, i)}
             for i in range(len(s.surface))]
+
+
+def _band_um(clamped: Clamped, i: int) -> float | None:
+    """The diameter band at point i [um] (None: not toleranced)."""
+    half = clamped.limits.half_band_mm[i]
+    return None if not np.isfinite(half) else 2.0 * _um(half)
+
+
+def _roundness_limit_um(clamped: Clamped, i: int) -> float | None:
+    limit = clamped.limits.roundness_mm[i]
+    return None if not np.isfinite(limit) else _um(limit)
+
+
+def _limit_words(clamped: Clamped, i: int) -> str:
+    """What sets the most grip at point i, with its value."""
+    if clamped.limited_by == "roundness":
+        return f"roundness limit {_roundness_limit_um(clamped, i):.0f} um"
+    rule = "envelope requirement" if clamped.limits.envelope else "two-point size, independent of form"
+    return f"diameter band {_band_um(clamped, i):.0f} um, {rule}"
 
 
 def demand_record(clamped: Clamped) -> dict | None:
@@ -98,7 +116,8 @@ def clamp_payload(study: ClampStudy) -> dict:
     limiting = None
     if g.limiting is not None:
         limiting = {"surface": str(g.surfaces.surface[g.limiting]), "z": float(g.surfaces.points_rz[g.limiting, 1]),
-                    "tolerance_band_um": 2.0 * _um(g.form_limit_mm[g.limiting])}
+                    "tolerance_band_um": _band_um(g, g.limiting), "limited_by": g.limited_by,
+                    "roundness_limit_um": _roundness_limit_um(g, g.limiting)}
     return {
         "grip_force_N": {"given": g.holding.force_n, "least_to_hold": g.least_to_hold_n,
                          "most_for_roundness": g.most_for_roundness_n},
@@ -139,11 +158,11 @@ def surfaces_table(clamped: Clamped) -> str:
     rows = []
     for side in ("od", "id"):
         for i in _shown_rows(clamped, side):
-            band = clamped.form_limit_mm[i]
+            band = _band_um(clamped, i)
             rows.append([SURFACE_NAMES[side], f"{s.points_rz[i, 1]:.2f}", f"{2 * s.points_rz[i, 0]:.3f}",
                          s.finished_by[i] or "-", f"{clamped.grip_in_cut_n[i]:.0f}",
                          f"{_um(clamped.size_change_mm[i]):+.1f}", f"{_um(clamped.roundness_mm[i]):.1f}",
-                         "-" if not np.isfinite(band) else f"{2 * _um(band):.0f}"])
+                         "-" if band is None else f"{band:.0f}"])
     if not rows:
         return "No OD or bore is finished in this setup outside the grip."
     return grid(header, rows)
@@ -188,7 +207,7 @@ def clamp_report(study: ClampStudy) -> str:
     if g.limiting is not None:
         i = g.limiting
         where = f"{SURFACE_NAMES[str(g.surfaces.surface[i])]} at z {g.surfaces.points_rz[i, 1]:.2f} mm"
-        rows.append(("  set by", f"{where} (diameter band {2 * _um(g.form_limit_mm[i]):.0f} um)"))
+        rows.append(("  set by", f"{where} ({_limit_words(g, i)})"))
     rows += [("window", _window_text(g)),
              ("after release", f"{g.lobes} lobes, roundness up to {_worst_um(g):.1f} um"),
              ("harmonics summed", f"n = 0 to {int(g.squeeze.harmonics[-1])}")]

@@ -41,6 +41,9 @@ def deviation_records(deviation) -> list[dict]:
         if deviation.roundness_mm is not None:
             record["released_mm"] = float(deviation.released_mm[k])
             record["roundness_mm"] = float(deviation.roundness_mm[k])
+            record["lobe_peak_mm"] = float(deviation.lobe_peak_mm[k])
+            record["two_point_low_mm"] = float(deviation.two_point_low_mm[k])
+            record["two_point_high_mm"] = float(deviation.two_point_high_mm[k])
         records.append(record)
     return records
 
@@ -48,10 +51,11 @@ def deviation_records(deviation) -> list[dict]:
 def feature_record(c) -> dict:
     return {"feature": c.feature, "surface": c.surface, "unit": c.unit, "nominal": c.nominal, "lower": c.lower,
             "upper": c.upper, "low": c.low, "high": c.high, "margin": c.margin, "meets": c.meets,
-            "z": c.worst_z_mm, "pass": c.pass_name}
+            "z": c.worst_z_mm, "pass": c.pass_name, "roundness_mm": c.roundness_mm, "form_mm": c.form_mm,
+            "size_rule": c.size_rule}
 
 
-def prediction_payload(pred: Prediction, features=()) -> dict:
+def prediction_payload(pred: Prediction, features=(), warnings=()) -> dict:
     return {
         "title": pred.title,
         "nominal": {"mass_g": pred.nominal_mass_g, "inertia_axial_kg_mm2": pred.nominal_inertia_kg_mm2},
@@ -77,5 +81,5 @@ def prediction_payload(pred: Prediction, features=()) -> dict:
         "wall": pred.wall,
         "peak_power_kW": pred.peak_power_kw,
         "machine_power_kW": pred.machine_power_kw,
-        "warnings": pred.warnings,
+        "warnings": [*pred.warnings, *warnings],
     }

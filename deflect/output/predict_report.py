@@ -110,24 +110,43 @@ GRIP_CAUTION = (
 )
 
 
+SIZE_RULE_NOTES = {
+    "envelope": "diameters judged with the envelope requirement (ISO 14405-1 (E)): a GO gauge at the "
+                "maximum-material size and two-point sizes within the other limit, so the jaws' lobes count "
+                "against the band",
+    "two-point": "diameters judged by two-point sizes, independent of form (envelope = false, ISO 8015); the "
+                 "roundness beside them",
+}
+
+
 def feature_table(features) -> str:
-    """Each toleranced feature in or out, with its margin to the nearer limit."""
+    """Each toleranced feature in or out, with its margin to the nearer limit (and the roundness the jaws
+    leave beside each diameter, with [holding])."""
+    with_roundness = any(c.roundness_mm is not None for c in features)
     rows = []
     for c in features:
         if c.unit == "um":
-            rows.append([c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um",
-                         "in" if c.meets else "OUT"])
+            row = [c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um"]
+        elif c.surface == "roundness":
+            row = [c.feature, f"<= {1000 * c.upper:g} um", f"{1000 * c.low:.1f} to {1000 * c.high:.1f} um",
+                   f"{1000 * c.margin:+.1f} um"]
         else:
-            rows.append([c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
-                         f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um",
-                         "in" if c.meets else "OUT"])
-    note = "(diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside)"
-    return "Against the drawing\n" + grid(["feature", "limits", "predicted", "margin", "verdict"], rows) + "\n" + note
+            row = [c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
+                   f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um"]
+        row.append("in" if c.meets else "OUT")
+        if with_roundness:
+            row.append("-" if c.roundness_mm is None else f"{1000 * c.roundness_mm:.1f}")
+        rows.append(row)
+    header = ["feature", "limits", "predicted", "margin", "verdict"] + (["roundness um"] if with_roundness else [])
+    notes = ["diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside"]
+    notes += [SIZE_RULE_NOTES[rule] for rule in dict.fromkeys(c.size_rule for c in features if c.size_rule)
+              if with_roundness]
+    return "Against the drawing\n" + grid(header, rows) + "\n" + "\n".join(f"({note})" for note in notes)
 
 
-def predict_report(pred: Prediction, features=()) -> str:
+def predict_report(pred: Prediction, features=(), warnings=()) -> str:
     """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
-    surface, warnings, caution."""
+    surface, warnings (the simulation's, then the verdict's: grip and form), caution."""
     blocks = [headline(pred)]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
@@ -143,7 +162,7 @@ def predict_report(pred: Prediction, features=()) -> str:
         blocks.append(GRIP_CAUTION.format(lobes=pred.lobes))
     if pred.mass_gain_by_surface_g:
         blocks.append(gain_table(pred))
-    if pred.warnings:
-        blocks.append("\n".join(f"warning: {w}" for w in pred.warnings))
+    if pred.warnings or warnings:
+        blocks.append("\n".join(f"warning: {w}" for w in [*pred.warnings, *warnings]))
     blocks.append(CAUTION)
     return "\n\n".join(blocks)
