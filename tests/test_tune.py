@@ -427,7 +427,8 @@ def test_feature_ranges_are_those_of_the_surface_the_pass_cut(folder):
         changed = with_changes(tables, option["changes"])
         _, _, left = finished_cylinders(*deviation_arrays(predicted_json(folder, "features", changed)), changed)["od"]
         feature = next(f for f in option["features"] if f["surface"] == "od")
-        assert (feature["low"], feature["high"]) == pytest.approx((2 * left.min(), 2 * left.max()), abs=ROUND_OFF_MM)
+        assert (feature["low_um"], feature["high_um"]) == pytest.approx((2000 * left.min(), 2000 * left.max()),
+                                                                        abs=1000 * ROUND_OFF_MM)
 
 
 # ---------------------------------------------------------------------------------------------------

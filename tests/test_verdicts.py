@@ -117,8 +117,8 @@ def loose(tmp_path_factory) -> Path:
 def test_predict_warns_that_the_grip_does_not_hold(loose):
     clamp = json_of(["clamp", str(loose)])
     cut = clamp["heaviest_cut"]
-    least = (SAFETY * math.hypot(cut["cutting_N"] * cut["r"] / GRIPPED_RADIUS_MM, cut["axial_N"]) / FRICTION
-             + centrifugal_n(cut["rpm"]))
+    least = (SAFETY * math.hypot(cut["cutting_force_N"] * cut["r_mm"] / GRIPPED_RADIUS_MM, cut["axial_force_N"]) / FRICTION
+             + centrifugal_n(cut["spindle_speed_rpm"]))
     assert clamp["grip_force_N"]["least_to_hold"] == pytest.approx(least, rel=1e-9)
     assert least > GRIP_N
     data = json_of(["predict", str(loose), "--quiet"])
@@ -160,18 +160,18 @@ def test_the_ring_is_out_under_the_envelope_requirement(ring_predicted):
     """A GO plug at the maximum-material size (the lower limit of H7) meets the lobes' peaks; a two-point
     NO-GO reads the bore's least-material side: the lobes take more than the band, so no size fits."""
     [feature] = [f for f in ring_predicted["tolerance"] if f["surface"] == "id"]
-    lower, upper = feature["lower"], feature["upper"]
+    lower, upper = 1e-3 * feature["lower_um"], 1e-3 * feature["upper_um"]
     assert upper - lower == pytest.approx(0.030, abs=1e-12)                 # 74 H7 (ISO 286-1)
     points = bore_points(ring_predicted)
     # the bore is smaller by twice the material left; the plug meets the most material, a two-point size
     # the least
     plug = min(-2.0 * (p["deviation_mm"] + p["lobe_peak_mm"]) for p in points)
     two_point = max(-2.0 * (p["deviation_mm"] + p["two_point_low_mm"]) for p in points)
-    assert feature["low"] == pytest.approx(plug, abs=1e-12)
-    assert feature["high"] == pytest.approx(two_point, abs=1e-12)
+    assert feature["low_um"] == pytest.approx(1000.0 * plug, abs=1e-9)
+    assert feature["high_um"] == pytest.approx(1000.0 * two_point, abs=1e-9)
     assert two_point - plug > upper - lower                                  # no size can fit it in
     assert feature["meets"] is False
-    assert feature["roundness_mm"] == pytest.approx(max(p["roundness_mm"] for p in points), rel=1e-12)
+    assert feature["roundness_um"] == pytest.approx(1000.0 * max(p["roundness_mm"] for p in points), rel=1e-12)
     assert any("out-of-roundness" in w and "ID 74" in w for w in ring_predicted["warnings"])
 
 
@@ -189,17 +189,17 @@ def test_size_independent_of_form_checks_two_point_sizes_and_reports_roundness(t
     points = bore_points(data)
     [size] = [f for f in data["tolerance"] if f["surface"] == "id"]
     assert size["size_rule"] == "two-point"
-    assert size["low"] == pytest.approx(min(-2.0 * (p["deviation_mm"] + p["two_point_high_mm"]) for p in points),
-                                        abs=1e-12)
-    assert size["high"] == pytest.approx(max(-2.0 * (p["deviation_mm"] + p["two_point_low_mm"]) for p in points),
-                                         abs=1e-12)
+    assert size["low_um"] == pytest.approx(
+        1000.0 * min(-2.0 * (p["deviation_mm"] + p["two_point_high_mm"]) for p in points), abs=1e-9)
+    assert size["high_um"] == pytest.approx(
+        1000.0 * max(-2.0 * (p["deviation_mm"] + p["two_point_low_mm"]) for p in points), abs=1e-9)
     # three lobes barely move a two-point size: far narrower than the gauged envelope
     [enveloped] = [f for f in ring_predicted["tolerance"] if f["surface"] == "id"]
-    assert size["high"] - size["low"] < 0.5 * (enveloped["high"] - enveloped["low"])
+    assert size["high_um"] - size["low_um"] < 0.5 * (enveloped["high_um"] - enveloped["low_um"])
     [roundness] = [f for f in data["tolerance"] if f["surface"] == "roundness"]
     worst = max(p["roundness_mm"] for p in points)
-    assert roundness["high"] == pytest.approx(worst, rel=1e-12)
-    assert roundness["margin"] == pytest.approx(0.03 - worst, rel=1e-12)
+    assert roundness["high_um"] == pytest.approx(1000.0 * worst, rel=1e-12)
+    assert roundness["margin_um"] == pytest.approx(1000.0 * (0.03 - worst), rel=1e-9)
     assert roundness["meets"] is (worst <= 0.03) is False
 
 

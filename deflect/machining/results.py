@@ -29,7 +29,8 @@ class StationTable:
     deflection_mm: np.ndarray        # push-off of part and tool together along the normal = material left
     power_kw: np.ndarray
     rubbing: np.ndarray              # bool: the wall gives way so far that the tool barely cuts
-    cut: int                         # index of the cut within its pass (roughing steps, finishing, spring)
+    cut: int                         # index of the cut within its pass, from 0 (roughing steps, finishing, spring
+                                     # cuts); shown to users from 1 ("cut 1" is the first)
 
 
 @dataclass(frozen=True)
@@ -69,10 +70,10 @@ class SurfaceDeviation:
 
 @dataclass(frozen=True)
 class SurfaceCheck:
-    """What a machinist measures on one finished surface: push-off at the chuck end, middle, free end."""
+    """What a machinist measures on one finished surface: push-off at the held end, middle, free end."""
 
     surface: str                     # "od" | "id" | "face"
-    positions: dict[str, tuple[float, float]]   # "chuck end" / "middle" / "free end" -> (r, z)
+    positions: dict[str, tuple[float, float]]   # "held end" / "middle" / "free end" -> (r, z)
     deviation_mm: dict[str, float]   # material left there (on the radius, i.e. "a side")
     nominal_diameter_mm: dict[str, float]
     predicted_diameter_mm: dict[str, float]

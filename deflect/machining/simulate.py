@@ -511,7 +511,7 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     A surface cut round while squeezed springs back by minus the squeeze (`deflect.mechanics.clamping`); the squeeze
     is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
     (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.machining.grip.grip_in_cut_n`,
-    VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
+    VDI 3106 (2004), cited second-hand). Returns (uniform spring-back along the outward normal [mm],
     {roundness_mm, lobe_peak_mm, two_point_low_mm, two_point_high_mm: the lobes' form [mm]}, lobes) for every
     deviation point (0 where no od or bore pass finished it), or (None, {}, 0) without [holding]. The squeeze
     per newton is kept in memo (it depends on the drawn part, the holding and the points only, not on the
@@ -577,7 +577,7 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 
 
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
-    """Push-off at the chuck end (low z), the middle and the free end of each finished od and id."""
+    """Push-off at the held end (low z), the middle and the free end of each finished od and id."""
     checks = []
     released = 0.0 if deviation.released_mm is None else deviation.released_mm
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
@@ -585,7 +585,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         order = straight_points(deviation, surface)
         if len(order) < 3:
             continue
-        picks = {"chuck end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
+        picks = {"held end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
         positions = {name: tuple(map(float, deviation.points_rz[k])) for name, k in picks.items()}
         left = {name: float(deviation.deviation_mm[k]) for name, k in picks.items()}
         nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
@@ -610,7 +610,7 @@ def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
 
 
 def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
-    """Wall thickness against nominal at the chuck end, middle and free end of the height over which a
+    """Wall thickness against nominal at the held end, middle and free end of the height over which a
     cylindrical od and a cylindrical bore face each other (fillets left out, as a machinist measures)."""
     od, bore = straight_points(deviation, "od"), straight_points(deviation, "id")
     if len(od) < 3 or len(bore) < 3:
@@ -620,7 +620,7 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     if high <= low:
         return []
     rows = []
-    for name, z in (("chuck end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
+    for name, z in (("held end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
         r_od = float(np.interp(z, z_od, deviation.points_rz[od, 0]))
         r_id = float(np.interp(z, z_bore, deviation.points_rz[bore, 0]))
         left = float(np.interp(z, z_od, deviation.deviation_mm[od]) + np.interp(z, z_bore, deviation.deviation_mm[bore]))
