@@ -1,8 +1,8 @@
 """Jaw chuck formulas: the jaws' centrifugal force, the torque a grip holds, the grip a cut needs.
 
-Takes forces [N], speeds [1/min], masses [kg] and radii; gives forces [N] and torques. Jaw chuck practice after
-VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern (Backenfutter)", cited second-hand as chuck
-makers' operating manuals quote it; `deflect.machining.grip` explains how they combine into the grip window.
+Takes forces [N], speeds [1/min], masses [kg] and radii; gives forces [N] and torques. Jaw chuck practice as
+quoted from VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern (Backenfutter)" in
+chuck makers' operating manuals (seen second-hand, not in the guideline's own text); `deflect.machining.grip` explains how they combine into the grip window.
 """
 
 from __future__ import annotations

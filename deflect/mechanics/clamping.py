@@ -10,8 +10,7 @@ circumference (half-angle a = width / (2 R) at the gripped radius R) and over th
 the meridian, with a uniform pressure (weights r ds); the total force F is shared equally, radially inward
 for an OD grip, outward for a bore grip. One jaw's load per radian has the cosine series
 (F/N) [1/(2 pi) + sum_n g_n / pi cos(n (theta - theta_j))], g_n = sin(n a) / (n a) (the Fourier series of a
-uniform load on an arc; Zienkiewicz & Taylor, The Finite Element Method, vol. 2, semi-analytical methods); summed
-over the N jaws, sum_j cos(n (theta - theta_j)) is N cos(n theta) when N divides n and 0 otherwise, so only
+rectangular pulse); summed over the N jaws, sum_j cos(n (theta - theta_j)) is N cos(n theta) when N divides n and 0 otherwise, so only
 n = 0, N, 2N, ... are excited, with amplitudes F / (2 pi) and F g_n / pi. A collet or mandrel is a pressure
 all round: n = 0 alone.
 

@@ -119,7 +119,7 @@ def grip_forces(clamped: Clamped) -> dict:
 
 
 def clamp_payload(study: ClampStudy) -> dict:
-    """The JSON object of `deflect clamp --json` (the fixed keys first; INTERFACE.md)."""
+    """The JSON object of `deflect clamp --json` (the interface's fixed keys first)."""
     g = study.given
     limiting = None
     if g.limiting is not None:
