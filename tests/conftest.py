@@ -44,7 +44,7 @@ def demo_report(tmp_path_factory) -> tuple[Path, dict]:
 def write_option(folder: Path, job: Path, tune_payload: dict, number: int) -> Path:
     """The job with option `number` of its tune written in, as `deflect tune --apply` writes it (the same
     writer, from the same change records the tune's JSON gives)."""
-    from deflect.output.job_file import job_text_with, written_header
+    from deflect.output.remedy_job import job_text_with, written_header
 
     label = f"deflect tune option {number}"
     option = tune_payload["options"][number - 1]

@@ -34,7 +34,7 @@ from deflect.output.figures import profiles_figure  # noqa: E402
 SAME_FLOAT = 1e-9              # one computation read back
 HEADLINE = {"predicted mass g": ("mass_g", 1.0, "{:.3f}", "{:+.3f}"),
             "mass gain g": ("mass_gain_g", 1.0, "{:+.3f}", "{:+.3f}"),
-            "most material left, a side um": ("max_deviation_mm", 1000.0, "{:.1f}", "{:+.1f}"),
+            "most material left, a side um": ("most_material_left_mm", 1000.0, "{:.1f}", "{:+.1f}"),
             "cycle time (cutting) s": ("cycle_time_s", 1.0, "{:.1f}", "{:+.1f}")}
 
 
@@ -45,7 +45,8 @@ def test_each_side_is_its_own_prediction(demo_report, demo_option, demo_comparis
         record = payload[side]
         assert record["mass_g"] == pytest.approx(predicted["predicted"]["mass_g"], rel=SAME_FLOAT)
         assert record["mass_gain_g"] == pytest.approx(predicted["predicted"]["mass_gain_g"], rel=SAME_FLOAT)
-        assert record["max_deviation_mm"] == pytest.approx(predicted["predicted"]["max_deviation_mm"], rel=SAME_FLOAT)
+        assert record["most_material_left_mm"] == pytest.approx(predicted["predicted"]["most_material_left_mm"],
+                                                                rel=SAME_FLOAT)
         assert record["cycle_time_s"] == pytest.approx(predicted["cycle_time_s"], rel=SAME_FLOAT)
         for surface in predicted["surfaces"]:
             if surface["surface"] in ("od", "id"):
@@ -58,11 +59,12 @@ def test_each_side_is_its_own_prediction(demo_report, demo_option, demo_comparis
 def test_the_change_is_b_minus_a_and_shows(demo_comparison):
     _, payload = demo_comparison
     a, b, change = payload["a"], payload["b"], payload["change"]
-    for key in ("mass_g", "mass_gain_g", "max_deviation_mm", "cycle_time_s"):
+    for key in ("mass_g", "mass_gain_g", "most_material_left_mm", "cycle_time_s"):
         assert change[key] == pytest.approx(b[key] - a[key], rel=SAME_FLOAT, abs=1e-15)
     # option 1 is quicker and moves the diameters: the comparison has something to show
     assert change["cycle_time_s"] < -1.0
-    assert max(abs(v) for sides in change["diameter_mm"].values() for v in sides.values()) > 0.005
+    assert max(abs(v["predicted_diameter_mm"]) for places in change["surfaces"].values()
+               for v in places.values()) > 0.005
     assert any(not f["meets"] for f in a["features"]) and all(f["meets"] for f in b["features"])
 
 
@@ -74,11 +76,11 @@ def test_the_page_shows_the_change_in_its_tables(demo_comparison):
     for label, (key, scale, shown, change) in HEADLINE.items():
         a, b = scale * payload["a"][key], scale * payload["b"][key]
         assert rows[label] == [shown.format(a), shown.format(b), change.format(scale * payload["change"][key])]
-    names = {"od": "Finished OD", "id": "Finished bore"}
-    for kind, diameters in payload["change"]["diameter_mm"].items():
+    names = {"od": "Finished OD", "id": "Finished ID"}
+    for kind, places in payload["change"]["surfaces"].items():
         table = next(t for t in page.tables if t["caption"] == names[kind])
         shown = {row[0]: row[-1] for row in table["rows"][1:]}
-        assert shown == {where: f"{1e3 * value:+.1f}" for where, value in diameters.items()}
+        assert shown == {where: f"{1e3 * value['predicted_diameter_mm']:+.1f}" for where, value in places.items()}
     assert len(page.images) == 1      # the two profiles overlaid
 
 

@@ -427,7 +427,8 @@ def test_feature_ranges_are_those_of_the_surface_the_pass_cut(folder):
         changed = with_changes(tables, option["changes"])
         _, _, left = finished_cylinders(*deviation_arrays(predicted_json(folder, "features", changed)), changed)["od"]
         feature = next(f for f in option["features"] if f["surface"] == "od")
-        assert (feature["low"], feature["high"]) == pytest.approx((2 * left.min(), 2 * left.max()), abs=ROUND_OFF_MM)
+        assert (feature["low_um"], feature["high_um"]) == pytest.approx((2000 * left.min(), 2000 * left.max()),
+                                                                        abs=1000 * ROUND_OFF_MM)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -590,6 +591,23 @@ def test_contour_moves_follow_the_compensated_target_between_points(run, request
         z_in, expected = target_diameter(changed, p, pairs, dense)
         programmed = np.interp(z_in, rows[order, 0], rows[order, 1])
         assert np.abs(programmed - expected).max() / 2.0 <= CONTOUR_CHORD_MM
+
+
+@pytest.mark.parametrize("run", RUNS)
+def test_contour_export_as_a_drawing(run, request):
+    """Beside the CSV and ISO 6983 files, a DXF with the same points (drawing x = Z, y = X / 2) on layer
+    COMPENSATED over the drawn section on layer SECTION."""
+    import ezdxf
+
+    _, data, contour = request.getfixturevalue(run)
+    for changed, p, pairs, rows, _ in contour_case(run, request):
+        stem = "".join(ch if ch.isalnum() else "-" for ch in p["name"]).strip("-")
+        doc = ezdxf.readfile(contour / f"{stem}-contour.dxf")
+        lines = [e for e in doc.modelspace() if e.dxftype() == "LWPOLYLINE" and e.dxf.layer == "COMPENSATED"]
+        assert len(lines) == 1
+        drawn = np.array([(x, y) for x, y in lines[0].get_points("xy")])
+        assert np.allclose(drawn, np.column_stack([rows[:, 0], 0.5 * rows[:, 1]]), rtol=0, atol=PRINTED_MM)
+        assert any(e.dxf.layer == "SECTION" for e in doc.modelspace())
 
 
 # ---------------------------------------------------------------------------------------------------

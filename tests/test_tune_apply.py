@@ -33,7 +33,7 @@ from test_simulate import write_job  # noqa: E402
 from test_tune import in_inches, sleeve  # noqa: E402
 
 from deflect.job.reader import read_job  # noqa: E402
-from deflect.output.job_file import job_text_with  # noqa: E402
+from deflect.output.remedy_job import job_text_with  # noqa: E402
 
 SAME_FLOAT = 1e-9              # one computation read back
 MM_PER_INCH = 25.4             # by definition (1959 international inch)
@@ -48,13 +48,13 @@ def assert_round_trip(option: dict, predicted: dict) -> None:
     """The written job's prediction gives the option's figures: cycle time, mass, most material left."""
     assert predicted["cycle_time_s"] == pytest.approx(option["cycle_time_s"], rel=SAME_FLOAT)
     assert predicted["predicted"]["mass_g"] == pytest.approx(option["mass_g"], rel=SAME_FLOAT)
-    assert predicted["predicted"]["max_deviation_mm"] == pytest.approx(option["predicted"]["max_deviation_mm"],
+    assert predicted["predicted"]["most_material_left_mm"] == pytest.approx(option["predicted"]["most_material_left_mm"],
                                                                        rel=SAME_FLOAT, abs=1e-15)
     # to the printed digits of the tune's table and the predict report
     assert printed(predicted["cycle_time_s"], 1) == printed(option["cycle_time_s"], 1)
     assert printed(predicted["predicted"]["mass_g"], 3) == printed(option["mass_g"], 3)
-    assert (printed(predicted["predicted"]["max_deviation_mm"], 1, 1000.0)
-            == printed(option["predicted"]["max_deviation_mm"], 1, 1000.0))
+    assert (printed(predicted["predicted"]["most_material_left_mm"], 1, 1000.0)
+            == printed(option["predicted"]["most_material_left_mm"], 1, 1000.0))
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -192,7 +192,7 @@ def sleeve_applied(sleeve_job):
 
 def test_apply_writes_the_option_through_the_command(sleeve_job, sleeve_applied):
     payload, out = sleeve_applied
-    assert payload["applied"] == {"option": 2, "file": str(out)}
+    assert payload["applied"] == {"rank": 2, "file": str(out)}
     code, text, err = run_deflect(["predict", out, "--json", "--quiet"])
     assert code == 0, err
     assert_round_trip(payload["options"][1], json.loads(text))
@@ -241,3 +241,26 @@ def test_an_option_that_does_not_exist_is_refused(sleeve_job, sleeve_applied, tm
     assert_refused(["tune", sleeve_job, "--quiet", "--apply", count + 1, "--out", tmp_path / "new.toml"],
                    "--apply", f"there is no option {count + 1}: the search found options 1 to {count}",
                    tmp_path, [])
+
+
+def test_a_drawing_named_by_the_job_is_found_from_the_new_folder(tmp_path):
+    """[part] drawing is read relative to the job file: written into another folder, the job names the same
+    file from there (and the part read back is the same)."""
+    import shutil
+
+    import tomlkit
+
+    source, target = tmp_path / "jobs", tmp_path / "elsewhere" / "deeper"
+    source.mkdir()
+    target.mkdir(parents=True)
+    shutil.copy(DEMO_JOB.parent / "housing.dxf", source / "housing.dxf")
+    tables = tomllib.loads(DEMO_JOB.read_text())
+    tables["part"] = {"drawing": "housing.dxf"}
+    job = source / "housing.toml"
+    job.write_text(tomlkit.dumps(tables))
+    changes = [{"pass": "finish OD", "key": "feed", "from": 0.1, "to": 0.08}]
+    written = target / "housing-1.toml"
+    written.write_text(job_text_with(job.read_text(), changes, "deflect tune option 1", "mm", source, target))
+    assert tomllib.loads(written.read_text())["part"]["drawing"] == "../../jobs/housing.dxf"
+    before, after = read_job(job), read_job(written)
+    assert after.section.polygon().tolist() == before.section.polygon().tolist()

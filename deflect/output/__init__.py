@@ -8,10 +8,13 @@
     csv_files.py       CSV tables of a prediction
     figures.py         PNG figures (matplotlib, imported only when a figure is drawn)
     programs.py        the compensated contour as CSV points and ISO 6983 moves
+    dxf_files.py       sections, predictions and compensated contours as DXF drawings
+    rules_report.py    the terminal report and JSON of `deflect rules`, and its summary atop other reports
+    job_files.py       a job file (TOML) written from a drawing (`deflect import`)
     compare_report.py  the terminal report and JSON of `deflect compare`
     html_report.py     the self-contained HTML report (template in templates/report.html)
     html_chapters.py   what each command puts into the HTML report
-    job_file.py        a job file with a remedy's changes written in, comments and layout kept
+    remedy_job.py      a job file with a tune option's changes written in, comments and layout kept
     atomic.py          output files written whole, never over a file deflect did not write
 
 No physics is computed here. May import every room below; only `deflect.cli` imports this room.

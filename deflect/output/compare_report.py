@@ -1,7 +1,7 @@
 """Terminal report and JSON of `deflect compare`: a `compare.Comparison` -> text and a dict. Formatting only.
 
 Side by side, A then B and the change from A to B: the masses, the most material left, the cycle time and the
-peak power; the OD and bore diameters and the wall at the chuck end, middle and free end; each toleranced
+peak power; the OD and ID diameters and the wall at the held end, middle and free end; each toleranced
 feature in or out. Material left is "a side" (on the radius); diameter changes in um on the diameter. Two
 different parts are said to be so at the top.
 """
@@ -22,7 +22,7 @@ def part_words(c: Comparison) -> str:
 
 def headline_rows(c: Comparison) -> list[list[str]]:
     a, b = c.a.prediction, c.b.prediction
-    rows = [("drawn mass", "g", a.nominal_mass_g, b.nominal_mass_g, "{:.3f}", "{:+.3f}"),
+    rows = [("nominal mass", "g", a.nominal_mass_g, b.nominal_mass_g, "{:.3f}", "{:+.3f}"),
             ("predicted mass", "g", a.predicted_mass_g.value, b.predicted_mass_g.value, "{:.3f}", "{:+.3f}"),
             ("mass gain", "g", a.mass_gain_g.value, b.mass_gain_g.value, "{:+.3f}", "{:+.3f}"),
             ("most material left, a side", "um", 1e3 * a.max_deviation_mm.value, 1e3 * b.max_deviation_mm.value,
@@ -42,7 +42,7 @@ def _pair(x: str, y: str) -> str:
 
 
 def surface_grid(c: Comparison, kind: str) -> Grid | None:
-    """A finished OD or bore: the predicted diameter of A and B at the chuck end, middle and free end."""
+    """A finished OD or ID: the predicted diameter of A and B at the held end, middle and free end."""
     sa, sb = _surface(c.a.prediction, kind), _surface(c.b.prediction, kind)
     if sa is None and sb is None:
         return None
@@ -54,15 +54,15 @@ def surface_grid(c: Comparison, kind: str) -> Grid | None:
             continue
         z_a = f"{sa.positions[where][1]:.2f}" if at_a else "-"
         z_b = f"{sb.positions[where][1]:.2f}" if at_b else "-"
-        drawn_a = f"{sa.nominal_diameter_mm[where]:.3f}" if at_a else "-"
-        drawn_b = f"{sb.nominal_diameter_mm[where]:.3f}" if at_b else "-"
+        nominal_a = f"{sa.nominal_diameter_mm[where]:.3f}" if at_a else "-"
+        nominal_b = f"{sb.nominal_diameter_mm[where]:.3f}" if at_b else "-"
         dia_a = sa.predicted_diameter_mm[where] if at_a else None
         dia_b = sb.predicted_diameter_mm[where] if at_b else None
         change = f"{1e3 * (dia_b - dia_a):+.1f}" if at_a and at_b else "-"
-        rows.append([where, _pair(z_a, z_b), _pair(drawn_a, drawn_b), "-" if dia_a is None else f"{dia_a:.3f}",
+        rows.append([where, _pair(z_a, z_b), _pair(nominal_a, nominal_b), "-" if dia_a is None else f"{dia_a:.3f}",
                      "-" if dia_b is None else f"{dia_b:.3f}", change])
-    header = ["where", "z mm", "drawn dia. mm", "A: predicted dia. mm", "B: predicted dia. mm", "B - A um"]
-    notes = ("where A and B differ, z and the drawn size are given as A / B",) if not c.same_part else ()
+    header = ["where", "z mm", "nominal dia. mm", "A: predicted dia. mm", "B: predicted dia. mm", "B - A um"]
+    notes = ("where A and B differ, z and the nominal size are given as A / B",) if not c.same_part else ()
     return column_grid(f"Finished {SURFACE_NAMES[kind]}", header, rows, notes)
 
 
@@ -81,8 +81,8 @@ def wall_grid(c: Comparison) -> Grid | None:
                      _pair(f"{ra['nominal_mm']:.3f}" if ra else "-", f"{rb['nominal_mm']:.3f}" if rb else "-"),
                      f"{ra['predicted_mm']:.3f}" if ra else "-", f"{rb['predicted_mm']:.3f}" if rb else "-",
                      f"{1e3 * (rb['predicted_mm'] - ra['predicted_mm']):+.1f}" if ra and rb else "-"])
-    header = ["where", "z mm", "drawn wall mm", "A: predicted wall mm", "B: predicted wall mm", "B - A um"]
-    return column_grid("Wall thickness (OD against bore)", header, rows)
+    header = ["where", "z mm", "nominal wall mm", "A: predicted wall mm", "B: predicted wall mm", "B - A um"]
+    return column_grid("Wall thickness (OD against ID)", header, rows)
 
 
 def _verdict(check) -> str:
@@ -131,30 +131,30 @@ def side_record(side: Compared) -> dict:
     surfaces = {s.surface: {where: {"z_mm": s.positions[where][1],
                                     "nominal_diameter_mm": s.nominal_diameter_mm[where],
                                     "predicted_diameter_mm": s.predicted_diameter_mm[where],
-                                    "deviation_mm": s.deviation_mm[where]} for where in s.positions}
+                                    "material_left_mm": s.deviation_mm[where]} for where in s.positions}
                 for s in pred.surfaces if s.surface in ("od", "id")}
     return {"job": side.name, "title": pred.title, "material": pred.material,
             "nominal_mass_g": pred.nominal_mass_g, "mass_g": pred.predicted_mass_g.value,
-            "mass_gain_g": pred.mass_gain_g.value, "max_deviation_mm": pred.max_deviation_mm.value,
+            "mass_gain_g": pred.mass_gain_g.value, "most_material_left_mm": pred.max_deviation_mm.value,
             "cycle_time_s": pred.cycle_time_s, "peak_power_kW": pred.peak_power_kw,
             "surfaces": surfaces,
             "wall": {row["where"]: {"z_mm": row["z_mm"], "nominal_mm": row["nominal_mm"],
                                     "predicted_mm": row["predicted_mm"]} for row in pred.wall},
-            "features": [{"feature": f.feature, "meets": f.meets, "margin": f.margin, "unit": f.unit}
-                         for f in side.features],
+            "features": [{"feature": f.feature, "meets": f.meets,
+                          "margin_um": f.margin if f.unit == "um" else 1e3 * f.margin} for f in side.features],
             "meets": all(f.meets for f in side.features) if side.features else None}
 
 
 def change_record(a: dict, b: dict) -> dict:
-    """B - A of every figure both sides have."""
-    change = {key: b[key] - a[key] for key in ("nominal_mass_g", "mass_g", "mass_gain_g", "max_deviation_mm",
+    """B - A of every figure both sides have, under the same keys as theirs."""
+    change = {key: b[key] - a[key] for key in ("nominal_mass_g", "mass_g", "mass_gain_g", "most_material_left_mm",
                                                "cycle_time_s", "peak_power_kW")}
-    change["diameter_mm"] = {kind: {where: b["surfaces"][kind][where]["predicted_diameter_mm"]
-                                    - a["surfaces"][kind][where]["predicted_diameter_mm"]
-                                    for where in a["surfaces"][kind] if where in b["surfaces"].get(kind, {})}
-                             for kind in a["surfaces"] if kind in b["surfaces"]}
-    change["wall_mm"] = {where: b["wall"][where]["predicted_mm"] - a["wall"][where]["predicted_mm"]
-                         for where in a["wall"] if where in b["wall"]}
+    change["surfaces"] = {kind: {where: {"predicted_diameter_mm": b["surfaces"][kind][where]["predicted_diameter_mm"]
+                                         - a["surfaces"][kind][where]["predicted_diameter_mm"]}
+                                 for where in a["surfaces"][kind] if where in b["surfaces"].get(kind, {})}
+                          for kind in a["surfaces"] if kind in b["surfaces"]}
+    change["wall"] = {where: {"predicted_mm": b["wall"][where]["predicted_mm"] - a["wall"][where]["predicted_mm"]}
+                      for where in a["wall"] if where in b["wall"]}
     return change
 
 

@@ -30,11 +30,11 @@ def predict_key_figures(pred, features) -> tuple[KeyFigure, ...]:
     gain_pct = 100.0 * pred.mass_gain_g.value / pred.nominal_mass_g
     figures = [
         KeyFigure("predicted mass", f"{pred.predicted_mass_g.value:.3f} g", ("predicted.mass_g",),
-                  note=f"drawn {pred.nominal_mass_g:.3f} g; {_spread(pred.predicted_mass_g, 'g', 3)}"),
+                  note=f"nominal {pred.nominal_mass_g:.3f} g; {_spread(pred.predicted_mass_g, 'g', 3)}"),
         KeyFigure("mass gain over the drawing", f"{pred.mass_gain_g.value:+.3f} g", ("predicted.mass_gain_g",),
                   note=f"{gain_pct:+.2f} %; {_spread(pred.mass_gain_g, 'g', 3, sign='+')}"),
         KeyFigure("most material left", f"{1e3 * pred.max_deviation_mm.value:.1f} um a side",
-                  ("predicted.max_deviation_mm",), 1000.0, note=_spread(pred.max_deviation_mm, "um", 1, 1000.0)),
+                  ("predicted.most_material_left_mm",), 1000.0, note=_spread(pred.max_deviation_mm, "um", 1, 1000.0)),
         KeyFigure("cycle time (cutting)", f"{pred.cycle_time_s:.1f} s", ("cycle_time_s",),
                   note=f"{len(pred.passes)} passes"),
         KeyFigure("peak cutting power", f"{pred.peak_power_kw:.2f} kW", ("peak_power_kW",),
@@ -46,21 +46,23 @@ def predict_key_figures(pred, features) -> tuple[KeyFigure, ...]:
     return tuple(figures)
 
 
-def predict_chapter(pred, features=()) -> Chapter:
-    """`deflect predict`: the headline and the passes on one sheet, the finished surfaces against the drawing on
-    the next, then the section and the profiles."""
+def predict_chapter(pred, features=(), warnings=(), rules=None) -> Chapter:
+    """`deflect predict`: the headline (and the design rules' findings in brief) and the passes on one sheet,
+    the finished surfaces against the drawing on the next, then the section and the profiles."""
     from deflect.output.figures import deviation_figure, passes_figure, section_figure, svg_text
     from deflect.output.predict_report import predict_blocks
+    from deflect.output.rules_report import rules_summary
 
-    blocks, cautions = split_cautions(predict_blocks(pred, features))
+    blocks, cautions = split_cautions(predict_blocks(pred, features, warnings, rules_summary(rules)))
+    first = 3 if rules_summary(rules) else 2          # the headline, the rules in brief, the passes
     section = Figure("The drawn section (black), as machined at true scale (blue, dashed) and the material left "
                      "drawn magnified along the normals (red); the stock in grey.", svg_text(section_figure(pred)))
-    deviation = Figure("Material left beyond the drawn surface, a side, along the finished OD and bore and across "
+    deviation = Figure("Material left beyond the drawn surface, a side, along the finished OD and ID and across "
                        "the faces (> 0: thicker than drawn).", svg_text(deviation_figure(pred)))
     passes = Figure("Passive force and push-off (part and tool together) at every station of every pass.",
                     svg_text(passes_figure(pred)))
-    sheets = (Sheet("Machining prediction", tuple(blocks[:2])),
-              Sheet("Finished surfaces against the drawing", tuple(blocks[2:])),
+    sheets = (Sheet("Machining prediction", tuple(blocks[:first])),
+              Sheet("Finished surfaces against the drawing", tuple(blocks[first:])),
               Sheet("The section as machined", (section,)),
               Sheet("Material left and push-off along the passes", (deviation, passes)))
     return Chapter("predict", "Prediction", predict_key_figures(pred, features), sheets, cautions)
@@ -95,12 +97,14 @@ def least_margin_figure(best, current) -> tuple[KeyFigure, ...]:
                       verdict="good" if best.least_margin_mm >= 0 else "bad"),)
 
 
-def tune_chapter(result, surface_of: dict, units: str, walls=None) -> Chapter:
-    """`deflect tune`: the remedies on one sheet; the material left as programmed and with option 1 on the next."""
+def tune_chapter(result, surface_of: dict, units: str, walls=None, rules=None) -> Chapter:
+    """`deflect tune`: the remedies on one sheet; the material left as programmed and with option 1 on the next.
+    With `rules`, the design rules' findings in brief at the top (as the terminal report has them)."""
     from deflect.output.figures import plain, profiles_figure, svg_text
+    from deflect.output.rules_report import rules_summary
     from deflect.output.tune_report import tune_blocks
 
-    blocks, cautions = split_cautions(tune_blocks(result, surface_of, units, walls))
+    blocks, cautions = split_cautions(tune_blocks(result, surface_of, units, walls, rules_summary(rules)))
     sheets = [Sheet("Remedies that hold the drawing", tuple(blocks))]
     if result.options:
         named = [("as programmed", result.current.prediction), ("option 1", result.options[0].prediction)]
@@ -151,7 +155,7 @@ def compare_key_figures(c) -> tuple[KeyFigure, ...]:
                   ("a.mass_gain_g", "b.mass_gain_g")),
         KeyFigure("most material left, A -> B", f"{1e3 * a.max_deviation_mm.value:.1f} -> "
                                                 f"{1e3 * b.max_deviation_mm.value:.1f} um a side",
-                  ("a.max_deviation_mm", "b.max_deviation_mm"), 1000.0),
+                  ("a.most_material_left_mm", "b.most_material_left_mm"), 1000.0),
         KeyFigure("cycle time, A -> B", f"{a.cycle_time_s:.1f} s -> {b.cycle_time_s:.1f} s",
                   ("a.cycle_time_s", "b.cycle_time_s"))]
     for side, label in ((c.a, "A"), (c.b, "B")):
@@ -173,3 +177,17 @@ def compare_chapter(c) -> Chapter:
                      svg_text(profiles_figure(named, f"Material left: A {plain(c.a.name)} and B {plain(c.b.name)}")))
     sheets = (Sheet("Two jobs side by side", tuple(blocks)), Sheet("Material left, A and B", (overlay,)))
     return Chapter("compare", "Comparison", compare_key_figures(c), sheets, cautions)
+
+
+def rules_chapter(rules) -> Chapter:
+    """`deflect rules`: the thinnest wall, the findings and what to do about them, on one sheet."""
+    from deflect.output.rules_report import rules_blocks
+
+    figures = [KeyFigure("thinnest wall", f"{rules.thinnest_wall_mm:.3f} mm", ("thinnest_wall_mm",),
+                         note="" if rules.least_wall_mm is None else f"the material's least: {rules.least_wall_mm:g} mm"),
+               KeyFigure("design rules", f"{len(rules.findings)} finding(s)" if rules.findings else "no findings",
+                         verdict="bad" if rules.findings else "good")]
+    left = sum(f.mass_left_g for f in rules.findings)
+    if left:
+        figures.append(KeyFigure("left by the tools' shape", f"{left:.4f} g", ("mass_left_g",)))
+    return Chapter("rules", "Design rules", tuple(figures), (Sheet("Design rules", tuple(rules_blocks(rules))),))

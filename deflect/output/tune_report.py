@@ -41,7 +41,7 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     if change.key == "allowance":
         return f"{name}: leave {after:g} {unit} a side for the finish pass (was {before:g})"
     if change.key == "spring":
-        count = {0: "no spring pass", 1: "one spring pass", 2: "two spring passes"}.get(after, f"{after} spring passes")
+        count = {0: "no spring cut", 1: "one spring cut", 2: "two spring cuts"}.get(after, f"{after} spring cuts")
         return f"{name}: {count}"
     if change.key == "speed":
         return f"{name}: cutting speed {before:g} -> {after:g} m/min (within the machine's power)"
@@ -55,7 +55,7 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     if change.key == "order":
         swapped = [n for n, m in zip(after, before) if n != m]
         if len(swapped) == 2 and {surface_of.get(n) for n in swapped} == {"od", "id"}:
-            first, second = ("the bore" if surface_of[n] == "id" else "the OD" for n in swapped)
+            first, second = ("the ID" if surface_of[n] == "id" else "the OD" for n in swapped)
             return f"finish {first} before {second} ({swapped[0]} before {swapped[1]})"
         return f"passes in the order {', '.join(after)}"
     return f"{name}: {change.key} {before} -> {after}"
@@ -97,34 +97,35 @@ def wall_lines(walls, units: str) -> list[str]:
     lines = ["Design revision (the recommended finishing, offsets centred again for each wall):"]
     for w in walls:
         wall = w.wall
-        where = (f"wall between OD {2 * wall.od_radius_mm / factor:g} and bore {2 * wall.bore_radius_mm / factor:g} "
+        where = (f"wall between OD {2 * wall.od_radius_mm / factor:g} and ID {2 * wall.bore_radius_mm / factor:g} "
                  f"{unit}, z {wall.z_low_mm / factor:g} to {wall.z_high_mm / factor:g}")
         if w.thinnest_mm is None:
-            lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}; {w.note}")
+            lines.append(f"  {where}: nominal {wall.thickness_mm / factor:.3f} {unit}; {w.note}")
             continue
         change = w.thinnest_mm - wall.thickness_mm
-        lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}, thinnest that holds "
+        lines.append(f"  {where}: nominal {wall.thickness_mm / factor:.3f} {unit}, thinnest that holds "
                      f"{w.thinnest_mm / factor:.3f} {unit} ({change / factor:+.3f}): mass "
                      f"{w.mass_g - w.drawn_mass_g:+.3f} g, axial inertia "
-                     f"{w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2:+.4g} kg mm2 against the drawing"
+                     f"{w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2:+.4g} kg mm2 against the nominal"
                      + (f"; {w.note}" if w.note else ""))
     return lines
 
 
-def wall_records(walls, units: str) -> list[dict]:
-    factor = MM_PER_INCH if units == "inch" else 1.0
-    return [{"od": 2 * w.wall.od_radius_mm / factor, "bore": 2 * w.wall.bore_radius_mm / factor,
-             "z": [w.wall.z_low_mm / factor, w.wall.z_high_mm / factor],
-             "drawn_wall": w.wall.thickness_mm / factor,
-             "thinnest_wall_that_holds": None if w.thinnest_mm is None else w.thinnest_mm / factor,
+def wall_records(walls) -> list[dict]:
+    """The design revision's walls, in mm whatever the job's units (the keys say so)."""
+    return [{"od_diameter_mm": 2 * w.wall.od_radius_mm, "id_diameter_mm": 2 * w.wall.bore_radius_mm,
+             "z_mm": [w.wall.z_low_mm, w.wall.z_high_mm], "nominal_wall_mm": w.wall.thickness_mm,
+             "thinnest_wall_that_holds_mm": w.thinnest_mm,
              "mass_change_g": None if w.mass_g is None else w.mass_g - w.drawn_mass_g,
-             "inertia_change_kg_mm2": None if w.inertia_kg_mm2 is None else w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2,
+             "inertia_axial_change_kg_mm2": None if w.inertia_kg_mm2 is None
+             else w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2,
              "note": w.note} for w in walls]
 
 
-def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None) -> str:
+def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None,
+                rules_summary: str = "") -> str:
     """The whole report as the terminal prints it."""
-    return f"Remedies: {title}\n\n" + blocks_text(tune_blocks(result, surface_of, units, walls))
+    return f"Remedies: {title}\n\n" + blocks_text(tune_blocks(result, surface_of, units, walls, rules_summary))
 
 
 def options_table(result: TuneResult) -> Grid:
@@ -135,9 +136,11 @@ def options_table(result: TuneResult) -> Grid:
         margin = "-" if o.least_margin_mm is None else f"{1000 * o.least_margin_mm:+.1f}"
         rows.append([str(rank), "yes" if o.meets else "no", f"{o.cycle_time_s:.1f}", f"{delta:+.1f}",
                      f"{1000 * o.max_deviation_mm:.1f}", margin, f"{o.ra_um:.2f}", f"{o.mass_g:.3f}"])
-    header = ["rank", "meets", "cycle s", "vs now s", "worst dev. um", "least margin um", "Ra um", "mass g"]
-    note = ("worst dev.: the largest deviation from the drawn size a side, either way, wear offsets included; "
-            "least margin: the nearest a diameter or the wall comes to a limit")
+    header = ["rank", "meets", "cycle time s", "vs now s", "most off drawing um", "least margin um", "Ra um",
+              "mass g"]
+    note = ("most off drawing: the largest distance of a finished surface from the drawn one, a side, material "
+            "left or cut below, wear offsets included; least margin: the nearest a diameter or the wall comes "
+            "to a limit")
     return column_grid("Options, ranked", header, rows, (note,))
 
 
@@ -151,11 +154,13 @@ def option_lines(result: TuneResult, surface_of: dict, units: str) -> tuple[str,
     return tuple(lines)
 
 
-def tune_blocks(result: TuneResult, surface_of: dict, units: str, walls=None) -> list[Grid | Text]:
-    """The report's tables and paragraphs: the plan as programmed against the drawing, the options ranked and
-    in words, what limits, the design revision, caution."""
+def tune_blocks(result: TuneResult, surface_of: dict, units: str, walls=None,
+                rules_summary: str = "") -> list[Grid | Text]:
+    """The report's tables and paragraphs: the design rules' findings in brief, the plan as programmed against
+    the drawing, the options ranked and in words, what limits, the design revision, caution."""
     current = result.current
-    blocks = [Text((f"as programmed: cycle time {duration_text(current.cycle_time_s)}, worst deviation "
+    blocks = [*([Text(tuple(rules_summary.splitlines()))] if rules_summary else []),
+              Text((f"as programmed: cycle time {duration_text(current.cycle_time_s)}, most off the drawing "
                     f"{1000 * current.max_deviation_mm:.1f} um a side, "
                     f"{'meets' if current.meets else 'does NOT meet'} the drawing",)),
               feature_table(current.checks) if current.checks else Text(("nothing toleranced",))]
@@ -173,20 +178,29 @@ def tune_blocks(result: TuneResult, surface_of: dict, units: str, walls=None) ->
     return blocks
 
 
+def change_unit(key: str, units: str) -> str | None:
+    """The unit `from` and `to` of a change are in (None: a count, a name, an order)."""
+    length = "in" if units == "inch" else "mm"
+    return {"feed": f"{length}/rev", "allowance": length, "offset": length, "compensate": length,
+            "speed": "m/min"}.get(key)
+
+
 def change_record(change: Change, units: str) -> dict:
     before, after = in_job_units(change, units)
-    return {"pass": change.pass_name, "key": change.key, "from": before, "to": after}
+    return {"pass": change.pass_name, "key": change.key, "from": before, "to": after,
+            "unit": change_unit(change.key, units)}
 
 
 def outcome_record(outcome: Outcome, units: str) -> dict:
     return {"meets": outcome.meets, "cycle_time_s": outcome.cycle_time_s,
-            "max_deviation_mm": outcome.max_deviation_mm, "least_margin_mm": outcome.least_margin_mm,
+            "max_deviation_mm": outcome.max_deviation_mm, "most_off_drawing_mm": outcome.max_deviation_mm,
+            "least_margin_mm": outcome.least_margin_mm,
             "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
             "breaks": outcome.broken,
             "features": [feature_record(c) for c in outcome.checks],
             "predicted": {"mass_g": outcome.prediction.predicted_mass_g.value,
                           "mass_gain_g": outcome.prediction.mass_gain_g.value,
-                          "max_deviation_mm": outcome.prediction.max_deviation_mm.value}}
+                          "most_material_left_mm": outcome.prediction.max_deviation_mm.value}}
 
 
 def tune_payload(result: TuneResult, surface_of: dict, units: str, walls=None) -> dict:
@@ -200,5 +214,5 @@ def tune_payload(result: TuneResult, surface_of: dict, units: str, walls=None) -
     payload = {"current": current, "options": options, "limiting": result.limiting,
                "offset_note": result.offset_note, "plans_predicted": result.evaluations, "units": units}
     if walls is not None:
-        payload["walls"] = wall_records(walls, units)
+        payload["walls"] = wall_records(walls)
     return payload

@@ -9,10 +9,14 @@ each changed value carries a comment saying what it was. Keys:
   convention: a side, along the surface's outward normal);
 * compensate: the pairs `[[z, offset], ...]` set on the pass, as an array written one pair a line;
 * order: the [[pass]] tables put in the new order, each moved table's name marked with where it was.
+A file the job names relative to its own folder (`[part] drawing`) is named again from the new job's folder.
 Formatting only; no physics is computed here.
 """
 
 from __future__ import annotations
+
+import os
+from pathlib import Path
 
 import tomlkit
 
@@ -65,10 +69,30 @@ def _note(table, key: str, text: str) -> None:
     item.comment(f"{own}; {text}" if own else text)
 
 
-def job_text_with(text: str, changes: list[dict], label: str, units: str) -> str:
+# keys that name a file, as (table, key), read relative to the job file's folder
+FILE_KEYS = (("part", "drawing"),)
+
+
+def _relocate(document, source_folder: Path, target_folder: Path, label: str) -> None:
+    """Every file a key names relative to the job's folder, named again relative to the written job's folder."""
+    for table_name, key in FILE_KEYS:
+        table = document.get(table_name)
+        if table is None or key not in table or Path(str(table[key])).is_absolute():
+            continue
+        target = os.path.relpath(source_folder / str(table[key]), target_folder)
+        if target != str(table[key]):
+            _set(table, key, Path(target).as_posix(), f"{label}: the same file, seen from this job's folder")
+
+
+def job_text_with(text: str, changes: list[dict], label: str, units: str, source_folder: Path | None = None,
+                  target_folder: Path | None = None) -> str:
     """The job's text with the changes written in (values in the job's `units`, "mm" or "inch"); `label` names
-    where they come from in each comment (e.g. "deflect tune option 1")."""
+    where they come from in each comment (e.g. "deflect tune option 1"). Written into another folder than the
+    job's (`target_folder`, the job's being `source_folder`), a file the job names relative to its folder (a
+    `[part] drawing`) is named again relative to the new one."""
     document = tomlkit.parse(text)
+    if source_folder is not None and target_folder is not None:
+        _relocate(document, Path(source_folder).resolve(), Path(target_folder).resolve(), label)
     passes = document.get("pass")
     if passes is None:
         raise InputError("pass", "the job has no [[pass]] tables to change")
