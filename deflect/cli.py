@@ -678,7 +678,7 @@ def report(job_file, html_file, as_json, quiet):
 
     html_target(html_file)
     pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
-    chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules)]
+    chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
                "rules": rules_payload(rules), "clamp": None, "tune": None}
     remarks = []

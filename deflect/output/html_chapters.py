@@ -179,8 +179,9 @@ def compare_chapter(c) -> Chapter:
     return Chapter("compare", "Comparison", compare_key_figures(c), sheets, cautions)
 
 
-def rules_chapter(rules) -> Chapter:
-    """`deflect rules`: the thinnest wall, the findings and what to do about them, on one sheet."""
+def rules_chapter(rules, always_a_sheet: bool = True) -> Chapter:
+    """`deflect rules`: the thinnest wall, the findings and what to do about them, on one sheet (left out, when
+    not `always_a_sheet`, if there is nothing but the thinnest wall to say: the key figures say it)."""
     from deflect.output.rules_report import rules_blocks
 
     figures = [KeyFigure("thinnest wall", f"{rules.thinnest_wall_mm:.3f} mm", ("thinnest_wall_mm",),
@@ -190,4 +191,6 @@ def rules_chapter(rules) -> Chapter:
     left = sum(f.mass_left_g for f in rules.findings)
     if left:
         figures.append(KeyFigure("left by the tools' shape", f"{left:.4f} g", ("mass_left_g",)))
-    return Chapter("rules", "Design rules", tuple(figures), (Sheet("Design rules", tuple(rules_blocks(rules))),))
+    said = always_a_sheet or rules.findings or rules.notes
+    sheets = (Sheet("Design rules", tuple(rules_blocks(rules))),) if said else ()
+    return Chapter("rules", "Design rules", tuple(figures), sheets)

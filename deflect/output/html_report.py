@@ -103,10 +103,15 @@ def split_cautions(blocks: list) -> tuple[list, tuple[str, ...]]:
     kept, cautions = [], []
     for block in blocks:
         if isinstance(block, Text) and block.kind == "caution":
-            cautions += [" ".join(line.split()).removeprefix("Caution: ") for line in block.lines]
+            cautions += [sentence(" ".join(line.split()).removeprefix("Caution: ")) for line in block.lines]
         else:
             kept.append(block)
     return kept, tuple(cautions)
+
+
+def sentence(text: str) -> str:
+    """The text with a capital first letter."""
+    return text[:1].upper() + text[1:]
 
 
 def report_date() -> str:
@@ -138,10 +143,7 @@ def value_text(value) -> str:
 def input_tables(source: JobSource) -> list[Grid]:
     """The job's tables as written: a table per [table] (key and value), a table with a row per entry for each
     [[array of tables]] (a column per key)."""
-    try:
-        data = tomllib.loads(source.text)
-    except tomllib.TOMLDecodeError:
-        return []
+    data = tomllib.loads(source.text)          # a job deflect has read already
     grids = []
     for name, value in data.items():
         if isinstance(value, dict):
