@@ -237,3 +237,19 @@ def test_write_whole_writes_an_ordinary_file(tmp_path):
     target = atomic.write_whole(tmp_path / "r.html", "text", "--html")
     assert target.read_text() == "text"
     assert target.stat().st_mode & 0o777 == 0o666 & ~atomic._umask()     # as any new file, not private
+
+
+# ---------------------------------------------------------------------------------------------------
+# the commands refuse an HTML file they cannot write, before any work
+
+@pytest.mark.parametrize("command", ["predict", "report", "clamp", "tune", "rules"])
+def test_an_html_file_that_cannot_be_written_is_refused_before_any_work(tmp_path, command):
+    from conftest import EXAMPLES, run_deflect
+
+    users = tmp_path / "notes.html"
+    users.write_text("my notes")
+    for target, words in ((tmp_path / "missing" / "r.html", "does not exist"), (users, "deflect did not write it")):
+        code, out, err = run_deflect([command, EXAMPLES / "ring.toml", "--html", target])
+        assert code == 2 and err.startswith("error: --html: ") and words in err, err
+        assert "machined:" not in err and "Traceback" not in err
+    assert users.read_text() == "my notes" and sorted(p.name for p in tmp_path.iterdir()) == ["notes.html"]

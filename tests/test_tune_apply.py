@@ -264,3 +264,14 @@ def test_a_drawing_named_by_the_job_is_found_from_the_new_folder(tmp_path):
     assert tomllib.loads(written.read_text())["part"]["drawing"] == "../../jobs/housing.dxf"
     before, after = read_job(job), read_job(written)
     assert after.section.polygon().tolist() == before.section.polygon().tolist()
+
+
+def test_a_job_written_twice_stays_valid():
+    """An option written into a job that has a compensated contour already (written across lines): the comment
+    that says what it was stays on one line."""
+    text = "\n".join(["[[pass]]", 'name = "finish OD"', "feed = 0.1", "compensate = [", "  [40.0, -0.01],",
+                      "  [6.0, 0.0],", "]   # from the first article", ""])
+    changes = [{"pass": "finish OD", "key": "compensate", "from": None, "to": [[40.0, -0.012], [6.0, -0.001]]}]
+    written = job_text_with(text, changes, "deflect tune option 2", "mm")
+    assert tomllib.loads(written)["pass"][0]["compensate"] == [[40.0, -0.012], [6.0, -0.001]]
+    assert "# from the first article; was 2 pairs (deflect tune option 2)" in written

@@ -1,7 +1,7 @@
 """What each command puts into the HTML report: its results -> a `html_report.Chapter`. Formatting only.
 
 One function per command. Each takes the same results the command prints (and the same blocks its terminal
-report is made of: `predict_blocks`, `tune_blocks`, `clamp_blocks`), adds its figures as SVG and its key figures
+report is made of: `predict_blocks`, `rules_blocks`, `clamp_blocks`, `tune_blocks`, `compare_blocks`), adds its figures as SVG and its key figures
 with their place in the command's JSON, and lays them out in sheets (one printed page each, for the shipped
 jobs). A new command adds one function here and passes its chapter to `html_report.render`.
 """
@@ -9,6 +9,7 @@ jobs). A new command adds one function here and passes its chapter to `html_repo
 from __future__ import annotations
 
 from deflect.output.html_report import Chapter, Figure, KeyFigure, Sheet, split_cautions
+from deflect.output.tables import Grid
 
 
 def _spread(value, unit: str, digits: int, scale: float = 1.0, sign: str = "") -> str:
@@ -50,11 +51,12 @@ def predict_chapter(pred, features=(), warnings=(), rules=None) -> Chapter:
     """`deflect predict`: the headline (and the design rules' findings in brief) and the passes on one sheet,
     the finished surfaces against the drawing on the next, then the section and the profiles."""
     from deflect.output.figures import deviation_figure, passes_figure, section_figure, svg_text
-    from deflect.output.predict_report import predict_blocks
+    from deflect.output.predict_report import PASSES_TITLE, predict_blocks
     from deflect.output.rules_report import rules_summary
 
     blocks, cautions = split_cautions(predict_blocks(pred, features, warnings, rules_summary(rules)))
-    first = 3 if rules_summary(rules) else 2          # the headline, the rules in brief, the passes
+    # the first sheet: the headline (and the rules in brief) down to the passes
+    first = next((k + 1 for k, b in enumerate(blocks) if isinstance(b, Grid) and b.title == PASSES_TITLE), 1)
     section = Figure("The drawn section (black), as machined at true scale (blue, dashed) and the material left "
                      "drawn magnified along the normals (red); the stock in grey.", svg_text(section_figure(pred)))
     deviation = Figure("Material left beyond the drawn surface, a side, along the finished OD and ID and across "

@@ -63,11 +63,14 @@ def pass_row(p: PassResult) -> list[str]:
             f"{p.peak_power_kw:.2f}", f"{p.cycle_time_s:.1f}", f"{p.mass_left_g:.3f}", str(rubbing)]
 
 
+PASSES_TITLE = "Passes, in order"
+
+
 def pass_table(passes: list[PassResult]) -> Grid:
     header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "max push-off um",
               "peak passive force N", "peak power kW", "time s", "mass left g", "rubbing"]
     note = "rubbing: stations where the wall gives way so far that the tool barely cuts"
-    return column_grid("Passes, in order", header, [pass_row(p) for p in passes], (note,))
+    return column_grid(PASSES_TITLE, header, [pass_row(p) for p in passes], (note,))
 
 
 def surface_table(check: SurfaceCheck) -> Grid:

@@ -27,8 +27,13 @@ PASS_KEYS = ("feed", "allowance", "spring", "speed", "tool", "offset", "compensa
 
 
 def _was(item) -> str:
-    """What a value was, as the file wrote it."""
-    return "not set" if item is None else item.as_string().strip()
+    """What a value was, as the file wrote it, on one line (a list of pairs by its length)."""
+    if item is None:
+        return "not set"
+    value = item.unwrap()
+    if isinstance(value, list) and value and all(isinstance(v, list) for v in value):
+        return f"{len(value)} pairs"
+    return " ".join(item.as_string().split())
 
 
 def _pass_table(passes, name: str):
