@@ -177,7 +177,8 @@ def run_prediction(job_file: str, show_progress: bool):
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
         tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
-        warn(job.warnings + process.warnings, job_file)
+        dynamics = dynamics_from_job(job.tables)
+        warn(job.warnings + process.warnings + list(dynamics.warnings), job_file)
 
         def progress(pass_name, cut):
             if show_progress:
@@ -185,8 +186,7 @@ def run_prediction(job_file: str, show_progress: bool):
 
         pred = simulate(job, process, progress=progress)
         # the finishing passes' chatter, checked where each meets the most compliant wall
-        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred,
-                                                                          dynamics_from_job(job.tables)))
+        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics))
         return pred, (check_features(pred, process, tolerances) if tolerances else [])
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file

@@ -37,14 +37,34 @@ import numpy as np
 from deflect.errors import InputError, ModelError
 from deflect.geometry.section import POLYGON_CHORD_MM
 from deflect.job.dynamics import Dynamics
-from deflect.machining.simulate import (CONTACT_PATCH, ELEMENT_MM, HARMONIC_TOLERANCE, STATION_SPACING_MM,
-                                        SimulationSettings, behind_and_lead_in, contact_point, cut_to_target,
-                                        key_indices, laid_out, met_depth, parallel_map, section_of_polygon)
+from deflect.machining.simulate import (
+    CONTACT_PATCH,
+    ELEMENT_MM,
+    HARMONIC_TOLERANCE,
+    STATION_SPACING_MM,
+    SimulationSettings,
+    behind_and_lead_in,
+    contact_point,
+    cut_to_target,
+    key_indices,
+    laid_out,
+    met_depth,
+    parallel_map,
+    section_of_polygon,
+)
 from deflect.mechanics.compliance import WallModel
 from deflect.mechanics.cutting import spindle_speed_rpm
 from deflect.mechanics.modes import Mode, PointResponse, WallDynamics, bar_frf, bar_natural_hz
-from deflect.mechanics.stability import (chip_modulation, complement, frequency_grid, limit_at_speeds,
-                                         lobe_branches, merged, oriented, unstable_speeds)
+from deflect.mechanics.stability import (
+    chip_modulation,
+    complement,
+    frequency_grid,
+    limit_at_speeds,
+    lobe_branches,
+    merged,
+    oriented,
+    unstable_speeds,
+)
 
 KEY_STATIONS = 6                 # stations per cut where the modes are computed (clustered towards the ends),
                                  # and the deepest (`deepest_station`)
@@ -80,7 +100,7 @@ class StationChatter:
     """The stability of one key station of a cut."""
 
     cut: int                     # index of the cut within its pass
-    r_mm: float                  # where the tool bears
+    r_mm: float                  # where the tool is (the target point of the cut; it bears half a patch behind)
     z_mm: float
     depth_mm: float              # depth of cut met there
     speed_rpm: float             # spindle speed there
@@ -186,7 +206,8 @@ def tap_corrections(finished: list[Mode], dynamics: Dynamics) -> tuple[Correctio
         owner[key] = f"{measured.frequency_hz:g} Hz ({measured.key})"
         scale = measured.frequency_hz / mode.frequency_hz
         if not TAP_MATCH_BAND[0] <= scale <= TAP_MATCH_BAND[1]:
-            warnings.append(f"{measured.key}: the measured {measured.frequency_hz:g} Hz lies {100 * (scale - 1):+.0f} % "
+            warnings.append(f"{measured.key}: the measured {measured.frequency_hz:g} Hz lies "
+                            f"{100 * (scale - 1):+.0f} % "
                             f"from the model's nearest mode (n = {mode.n}, m = {mode.m}, {mode.frequency_hz:.0f} Hz): "
                             "check the holding ([[held]] boxes) and the measurement")
         by_mode[key] = (scale, measured.damping)
@@ -402,8 +423,8 @@ def pass_study(job, process, stations, responses, corrections: Corrections, spee
     by_pass: dict[str, list] = {}
     for (p, j, path, _, met, k), response in zip(stations, responses):
         cut = cut_response(job, process, p, response, corrections, feed_sign_at(path, k))
-        r, z = response.r_mm, response.z_mm
-        rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * path.points_rz[k, 0], process.machine.max_rpm))
+        r, z = map(float, path.points_rz[k])   # the tool's position (its contact lies half a patch behind)
+        rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * r, process.machine.max_rpm))
         station = evaluate_station(cut, j, r, z, float(met[k]), rpm, speed_range)
         by_pass.setdefault(p.name, []).append((p, station, cut))
     out = []
@@ -484,7 +505,8 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
         response = memo[name]
         cut = cut_response(job, process, p, response, corrections, feed_sign_at(path, k))
         rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * path.points_rz[k, 0], process.machine.max_rpm))
-        station = evaluate_station(cut, 0, response.r_mm, response.z_mm, depth, rpm, speed_range)
+        r, z = map(float, path.points_rz[k])
+        station = evaluate_station(cut, 0, r, z, depth, rpm, speed_range)
         if not station.stable:
             warnings.append(chatter_warning(p.name, station))
     return warnings
