@@ -19,7 +19,7 @@ Damping: the job's ratio for every mode, the default from memory where the job g
 replace the model's: each measured frequency is matched to the nearest mode of the finished part as held
 (n, m), which takes the measured damping; its frequency is scaled by measured / modelled, and the mode of the
 same (n, m) at every station of the in-process part takes the same scale and damping (its shape and modal mass
-stay the model's). Its static compliance is kept in the residual.
+stay the model's, so its stiffness follows the frequency; the residual of the modes left out stays as modelled).
 
 What is left out (said in the report): the static push-off's micrometres in the depth (the depth met is
 used); Kienzle's speed factor away from the pass's cutting speed (the force constants are those of the pass's
@@ -68,7 +68,7 @@ from deflect.mechanics.stability import (
 
 KEY_STATIONS = 6                 # stations per cut where the modes are computed (clustered towards the ends),
                                  # and the deepest (`deepest_station`)
-DEEPEST_SHARE = 0.01
+DEEPEST_SHARE = 0.01             # the deepest stretch: within 1 % of the cut's greatest depth
 FULL_DEPTH_SHARE = 0.5           # stations checked: where the depth met is at least this share of the cut's median
 SPEED_FLOOR_SHARE = 0.05         # speeds scanned from this share of the spindle limit (or half the pass's speed)
 SHALLOWEST_MM = 0.005            # the depth scan for the limit starts here
@@ -460,6 +460,9 @@ def chatter_study(job, process, dynamics: Dynamics, pass_name: str | None = None
     flat = [(p, j, path, part, met, int(k)) for p, j, path, part, met, keys in stations for k in keys]
     speed_range = speed_range_rpm(process, passes)
     studied = pass_study(job, process, flat, responses, corrections, speed_range, with_lobes)
+    checked = {p.name for p in studied}
+    warnings += [f"pass '{p.name}' meets no stock to cut on its own (a spring pass of micrometres): not checked"
+                 for p in passes if p.name not in checked]
     mesh = finished.wall.geometry.mesh
     return ChatterStudy(title=job.title, material=job.material.name, damping=dynamics.damping,
                         damping_from_memory=dynamics.damping_from_memory, measured=len(dynamics.measured),
