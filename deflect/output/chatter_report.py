@@ -1,7 +1,8 @@
 """Terminal report and JSON of `deflect chatter`: a `chatter.ChatterStudy` -> text and the dict of the contract.
 
 Formatting only; the figures come from `deflect.machining.chatter`. Depths in mm (a side), spindle speeds in
-1/min, frequencies in Hz, damping in % of critical.
+1/min, frequencies in Hz, damping in % of critical on the screen and as a ratio in the JSON. The keys are
+listed with their meanings on the interface page (INTERFACE.md).
 """
 
 from __future__ import annotations
@@ -66,7 +67,7 @@ def modes_table(study: ChatterStudy) -> str:
 
 
 def passes_table(study: ChatterStudy) -> str:
-    header = ["pass", "verdict", "depth mm", "speed /min", "limit depth mm", "margin", "worst at r, z mm",
+    header = ["pass", "verdict", "depth mm", "spindle speed 1/min", "limit depth mm", "margin", "worst at r, z mm",
               "chatter Hz"]
     rows = []
     for p in study.passes:
@@ -105,22 +106,24 @@ def chatter_report(study: ChatterStudy) -> str:
 
 
 def station_record(s: StationChatter) -> dict:
-    return {"r_mm": s.r_mm, "z_mm": s.z_mm, "depth_mm": s.depth_mm, "speed_rpm": s.speed_rpm, "stable": s.stable,
-            "limit_depth_mm": s.limit_depth_mm, "limit_depth_at_least": s.limit_depth_at_least,
+    return {"r_mm": s.r_mm, "z_mm": s.z_mm, "depth_mm": s.depth_mm, "spindle_speed_rpm": s.speed_rpm,
+            "stable": s.stable, "limit_depth_mm": s.limit_depth_mm, "limit_depth_at_least": s.limit_depth_at_least,
             "deeper_stable_mm": s.deeper_stable_mm,
             "margin": _finite(s.limit_coefficient_n_per_mm2 / s.coefficient_n_per_mm2),
             "chatter_frequency_hz": _finite(s.chatter_frequency_hz),
-            "dynamic_coefficient_n_per_mm2": s.coefficient_n_per_mm2,
-            "limit_coefficient_n_per_mm2": _finite(s.limit_coefficient_n_per_mm2)}
+            "dynamic_coefficient_N_per_mm2": s.coefficient_n_per_mm2,
+            "limit_coefficient_N_per_mm2": _finite(s.limit_coefficient_n_per_mm2)}
 
 
 def pass_record(p: PassChatter) -> dict:
+    """A pass at its worst station: the keys of the contract first (`speed_rpm` kept beside the one name)."""
     w = p.worst
     return {"name": p.name, "stable": p.stable, "depth_mm": w.depth_mm, "limit_depth_mm": w.limit_depth_mm,
             "speed_rpm": w.speed_rpm, "stable_speeds_rpm": [[lo, hi] for lo, hi in p.stable_speeds_rpm],
-            "surface": p.surface, "tool": p.tool, "feed_mm": p.feed_mm, "speed_m_min": p.speed_m_min,
-            "limit_depth_at_least": w.limit_depth_at_least, "deeper_stable_mm": w.deeper_stable_mm,
-            "worst_station": station_record(w), "stations": [station_record(s) for s in p.stations]}
+            "spindle_speed_rpm": w.speed_rpm, "surface": p.surface, "tool": p.tool, "feed_mm_per_rev": p.feed_mm,
+            "speed_m_min": p.speed_m_min, "limit_depth_at_least": w.limit_depth_at_least,
+            "deeper_stable_mm": w.deeper_stable_mm, "worst_station": station_record(w),
+            "stations": [station_record(s) for s in p.stations]}
 
 
 def chatter_payload(study: ChatterStudy) -> dict:
