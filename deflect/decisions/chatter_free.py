@@ -36,7 +36,7 @@ def marked_for_chatter(job, result: TuneResult) -> TuneResult:
             return outcome
         if counts:
             return replace(outcome, broken=outcome.broken + found)
-        return replace(outcome, notes=outcome.notes + tuple(f"{text} (with the recalled damping; a tap test in "
+        return replace(outcome, notes=outcome.notes + tuple(f"{text} (with the recalled damping, a tap test in "
                                                             "[dynamics] makes it a limit)" for text in found))
 
     # the ranking of `tune.searched`

@@ -519,5 +519,5 @@ def chatter_warning(pass_name: str, station: StationChatter) -> str:
     margin = station.limit_coefficient_n_per_mm2 / station.coefficient_n_per_mm2
     return (f"pass '{pass_name}' is predicted to chatter where the wall gives most (r {station.r_mm:.1f}, "
             f"z {station.z_mm:.1f} mm): {station.depth_mm:.3g} mm deep at {station.speed_rpm:.0f} /min, stable only "
-            f"below {station.limit_depth_mm:.3g} mm there (margin {margin:.2f}); `deflect chatter` gives its stable "
+            f"below {station.limit_depth_mm:.3g} mm there (margin {margin:.2f}), `deflect chatter` gives its stable "
             "speeds")
