@@ -171,11 +171,15 @@ def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
     verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
     findings and the job."""
+    from dataclasses import replace
+
     from deflect.decisions.conformance import verdict
     from deflect.decisions.rules import check_rules
+    from deflect.job.dynamics import dynamics_from_job
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
+    from deflect.machining.chatter import prediction_warnings
     from deflect.machining.simulate import simulate
     from deflect.machining.targets import process_from_job
 
@@ -184,13 +188,16 @@ def run_prediction(job_file: str, show_progress: bool):
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
         tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
-        warn(job.warnings + process.warnings, job_file)
+        dynamics = dynamics_from_job(job.tables)
+        warn(job.warnings + process.warnings + list(dynamics.warnings), job_file)
 
         def progress(pass_name, cut):
             if show_progress:
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
+        # the finishing passes' chatter, checked where each meets the most compliant wall
+        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics))
         return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -407,13 +414,69 @@ def tune(job_file, as_json, contour_dir, design, quiet, html_file, apply_number,
             click.echo(f"wrote {path}")
 
 
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--pass", "pass_name", default=None, metavar="NAME",
+              help="Check this pass only (any pass); by default every finishing pass (allowance 0).")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--figures", "figures_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+def chatter(job_file, pass_name, as_json, figures_dir, html_file):
+    """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
+
+    The wall's modes as held and as cut (the stock still ahead of the tool), the regenerative stability of each
+    pass at key stations with its worst station, the largest stable depth at its speed and the spindle-speed
+    windows where its depth is stable. Damping from [dynamics] (or a recalled default); a tap test's modes
+    replace the model's. Estimates: confirm with a tap test and a trial cut; the machine's limits come first.
+    """
+    from deflect.job.dynamics import dynamics_from_job
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.reader import read_job
+    from deflect.machining.chatter import chatter_study
+    from deflect.machining.targets import process_from_job
+    from deflect.output.chatter_report import chatter_payload, chatter_report
+
+    html_target(html_file)
+    job = read_job(job_file)
+    try:
+        dynamics = dynamics_from_job(job.tables)
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        warn(job.warnings + process.warnings, job_file)
+        study = chatter_study(job, process, dynamics, pass_name,
+                              with_lobes=figures_dir is not None or html_file is not None)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    written = []
+    if figures_dir:
+        from deflect.output.chatter_figures import chatter_figures
+        try:
+            written = chatter_figures(study, figures_dir)
+        except OSError as exc:
+            raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+    if html_file:
+        from deflect.output.html_chapters import chatter_chapter
+        written.append(write_html(html_file, study.title, "chatter check", [job_file], [chatter_chapter(study)]))
+    if as_json:
+        emit_json(chatter_payload(study))
+    else:
+        click.echo(chatter_report(study))
+        for path in written:
+            click.echo(f"wrote {path}")
+
+
 def searched_with_progress(job, hidden: bool):
-    """The remedy search (`deflect.decisions.tune`) with a progress bar on stderr."""
+    """The remedy search (`deflect.decisions.tune`) with a progress bar on stderr, its options marked for
+    chatter (`deflect.decisions.chatter_free`: a limit with a given damping, else a note)."""
+    from deflect.decisions.chatter_free import marked_for_chatter
     from deflect.decisions.tune import tune as search_remedies
 
     with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
                            show_eta=False, hidden=hidden) as bar:
         result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+        result = marked_for_chatter(job, result)
         bar.update(SEARCH_STEPS_SHOWN - bar.pos)
     return result
 
@@ -608,6 +671,15 @@ def write_clamp_html(html_file, job_file: str, study):
     return write_html(html_file, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
 
 
+def chatter_of(job):
+    """The chatter study of every finishing pass, with its lobes (`deflect.machining.chatter`)."""
+    from deflect.job.dynamics import dynamics_from_job
+    from deflect.machining.chatter import chatter_study
+    from deflect.machining.targets import process_from_job
+
+    return chatter_study(job, process_from_job(job), dynamics_from_job(job.tables), None, with_lobes=True)
+
+
 def check_apply(job_file: str, number, out_file) -> None:
     """Before the search: --apply and --out come together, N counts from 1, the new job can be written and is
     not the job itself."""
@@ -658,20 +730,23 @@ def apply_option(job_file: str, job, result, number: int, out_file):
 @click.option("--html", "html_file", type=click.Path(dir_okay=False), required=True,
               help="The HTML file to write: one self-contained page that prints to clean A4 or Letter pages.")
 @click.option("--json", "as_json", is_flag=True,
-              help="Also print one JSON object: each part's JSON under its command's name (predict, clamp, tune).")
+              help="Also print one JSON object: each part's JSON under its command's name (predict, rules, clamp, "
+                   "chatter, tune).")
 @click.option("--quiet", is_flag=True, help="No progress on stderr.")
 def report(job_file, html_file, as_json, quiet):
     """One report of JOB_FILE to hand over, as a single HTML file.
 
-    The prediction; with [holding], the work holding; with [tolerance], the remedies ranked by cycle time. Key
-    figures and cautions first, then the inputs, every table and figure of those commands, and the job file as
-    given; the tool's version and the date. No scripts and nothing fetched: it reads and prints anywhere.
+    The prediction and the design rules; with [holding], the work holding; with [dynamics], the chatter check;
+    with [tolerance], the remedies ranked by cycle time. Key figures and cautions first, then the inputs, every
+    table and figure of those commands, and the job file as given; the tool's version and the date. No scripts
+    and nothing fetched: it reads and prints anywhere.
     """
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.grip import clamp_study
     from deflect.machining.targets import process_from_job
+    from deflect.output.chatter_report import chatter_payload
     from deflect.output.clamp_report import clamp_payload
-    from deflect.output.html_chapters import predict_chapter, rules_chapter, tune_chapter
+    from deflect.output.html_chapters import chatter_chapter, predict_chapter, rules_chapter, tune_chapter
     from deflect.output.predict_json import prediction_payload
     from deflect.output.rules_report import rules_payload
     from deflect.output.tune_report import tune_payload
@@ -680,7 +755,7 @@ def report(job_file, html_file, as_json, quiet):
     pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
     chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
-               "rules": rules_payload(rules), "clamp": None, "tune": None}
+               "rules": rules_payload(rules), "clamp": None, "chatter": None, "tune": None}
     remarks = []
     try:
         if "holding" in job.tables:
@@ -690,6 +765,13 @@ def report(job_file, html_file, as_json, quiet):
         else:
             remarks.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no "
                            "work-holding study is made.")
+        if "dynamics" in job.tables:
+            study = chatter_of(job)
+            chapters.append(chatter_chapter(study))
+            payload["chatter"] = chatter_payload(study)
+        else:
+            remarks.append("No [dynamics] in the job: the chatter check (which needs the wall's damping) is left out; "
+                           "deflect chatter JOB --html FILE runs it with a recalled damping.")
         if "tolerance" in job.tables:
             require_cutting_constants(job.material)
             surface_of = {p.name: p.surface for p in process_from_job(job).passes}

@@ -242,7 +242,7 @@ def test_write_whole_writes_an_ordinary_file(tmp_path):
 # ---------------------------------------------------------------------------------------------------
 # the commands refuse an HTML file they cannot write, before any work
 
-@pytest.mark.parametrize("command", ["predict", "report", "clamp", "tune", "rules"])
+@pytest.mark.parametrize("command", ["predict", "report", "clamp", "tune", "rules", "chatter"])
 def test_an_html_file_that_cannot_be_written_is_refused_before_any_work(tmp_path, command):
     from conftest import EXAMPLES, run_deflect
 

@@ -1,11 +1,13 @@
 """The HTML reports in a real browser (headless Chromium through Playwright; tests/browser.py).
 
 For the report of each shipped example job (`deflect report JOB --html --json`; the demo's from
-tests/conftest.py) and for the comparison of the demo with its option 1:
+tests/conftest.py; the ring's with a [dynamics] table added, so that its report has the chatter check) and for the
+comparison of the demo with its option 1:
 * the page loads with no console error, no page error, no failed request and no request for anything but the
   file itself;
 * every figure is there, decoded and drawn with a size: three for the prediction, one for the released shape
-  when the job has [holding], one for the remedies when the search found an option, one for a comparison;
+  when the job has [holding], one for the remedies when the search found an option, the lobes of each pass and
+  the mode shapes with [dynamics], one for a comparison;
 * the key figures shown equal the JSON's values to their printed digits;
 * a screenshot of the first screen is taken (a PNG of the window's size);
 * printed to PDF on A4 and on Letter, nothing is wider than the paper (the browser would shrink the page),
@@ -28,6 +30,8 @@ import browser  # noqa: E402
 from conftest import EXAMPLES, run_deflect  # noqa: E402
 
 SHIPPED = ["housing", "ti-sleeve", "steel-bushing", "ring"]
+WITH_DYNAMICS = "ring"                 # its report is made with this table added (the examples have none)
+DYNAMICS = "\n[dynamics]\ndamping = 0.02\n"
 PAPERS = ("A4", "Letter")
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 FITS_MM = 0.5               # a sheet this close to the printable height still counts as fitting (rounding)
@@ -47,16 +51,22 @@ def example_reports(tmp_path_factory, demo_report) -> dict:
     reports = {"housing": demo_report}
     for name in SHIPPED[1:]:
         html = folder / f"{name}.html"
-        code, out, err = run_deflect(["report", EXAMPLES / f"{name}.toml", "--html", html, "--json"])
+        job = EXAMPLES / f"{name}.toml"
+        if name == WITH_DYNAMICS:          # the same job with [dynamics]: the report then has the chatter check
+            job = folder / job.name
+            job.write_text((EXAMPLES / f"{name}.toml").read_text() + DYNAMICS)
+        code, out, err = run_deflect(["report", job, "--html", html, "--json"])
         assert code == 0, err
         reports[name] = (html, json.loads(out))
     return reports
 
 
 def expected_figures(payload: dict) -> int:
-    clamp = payload.get("clamp")
-    tune = payload.get("tune")
-    return (3 + (1 if clamp and clamp["roundness_um"] else 0) + (1 if tune and tune["options"] else 0))
+    """The prediction's three, the released shape with [holding], the remedies' with an option, the chatter
+    check's lobes of each pass and its mode shapes with [dynamics]."""
+    clamp, tune, chatter = payload.get("clamp"), payload.get("tune"), payload.get("chatter")
+    return (3 + (1 if clamp and clamp["roundness_um"] else 0) + (1 if tune and tune["options"] else 0)
+            + (len(chatter["passes"]) + (1 if chatter["modes"] else 0) if chatter else 0))
 
 
 def png_size(data: bytes) -> tuple[int, int]:

@@ -196,3 +196,40 @@ def rules_chapter(rules, always_a_sheet: bool = True) -> Chapter:
     said = always_a_sheet or rules.findings or rules.notes
     sheets = (Sheet("Design rules", tuple(rules_blocks(rules))),) if said else ()
     return Chapter("rules", "Design rules", tuple(figures), sheets)
+
+
+def chatter_key_figures(study) -> tuple[KeyFigure, ...]:
+    chattering = [p.name for p in study.passes if not p.stable]
+    figures = []
+    if study.modes:
+        lowest = study.modes[0]
+        figures.append(KeyFigure("lowest mode", f"{lowest.frequency_hz:.0f} Hz", ("modes.0.frequency_hz",),
+                                 note=f"n = {lowest.n} waves around, m = {lowest.m}"))
+    figures += [KeyFigure("passes that chatter", f"{len(chattering)} of {len(study.passes)}",
+                          note=", ".join(chattering) if chattering else "every pass checked is stable",
+                          verdict="bad" if chattering else "good"),
+                KeyFigure("modal damping", f"{100 * study.damping:.2g} %", ("damping",), 100.0,
+                          note="recalled, not measured" if study.damping_from_memory else "from [dynamics]")]
+    return tuple(figures)
+
+
+def chatter_chapter(study) -> Chapter:
+    """`deflect chatter`: the modes and each pass's stability on one sheet, each pass's lobes (when the study
+    drew them) on a sheet of its own, the mode shapes on the last."""
+    from deflect.output.chatter_figures import lobes_figure, mode_shapes_figure
+    from deflect.output.chatter_report import chatter_blocks
+    from deflect.output.figures import svg_text
+
+    blocks, cautions = split_cautions(chatter_blocks(study))
+    sheets = [Sheet("Chatter: the wall's modes and the passes' stability", tuple(blocks))]
+    for p in study.passes:
+        if p.lobes is not None:
+            sheets.append(Sheet(f"Stability lobes: {p.name}", (Figure(
+                "Where the pass chatters (red) over spindle speed and depth of cut at its worst station, the speeds "
+                "where all its stations are stable at its depth (green), and the pass itself.",
+                svg_text(lobes_figure(p, study.title))),)))
+    if study.shapes:
+        sheets.append(Sheet("The first modes of the finished part", (Figure(
+            "The first modes as held: the mid-surface at rest (grey) and deflected (blue, exaggerated), and the "
+            "waves around the part.", svg_text(mode_shapes_figure(study))),)))
+    return Chapter("chatter", "Chatter", chatter_key_figures(study), tuple(sheets), cautions)

@@ -145,12 +145,13 @@ def options_table(result: TuneResult) -> Grid:
 
 
 def option_lines(result: TuneResult, surface_of: dict, units: str) -> tuple[str, ...]:
-    """Each option's changes in words, with the limits it breaks."""
+    """Each option's changes in words, with the limits it breaks and its notes."""
     lines = []
     for rank, o in enumerate(result.options, 1):
         lines.append(f"{rank}. {option_words(o, surface_of, units)}")
         if o.broken:
             lines.append(f"   breaks: {'; '.join(o.broken)}")
+        lines += [f"   note: {note}" for note in o.notes]
     return tuple(lines)
 
 
@@ -196,7 +197,7 @@ def outcome_record(outcome: Outcome, units: str) -> dict:
             "max_deviation_mm": outcome.max_deviation_mm, "most_off_drawing_mm": outcome.max_deviation_mm,
             "least_margin_mm": outcome.least_margin_mm,
             "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
-            "breaks": outcome.broken,
+            "breaks": outcome.broken, "notes": list(outcome.notes),
             "features": [feature_record(c) for c in outcome.checks],
             "predicted": {"mass_g": outcome.prediction.predicted_mass_g.value,
                           "mass_gain_g": outcome.prediction.mass_gain_g.value,
