@@ -100,14 +100,19 @@ def least_margin_figure(best, current) -> tuple[KeyFigure, ...]:
 
 
 def tune_chapter(result, surface_of: dict, units: str, walls=None, rules=None) -> Chapter:
-    """`deflect tune`: the remedies on one sheet; the material left as programmed and with option 1 on the next.
-    With `rules`, the design rules' findings in brief at the top (as the terminal report has them)."""
+    """`deflect tune`: the plan as programmed and the options ranked on one sheet, the options in words on the
+    next, the material left as programmed and with option 1 on the last. With `rules`, the design rules'
+    findings in brief at the top (as the terminal report has them)."""
     from deflect.output.figures import plain, profiles_figure, svg_text
     from deflect.output.rules_report import rules_summary
-    from deflect.output.tune_report import tune_blocks
+    from deflect.output.tune_report import OPTIONS_TITLE, tune_blocks
 
     blocks, cautions = split_cautions(tune_blocks(result, surface_of, units, walls, rules_summary(rules)))
-    sheets = [Sheet("Remedies that hold the drawing", tuple(blocks))]
+    ranked = next((k + 1 for k, b in enumerate(blocks) if isinstance(b, Grid) and b.title == OPTIONS_TITLE),
+                  len(blocks))
+    sheets = [Sheet("Remedies that hold the drawing", tuple(blocks[:ranked]))]
+    if blocks[ranked:]:
+        sheets.append(Sheet("The options in words", tuple(blocks[ranked:])))
     if result.options:
         named = [("as programmed", result.current.prediction), ("option 1", result.options[0].prediction)]
         title = f"Material left, as programmed and with option 1: {plain(result.current.prediction.title)}"

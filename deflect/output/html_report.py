@@ -4,7 +4,7 @@ Takes `Chapter`s, one per command that contributes (each built from that command
 `deflect.output.html_chapters`), and the job files' text; gives the text of one HTML file that needs nothing
 else to be read: the figures are SVG in data URIs, the stylesheet is inside, there is no script and nothing is
 fetched. The page is laid out in sheets, each starting a new page when printed (A4 or Letter, as the browser's
-print dialog chooses): first the key figures and the cautions, then the inputs, then each command's tables (the
+print dialog chooses): first the key figures, then the cautions of every part, then the inputs, then each command's tables (the
 same `Grid` and `Text` blocks its terminal report prints, so the same figures to the same digits) and figures,
 and last the job files as written. Every string from the user (job titles, pass names, the job file itself) is
 escaped by the template engine (Jinja2, autoescaping on). Formatting only; no physics is computed here.
@@ -69,7 +69,7 @@ class Sheet:
 
 @dataclass(frozen=True)
 class Chapter:
-    """What one command contributes: its key figures, its sheets, and its cautions (shown on the first page)."""
+    """What one command contributes: its key figures, its sheets, and its cautions (gathered on the second page)."""
 
     command: str                 # "predict", "tune", "clamp", "compare", ...
     title: str
@@ -99,7 +99,7 @@ class Report:
 
 
 def split_cautions(blocks: list) -> tuple[list, tuple[str, ...]]:
-    """A command's blocks without its cautions, and the cautions' text (one line each) for the first page."""
+    """A command's blocks without its cautions, and the cautions' text (one line each) for the cautions' page."""
     kept, cautions = [], []
     for block in blocks:
         if isinstance(block, Text) and block.kind == "caution":

@@ -128,6 +128,9 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, wa
     return f"Remedies: {title}\n\n" + blocks_text(tune_blocks(result, surface_of, units, walls, rules_summary))
 
 
+OPTIONS_TITLE = "Options, ranked"
+
+
 def options_table(result: TuneResult) -> Grid:
     current = result.current
     rows = []
@@ -141,7 +144,7 @@ def options_table(result: TuneResult) -> Grid:
     note = ("most off drawing: the largest distance of a finished surface from the drawn one, a side, material "
             "left or cut below, wear offsets included; least margin: the nearest a diameter or the wall comes "
             "to a limit")
-    return column_grid("Options, ranked", header, rows, (note,))
+    return column_grid(OPTIONS_TITLE, header, rows, (note,))
 
 
 def option_lines(result: TuneResult, surface_of: dict, units: str) -> tuple[str, ...]:
