@@ -12,6 +12,8 @@ import math
 
 import numpy as np
 import pytest
+import shapely
+import shapely.geometry.polygon
 from shapely.geometry import Point, Polygon
 
 from deflect.errors import ModelError
@@ -288,3 +290,89 @@ def test_polygon_mass_of_a_cone():
     v = math.pi * radius**2 * height / 3.0
     assert volume_mm3 == pytest.approx(v, rel=RELATIVE)
     assert inertia_kg_mm2 == pytest.approx(0.3 * density * v * 1e-6 * radius**2, rel=RELATIVE)
+
+
+# ---------------------------------------------------------------------------------------------------
+# deviation_along at corners and small fillets (the normal's line must not run along a wall)
+#
+# Oracle: plane geometry. The machined parts are built here from the drawing with shapely (a layer of known
+# thickness on one wall, or two walls cut back by known amounts), so the material left is known exactly: on
+# each straight wall away from the corner it is that wall's layer, and nowhere can it exceed, either way, the
+# Hausdorff distance between the drawn and the machined outlines (a deviation is a distance from a drawn
+# point to the machined outline, taken along the normal only while the point met is nearest to this drawn
+# point, so it is bounded by the largest distance between the two outlines).
+
+FILLETS_MM = [0.0, 1e-4, 1e-3, 0.01, 0.1, 0.3, 1.0]
+LAYER_MM = 0.0098          # the housing's bore push-off (issue: max_deviation_mm 38.8 instead of 0.0098)
+OD_UNDER_MM, FACE_UNDER_MM = 0.020, 0.003    # the 7075 cup: OD offset under size, rim face cut low
+HAUSDORFF_DENSIFY = 0.01   # shapely's discrete Hausdorff distance on edges split to 1 % of their length
+CHORD_TOL = 1e-6           # arcs as 1e-5 mm chords, the offsets as shapely buffers: well under 1 um
+
+
+def with_fillet(outline, index, radius_mm):
+    points = [list(p) for p in outline]
+    if radius_mm > 0.0:
+        points[index] = points[index][:2] + [radius_mm]
+    return section_from_outline(points)
+
+
+def hausdorff(section, machined):
+    drawn = shapely.LinearRing(section.polygon(1e-5))
+    return shapely.hausdorff_distance(drawn, shapely.LinearRing(np.asarray(machined)), densify=HAUSDORFF_DENSIFY)
+
+
+def machined_ccw(polygon):
+    return np.asarray(shapely.geometry.polygon.orient(polygon, 1.0).exterior.coords)[:-1]
+
+
+@pytest.mark.parametrize("radius", FILLETS_MM)
+def test_deviation_at_an_inside_fillet_is_the_layer_on_the_wall(radius):
+    """The housing's cup: bore r 23.8 meets the bottom z 6 in an inside fillet; the bore carries a layer
+    LAYER_MM thick, the bottom none. Every deviation lies in [0, LAYER_MM] and the bore reads LAYER_MM."""
+    outline = [[8.0, 0.0], [25.0, 0.0], [25.0, 45.0], [23.8, 45.0], [23.8, 6.0], [8.0, 6.0]]
+    section = with_fillet(outline, 4, radius)
+    layer = shapely.box(23.8 - LAYER_MM, 6.0, 23.8, 45.0)
+    machined = machined_ccw(Polygon(section.polygon(1e-5)).union(layer))
+    dev = deviation_along(section, machined, 0.1)
+    bore = np.isclose(dev.normals[:, 0], -1.0) & (dev.points_rz[:, 1] > 6.0 + radius + LAYER_MM) \
+        & (dev.points_rz[:, 1] < 45.0)
+    assert dev.deviation_mm[bore] == pytest.approx(np.full(bore.sum(), LAYER_MM), abs=CHORD_TOL)
+    assert dev.deviation_mm.min() >= -CHORD_TOL
+    assert dev.deviation_mm.max() == pytest.approx(LAYER_MM, abs=CHORD_TOL)
+    assert np.abs(dev.deviation_mm).max() <= hausdorff(section, machined) + CHORD_TOL
+
+
+@pytest.mark.parametrize("radius", FILLETS_MM)
+def test_deviation_at_a_shoulder_does_not_run_along_the_shoulder(radius):
+    """The Ti sleeve's band: the OD r 20 rises from the band's top z 10 (r 20..21); the OD carries a layer,
+    the band none. The corner point's normal runs along the band's top for 1 mm: it must read the layer."""
+    outline = [[18.5, 0.0], [21.0, 0.0], [21.0, 10.0], [20.0, 10.0], [20.0, 60.0], [18.5, 60.0]]
+    section = with_fillet(outline, 3, radius)
+    layer = shapely.box(20.0, 10.0, 20.0 + LAYER_MM, 60.0)
+    machined = machined_ccw(Polygon(section.polygon(1e-5)).union(layer))
+    dev = deviation_along(section, machined, 0.1)
+    assert dev.deviation_mm.min() >= -CHORD_TOL
+    assert dev.deviation_mm.max() == pytest.approx(LAYER_MM, abs=CHORD_TOL)
+
+
+@pytest.mark.parametrize("radius", FILLETS_MM)
+def test_deviation_at_an_outside_corner_cut_under_reads_the_nearest_material(radius):
+    """The 7075 cup's rim: OD r 30 cut OD_UNDER_MM under size, rim face z 58 FACE_UNDER_MM low. The OD reads
+    -OD_UNDER_MM, the face -FACE_UNDER_MM, and nothing is further from the material than the machined corner
+    is from the drawn one, hypot(a, b) (the issue: -49 mm, measured down the OD to the flange)."""
+    outline = [[10.0, 0.0], [40.0, 0.0], [40.0, 10.0], [30.0, 10.0], [30.0, 58.0], [28.5, 58.0], [28.5, 12.0],
+               [10.0, 12.0]]
+    section = with_fillet(outline, 4, radius)
+    keep = shapely.box(0.0, -1.0, 30.0 - OD_UNDER_MM, 58.0 - FACE_UNDER_MM).union(shapely.box(20.0, -1.0, 50.0, 10.5))
+    machined = machined_ccw(Polygon(section.polygon(1e-5)).intersection(keep))
+    dev = deviation_along(section, machined, 0.1)
+    od = np.isclose(dev.normals[:, 0], 1.0) & (dev.points_rz[:, 1] > 11.0) & (dev.points_rz[:, 1] < 57.0 - radius)
+    face = np.isclose(dev.normals[:, 1], 1.0) & (dev.points_rz[:, 1] == 58.0) & (dev.points_rz[:, 0] < 29.9 - radius)
+    assert dev.deviation_mm[od] == pytest.approx(np.full(od.sum(), -OD_UNDER_MM), abs=CHORD_TOL)
+    assert dev.deviation_mm[face] == pytest.approx(np.full(face.sum(), -FACE_UNDER_MM), abs=CHORD_TOL)
+    assert dev.deviation_mm.min() >= -math.hypot(OD_UNDER_MM, FACE_UNDER_MM) - CHORD_TOL
+    assert np.abs(dev.deviation_mm).max() <= hausdorff(section, machined) + CHORD_TOL
+    if radius == 0.0:
+        corner = np.flatnonzero(np.all(np.isclose(dev.points_rz, [30.0, 58.0]), axis=1))
+        assert dev.corner[corner].all()
+        assert dev.deviation_mm[corner] == pytest.approx(-math.hypot(OD_UNDER_MM, FACE_UNDER_MM), abs=CHORD_TOL)

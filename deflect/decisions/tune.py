@@ -44,7 +44,7 @@ from deflect.decisions.conformance import FeatureCheck, check_features, finishin
 from deflect.errors import InputError, ModelError
 from deflect.job.fits import Tolerances, tolerance_from_table
 from deflect.machining.results import Prediction
-from deflect.machining.simulate import CYLINDER_COS, kept_workers, simulate
+from deflect.machining.simulate import kept_workers, simulate, straight_points
 from deflect.machining.targets import process_from_job
 from deflect.mechanics.cutting import theoretical_roughness
 
@@ -150,6 +150,8 @@ def worst_deviation_mm(pred: Prediction) -> float:
     passes finished."""
     d = pred.deviation
     finished = np.array([s != "unmachined" for s in d.surface])
+    if d.corner is not None:
+        finished &= ~d.corner          # a corner of the drawing belongs to two surfaces (simulate.surface_checks)
     return float(np.abs(d.deviation_mm[finished]).max()) if finished.any() else 0.0
 
 
@@ -386,7 +388,9 @@ def surface_deviation(pred: Prediction, surface: Surface) -> tuple[np.ndarray, n
     """(position along the pass, material left a side, outward normal r) on the cylindrical points the
     finishing pass finished."""
     d = pred.deviation
-    mine = np.array([n == surface.finish.name and abs(d.normals[k][0]) > CYLINDER_COS for k, n in enumerate(d.finished_by)])
+    mine = np.zeros(len(d.finished_by), bool)
+    straight = straight_points(d, surface.kind)
+    mine[straight] = [d.finished_by[k] == surface.finish.name for k in straight]
     if not mine.any():
         return np.empty(0), np.empty(0), np.empty(0)
     order = np.argsort(d.points_rz[mine, 1])

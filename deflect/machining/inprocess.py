@@ -31,12 +31,12 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from shapely.geometry import Point, Polygon
+from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
 from shapely.ops import nearest_points
 
 from deflect.errors import ModelError
-from deflect.geometry.section import Section
+from deflect.geometry.section import POLYGON_CHORD_MM, Section
 from deflect.job.process import SURFACES, Pass
 
 # Each side as a frame (u, v): u grows towards the tool, v runs along the surface. The maps are symmetric
@@ -55,6 +55,9 @@ _MAX_QUAD_SEGS = 512
 CHIP_SHARE = 1e-3
 # Lengths below this fraction of the part's size count as zero (float rounding is ~1e-16 of it).
 _REL_TOL = 1e-9
+# Two segments whose directions differ by more than this [rad] meet in a corner (a fillet meets its
+# neighbours tangentially, to float rounding)
+_CORNER_RAD = 1e-6
 # Most entries of the (slabs x edges) and (rays x edges) work arrays handled at once.
 _WORK_ENTRIES = 2_000_000
 
@@ -76,6 +79,7 @@ class Deviation:
     normals: np.ndarray       # (N, 2) unit outward normal of the nominal boundary
     deviation_mm: np.ndarray  # (N,) material beyond the nominal surface along the normal [mm]; > 0 thicker
     segment: np.ndarray       # (N,) index of the section segment each point lies on
+    corner: np.ndarray        # (N,) bool: the point is a corner of the drawn outline (two surfaces meet there)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -389,21 +393,52 @@ def deviation_along(nominal_section: Section, machined_rz: np.ndarray, spacing_m
     Positive where the machined part is thicker than drawn (stock no pass removed counts), negative where
     it is thinner (the distance from the drawn surface inwards to the machined one), 0 where the machined
     surface is the drawn one.
+
+    The machined surface met along the normal is this point's own only while the drawn surface nearest to
+    where it is met is this point (the normal line then stays in the point's own reach: it neither crosses
+    the drawn outline nor runs along or into another drawn surface). At a corner or a fillet smaller than
+    the deviation the normal's line can run along the wall beyond the corner, inside the material left on
+    it or in the air beside the part, to whatever surface it meets far away; there, and where the line meets
+    nothing, the deviation is the distance to the nearest machined surface (+ inside the machined part,
+    - outside it). On a stretch of constant normal both are the same length.
     """
     samples = nominal_section.sample(spacing_mm)
     machined_rz = np.asarray(machined_rz, float)
     keep = samples.points[:, 0] > _tolerance(np.vstack([machined_rz, samples.points]))
     points, normals, segment = samples.points[keep], samples.normals[keep], samples.segment[keep]
+    corner = _at_corner(nominal_section, samples.segment)[keep]
     beyond, _ = _material_along(machined_rz, points, normals)
     behind, gap = _material_along(machined_rz, points, -normals)
-    deviation = beyond.copy()                   # on the machined surface with the material inside: 0
+    along = beyond.copy()                       # on the machined surface with the material inside: 0
     in_air = (beyond == 0.0) & (behind == 0.0)  # cut below the drawing by the gap to the material
-    deviation[in_air] = -gap[in_air]
-    lost = np.flatnonzero(np.isinf(deviation))        # no material at all along the normal's line
-    if lost.size:
+    along[in_air] = -gap[in_air]
+    met = np.flatnonzero(np.isfinite(along))
+    drawn = shapely.LinearRing(nominal_section.polygon(POLYGON_CHORD_MM))
+    crossing = shapely.points(points[met] + along[met, None] * normals[met])
+    # chords of the drawn arcs stray up to POLYGON_CHORD_MM from the arcs the points lie on
+    reach_tol = 2.0 * POLYGON_CHORD_MM + _tolerance(np.vstack([machined_rz, samples.points]))
+    own = np.zeros(len(points), bool)
+    own[met] = shapely.distance(crossing, drawn) >= np.abs(along[met]) - reach_tol
+    deviation = along
+    elsewhere = np.flatnonzero(~own)
+    if elsewhere.size:
         machined = Polygon(machined_rz)
-        deviation[lost] = [-machined.distance(Point(p)) for p in points[lost]]
-    return Deviation(points_rz=points, normals=normals, deviation_mm=deviation, segment=segment)
+        where = shapely.points(points[elsewhere])
+        nearest = shapely.distance(where, machined.exterior)
+        deviation[elsewhere] = np.where(shapely.covers(machined, where), nearest, -nearest)
+    return Deviation(points_rz=points, normals=normals, deviation_mm=deviation, segment=segment, corner=corner)
+
+
+def _at_corner(section: Section, segment: np.ndarray) -> np.ndarray:
+    """(N,) True for the samples that sit on a corner of the outline: the first sample of a segment (its
+    start, `Section.sample`) where the segment before ends in another direction."""
+    corner = np.zeros(len(segment), bool)
+    for k in np.flatnonzero(np.r_[True, segment[1:] != segment[:-1]]):
+        i = int(segment[k])
+        before = section.segments[i - 1].tangents_at(np.array([1.0]))[0]
+        after = section.segments[i].tangents_at(np.array([0.0]))[0]
+        corner[k] = abs(math.atan2(before[0] * after[1] - before[1] * after[0], before @ after)) > _CORNER_RAD
+    return corner
 
 
 # ---------------------------------------------------------------------------------------------------

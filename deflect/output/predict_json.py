@@ -37,7 +37,8 @@ def deviation_records(deviation) -> list[dict]:
     for k, (point, normal) in enumerate(zip(deviation.points_rz, deviation.normals)):
         record = {"r": float(point[0]), "z": float(point[1]), "nr": float(normal[0]), "nz": float(normal[1]),
                   "deviation_mm": float(deviation.deviation_mm[k]), "surface": deviation.surface[k],
-                  "finished_by": deviation.finished_by[k]}
+                  "finished_by": deviation.finished_by[k],
+                  "corner": bool(deviation.corner is not None and deviation.corner[k])}
         if deviation.roundness_mm is not None:
             record["released_mm"] = float(deviation.released_mm[k])
             record["roundness_mm"] = float(deviation.roundness_mm[k])
@@ -57,7 +58,9 @@ def prediction_payload(pred: Prediction, features=()) -> dict:
         "nominal": {"mass_g": pred.nominal_mass_g, "inertia_axial_kg_mm2": pred.nominal_inertia_kg_mm2},
         "predicted": {"mass_g": pred.predicted_mass_g.value, "mass_gain_g": pred.mass_gain_g.value,
                       "inertia_axial_kg_mm2": pred.predicted_inertia_kg_mm2,
-                      "max_deviation_mm": pred.max_deviation_mm.value},
+                      "max_deviation_mm": pred.max_deviation_mm.value,
+                      "max_deviation_at": None if pred.max_deviation_at_rz is None else
+                      {"r_mm": pred.max_deviation_at_rz[0], "z_mm": pred.max_deviation_at_rz[1]}},
         "cycle_time_s": pred.cycle_time_s,
         "passes": [{"name": p.name, "surface": p.surface, "tool": p.tool, "cycle_time_s": p.cycle_time_s,
                     "max_deflection_mm": p.max_deflection_mm, "peak_power_kW": p.peak_power_kw,
@@ -73,7 +76,9 @@ def prediction_payload(pred: Prediction, features=()) -> dict:
         "surfaces": [{"surface": c.surface, "positions": c.positions, "deviation_mm": c.deviation_mm,
                       "nominal_diameter_mm": c.nominal_diameter_mm,
                       "predicted_diameter_mm": c.predicted_diameter_mm, "max_deviation_mm": c.max_deviation_mm,
-                      "mass_left_g": c.mass_left_g, "roundness_mm": c.roundness_mm} for c in pred.surfaces],
+                      "mass_left_g": c.mass_left_g, "roundness_mm": c.roundness_mm,
+                      "max_at": None if c.max_at_rz is None else {"r_mm": c.max_at_rz[0], "z_mm": c.max_at_rz[1]}}
+                     for c in pred.surfaces],
         "wall": pred.wall,
         "peak_power_kW": pred.peak_power_kw,
         "machine_power_kW": pred.machine_power_kw,
