@@ -124,7 +124,7 @@ def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> 
     across at constant v (a shoulder as the tool sees it).
     """
     u0, v0, u1, v1 = edges.T
-    slanted = np.abs(v1 - v0) > tol
+    slanted = v1 != v0
     u0, v0, u1, v1 = u0[slanted], v0[slanted], u1[slanted], v1[slanted]
     levels = np.concatenate([v0, v1])
     levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo) & (levels < v_hi)]]))
@@ -134,13 +134,18 @@ def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> 
     chosen = np.empty(len(bottom), int)
     rows = max(1, _WORK_ENTRIES // max(1, len(u0)))
     for first in range(0, len(bottom), rows):
-        mid = 0.5 * (bottom[first:first + rows] + top[first:first + rows])[:, None]
-        spans = (lo_edge < mid) & (hi_edge > mid)
+        b, t = bottom[first:first + rows, None], top[first:first + rows, None]
+        # every edge end is a level, so an edge either covers a whole slab or none of its inside: compared
+        # exactly on the levels themselves (a midpoint of two levels one rounding step apart rounds onto one
+        # of them, and would find only edges that do not belong there)
+        spans = (lo_edge <= b) & (hi_edge >= t)
         if not spans.any(axis=1).all():
-            gap = float(mid[~spans.any(axis=1)][0, 0])
+            gap = float(b[~spans.any(axis=1)][0, 0])
             raise ModelError(f"the surface has a gap at {gap:.6g} mm along the pass")
-        u_mid = np.where(spans, u0 + (mid - v0) * slope, -np.inf)
-        chosen[first:first + rows] = np.argmax(u_mid, axis=1)
+        # outermost over the slab: the largest sum of the ends (edges do not cross inside a slab; two that
+        # meet at one end part at the other)
+        u_sum = np.where(spans, 2.0 * u0 + ((b - v0) + (t - v0)) * slope, -np.inf)
+        chosen[first:first + rows] = np.argmax(u_sum, axis=1)
     u_bottom = u0[chosen] + (bottom - v0[chosen]) * slope[chosen]
     u_top = u0[chosen] + (top - v0[chosen]) * slope[chosen]
     points = np.empty((2 * len(bottom), 2))
@@ -249,6 +254,54 @@ def _tolerance(rz: np.ndarray) -> float:
     return _REL_TOL * max(1.0, float(np.abs(rz).max()))
 
 
+class BeyondAxis(ModelError):
+    """A target that leaves the half-section's plane r >= 0 other than by running into the axis at an end."""
+
+
+def short_of_the_axis(path: CutPath, tol: float) -> CutPath:
+    """The path up to where it meets the spin axis, r = 0, at either end.
+
+    The half-section is bounded by the spin axis, which is no surface: a path that runs into the axis at
+    its start or end (a face pass to the centre or past it, a bore pass across a floor to the centre and
+    on along the axis into the bottom, or round the floor's end by its allowance) has covered its surface
+    there; beyond, it would run along the axis or over the other side of the same surface of revolution.
+    Such ends are cut off where the path first meets r = 0. A path that lies beyond the axis all along, or
+    crosses it and comes back, is wrong (an allowance or offset larger than the radius there): BeyondAxis
+    says where. A path on the axis all along is left as it is (it cuts nothing).
+    """
+    r = path.points_rz[:, 0]
+    off = np.flatnonzero(r > tol)
+    worst = int(np.argmin(r))
+    deepest = f"down to r = {r[worst]:.4g} mm, at z = {path.points_rz[worst, 1]:.4g} mm"
+    if off.size == 0:
+        if r[worst] < -tol:
+            raise BeyondAxis(f"lies beyond the axis all along ({deepest})")
+        return path
+    first, last = int(off[0]), int(off[-1])
+    if (r[first:last + 1] < -tol).any():
+        k = first + int(np.flatnonzero(r[first:last + 1] < -tol)[0])
+        raise BeyondAxis(f"crosses the axis at z = {path.points_rz[k, 1]:.4g} mm and comes back ({deepest})")
+    if first == 0 and last == len(r) - 1:
+        return path
+
+    def meeting(on: int, off_axis: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Where the segment from a point off the axis to one on or beyond it meets r = 0."""
+        t = r[off_axis] / (r[off_axis] - r[on])
+        point = path.points_rz[off_axis] + t * (path.points_rz[on] - path.points_rz[off_axis])
+        point[0] = 0.0
+        return point[None, :], path.normals[off_axis][None, :], path.feed_dir[off_axis][None, :]
+
+    rows = ([path.points_rz[first:last + 1]], [path.normals[first:last + 1]], [path.feed_dir[first:last + 1]])
+    if first > 0:
+        for column, value in zip(rows, meeting(first - 1, first)):
+            column.insert(0, value)
+    if last < len(r) - 1:
+        for column, value in zip(rows, meeting(last + 1, last)):
+            column.append(value)
+    points, normals, feed_dir = (np.concatenate(column) for column in rows)
+    return CutPath(points_rz=points, normals=normals, feed_dir=feed_dir)
+
+
 def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start_mm: float, end_mm: float,
                    spacing_mm: float) -> CutPath:
     """The finished contour offset by offset_mm along its outward normal, seen from the pass's side.
@@ -264,6 +317,9 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
         or height (face); a face pass whose extent runs past the edge of its face carries on at the face's
         edge height rather than running down the wall beyond it.
     spacing_mm : most distance between two target points [mm]
+
+    A target that runs into the spin axis at its start or end stops there (`short_of_the_axis`); one that
+    passes the axis elsewhere raises BeyondAxis.
     """
     frame = _frame(surface)
     if not spacing_mm > 0.0:
@@ -271,9 +327,10 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
     if start_mm == end_mm:
         raise ValueError("a pass needs a start and an end that differ")
     nominal_uv = np.asarray(nominal_rz, float) @ frame
+    tol = _tolerance(nominal_uv)
     envelope = _offset_envelope(nominal_uv, float(offset_mm), min(start_mm, end_mm), max(start_mm, end_mm),
-                                _tolerance(nominal_uv), hold_walls=surface == "face")
-    return _cut_path(envelope, frame, start_mm, end_mm, spacing_mm)
+                                tol, hold_walls=surface == "face")
+    return short_of_the_axis(_cut_path(envelope, frame, start_mm, end_mm, spacing_mm), tol)
 
 
 def compensated(target: CutPath, p: Pass) -> CutPath:
@@ -302,6 +359,14 @@ def _in_feed(surface: str) -> np.ndarray:
     return np.array([1.0, 0.0]) @ _frame(surface)
 
 
+def final_target(nominal_rz: np.ndarray, p: Pass, spacing_mm: float) -> CutPath:
+    """The pass's final target: the finished contour offset by allowance + offset, with its programmed
+    compensation, up to where it meets the spin axis (compensation moves a bore's target towards the axis,
+    and a floor run to the centre slides past it). Raises BeyondAxis for a target beyond the axis."""
+    target = target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm, spacing_mm)
+    return short_of_the_axis(compensated(target, p), _tolerance(nominal_rz))
+
+
 def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spacing_mm: float) -> list[CutPath]:
     """The cuts of one pass on the current part, in order.
 
@@ -313,17 +378,23 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
     the stock above a shoulder (which the tool takes radially) as depth. Then the final cut, then `spring`
     more cuts on the final target.
     """
-    final = compensated(target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm,
-                                       spacing_mm), p)
-    cuts = []
-    if p.depth_mm is not None:
-        in_feed = _in_feed(p.surface)
-        along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
-        deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
-        n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
-        for k in range(1, n_cuts):
-            shift = (n_cuts - k) * deepest / n_cuts * in_feed
-            cuts.append(CutPath(points_rz=final.points_rz + shift, normals=final.normals, feed_dir=final.feed_dir))
+    tol = _tolerance(nominal_rz)
+    try:
+        final = final_target(nominal_rz, p, spacing_mm)
+        cuts = []
+        if p.depth_mm is not None:
+            in_feed = _in_feed(p.surface)
+            along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
+            deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
+            n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
+            for k in range(1, n_cuts):
+                shift = (n_cuts - k) * deepest / n_cuts * in_feed
+                # a bore's roughing steps move towards the axis: a floor run to the centre slides past it
+                cuts.append(short_of_the_axis(CutPath(points_rz=final.points_rz + shift, normals=final.normals,
+                                                      feed_dir=final.feed_dir), tol))
+    except BeyondAxis as exc:   # process.py refuses such targets first; this is the last guard
+        raise ModelError(f"the target of '{p.name}' {exc.message}; check its allowance, offset and compensation",
+                         key=p.key) from None
     cuts.append(final)
     cuts.extend([final] * p.spring)
     return cuts

@@ -45,7 +45,15 @@ from deflect.errors import InputError, ModelError
 from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_properties
 from deflect.job.holding import holding_from_table
 from deflect.job.process import Pass, Process
-from deflect.machining.inprocess import CutPath, cuts_for_pass, depth_of_material, deviation_along, polygon_mass, remove
+from deflect.machining.inprocess import (
+    CutPath,
+    Deviation,
+    cuts_for_pass,
+    depth_of_material,
+    deviation_along,
+    polygon_mass,
+    remove,
+)
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
 from deflect.mechanics.chuck import centrifugal_force_n, grip_in_cut_n
 from deflect.mechanics.clamping import released_deviation
@@ -535,28 +543,33 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     return released, roundness, per_newton.lobes
 
 
-def faces_cut_below(process: Process, per_pass: list[list[StationTable]]) -> list[str]:
-    """A note for each finishing face pass (no allowance) whose last cut leaves its face below the target,
-    with the mechanism: the feed force along the face draws a free rim in, and the rim drawn in rises at the
-    tool (it bends round the circumference without stretching; tests/validation/test_against_3d_solid.py) by
-    more than the passive force presses it down, so the face springs back below its target when the tool
-    has passed (where push-off would be expected to leave material)."""
+def faces_cut_below(process: Process, per_pass: list[list[StationTable]], raw: Deviation,
+                    finished_by_pass: list[str]) -> list[str]:
+    """A note for each face pass cut to the drawing (no allowance, offset or compensation) that leaves the face
+    it finished below the drawing by the mechanism this names: the feed force along the face draws a free rim
+    in, and the rim drawn in rises at the tool (it bends round the circumference without stretching;
+    tests/validation/test_against_3d_solid.py) by more than the passive force presses it down, so the face
+    springs back below its target when the tool has passed. raw: the deviation the cuts left (before any
+    spring-back of the jaws); finished_by_pass: the pass that finished each of its points."""
     notes = []
     for p, tables in zip(process.passes, per_pass):
         final = tables[-1]
-        cutting = final.met_depth_mm > 0.0
-        if p.surface != "face" or p.allowance_mm != 0.0 or final.feed_push_mm is None or not cutting.any():
+        to_drawing = p.allowance_mm == 0.0 and p.offset_mm == 0.0 and not p.compensation
+        mine = np.flatnonzero(np.array([name == p.name for name in finished_by_pass], bool) & ~raw.corner)
+        if p.surface != "face" or not to_drawing or final.feed_push_mm is None or not mine.size:
             continue
-        k = np.flatnonzero(cutting)[np.argmin(final.deflection_mm[cutting])]
-        if final.deflection_mm[k] >= 0.0:
+        point = mine[np.argmin(raw.deviation_mm[mine])]
+        if raw.deviation_mm[point] >= 0.0:
             continue
-        target = "the drawing" if p.offset_mm == 0.0 and not p.compensation else "its programmed target"
+        k = int(np.argmin(np.linalg.norm(np.column_stack([final.r_mm, final.z_mm]) - raw.points_rz[point], axis=1)))
         lift, press = final.feed_push_mm[k], final.deflection_mm[k] - final.feed_push_mm[k]
-        notes.append(f"'{p.name}' leaves its face up to {-1e3 * final.deflection_mm[k]:.1f} um below {target} "
-                     f"(at r {final.r_mm[k]:.2f} mm): its feed force along the face ({final.feed_n[k]:.0f} N) moves "
-                     f"the face {-1e3 * lift:.1f} um towards the tool (a free rim drawn in rises at the tool), "
-                     f"more than the passive force ({final.passive_n[k]:.0f} N) pushes it away ({1e3 * press:.1f} "
-                     "um); facing the other way round turns the feed force, and the lift, round")
+        if lift >= 0.0 or final.deflection_mm[k] >= 0.0:
+            continue   # below the drawing, but not by the feed force's lift
+        notes.append(f"'{p.name}' leaves its face up to {-1e3 * raw.deviation_mm[point]:.1f} um below the drawing "
+                     f"(at r {raw.points_rz[point, 0]:.2f} mm): its feed force along the face ({final.feed_n[k]:.0f} "
+                     f"N) moves the face {-1e3 * lift:.1f} um towards the tool (a free rim drawn in rises at the "
+                     f"tool), more than the passive force ({final.passive_n[k]:.0f} N) pushes it away "
+                     f"({1e3 * press:.1f} um); facing the other way round turns the feed force, and the lift, round")
     return notes
 
 
@@ -712,7 +725,7 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     warnings = list(process.warnings)
     if peak_power > process.machine.power_kw:
         warnings.append(f"peak cutting power {peak_power:.2f} kW exceeds the machine's {process.machine.power_kw:g} kW")
-    warnings += faces_cut_below(process, per_pass)
+    warnings += faces_cut_below(process, per_pass, raw, names)
     rubbing = sum(int(t.rubbing.sum()) for tables in per_pass for t in tables)
     if rubbing:
         warnings.append(f"{rubbing} station(s) rub rather than cut: the wall gives way so far that the tool "
