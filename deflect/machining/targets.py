@@ -55,10 +55,10 @@ def _check_axis(p: Pass, nominal_rz: np.ndarray) -> None:
         problem = _axis_problem(nominal_rz.tobytes(), nominal_rz.shape, geometry)
         if problem:
             what = "allowance + offset" if name != "allowance" and p.allowance_mm else name
-            total = q.allowance_mm + q.offset_mm
-            raise InputError(f"{p.key}.{name}", f"{what} = {total:g} mm{' with the compensation' * (name == 'compensate')}"
-                             f" moves the {SIDE_NAMES[p.surface]}'s target off the drawn surface and past the spin "
-                             f"axis, which is no surface: the target {problem}; {KEY_ADVICE[name]}")
+            amount = f"{q.allowance_mm + q.offset_mm:g} mm" + (" with the compensation" if name == "compensate" else "")
+            raise InputError(f"{p.key}.{name}", f"{what} = {amount} moves the {SIDE_NAMES[p.surface]}'s target off the "
+                             f"drawn surface and past the spin axis, which is no surface: the target {problem}; "
+                             f"{KEY_ADVICE[name]}")
 
 
 @functools.lru_cache(maxsize=256)

@@ -32,6 +32,11 @@ def duration_text(seconds: float) -> str:
     return f"{seconds:.1f} s ({minutes} min {rest:02d} s)"
 
 
+def where_text(rz: tuple[float, float] | None) -> str:
+    """', at r .., z .. mm' for a point of the section, '' for none."""
+    return "" if rz is None else f", at r {rz[0]:.2f}, z {rz[1]:.2f} mm"
+
+
 def headline(pred: Prediction) -> str:
     """Masses, most material left, cycle time and power; each uncertain figure with its range."""
     gain = pred.mass_gain_g
@@ -43,9 +48,7 @@ def headline(pred: Prediction) -> str:
         ("predicted mass", f"{pred.predicted_mass_g.value:.3f} g {spread_text(pred.predicted_mass_g, 'g', 3)}"),
         ("mass gain", f"{gain.value:+.3f} g, {gain_pct:+.2f} % {spread_text(gain, 'g', 3, '+')}"),
         ("most material left", f"{pred.max_deviation_mm.value:.3f} mm a side "
-                               f"{spread_text(pred.max_deviation_mm, 'mm', 3)}" + (
-                                   "" if pred.max_deviation_at_rz is None else
-                                   f", at r {pred.max_deviation_at_rz[0]:.2f}, z {pred.max_deviation_at_rz[1]:.2f} mm")),
+                               f"{spread_text(pred.max_deviation_mm, 'mm', 3)}{where_text(pred.max_deviation_at_rz)}"),
         ("inertia about spin axis", f"{pred.nominal_inertia_kg_mm2:.4g} kg mm2 drawn, "
                                     f"{pred.predicted_inertia_kg_mm2:.4g} kg mm2 predicted"),
         ("cycle time (cutting)", duration_text(pred.cycle_time_s)),
@@ -83,9 +86,9 @@ def surface_table(check: SurfaceCheck) -> str:
                      f"leaves {1e3 * check.deviation_mm[where]:.1f} um a side"])
         if check.roundness_mm is not None:
             rows[-1].append(f"{1e3 * check.roundness_mm[where]:.1f}")
-    where = "" if check.max_at_rz is None else f" (at r {check.max_at_rz[0]:.2f}, z {check.max_at_rz[1]:.2f} mm)"
     title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: at most "
-             f"{1e3 * check.max_deviation_mm:.1f} um a side{where}, {check.mass_left_g:.3f} g left on it")
+             f"{1e3 * check.max_deviation_mm:.1f} um a side{where_text(check.max_at_rz)}, "
+             f"{check.mass_left_g:.3f} g left on it")
     return title + "\n" + grid(header, rows)
 
 
