@@ -62,15 +62,20 @@ def headline(pred: Prediction) -> str:
 def pass_row(p: PassResult) -> list[str]:
     peak_passive = max((float(c.passive_n.max(initial=0.0)) for c in p.cuts), default=0.0)
     rubbing = sum(int(c.rubbing.sum()) for c in p.cuts)
+    # the push-off of largest size with its sign: a face cut below its target shows as such, not as the
+    # largest positive push-off elsewhere on it
+    largest = max((float(v) for c in p.cuts for v in c.deflection_mm), key=abs, default=0.0)
     return [p.name, SURFACE_NAMES.get(p.surface, p.surface), p.tool, str(len(p.cuts)), f"{p.feed_mm:.3f}",
-            f"{p.speed_m_min:.0f}", f"{1e3 * p.max_deflection_mm:.1f}", f"{peak_passive:.1f}",
+            f"{p.speed_m_min:.0f}", f"{1e3 * largest:.1f}", f"{peak_passive:.1f}",
             f"{p.peak_power_kw:.2f}", f"{p.cycle_time_s:.1f}", f"{p.mass_left_g:.3f}", str(rubbing)]
 
 
 def pass_table(passes: list[PassResult]) -> str:
-    header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "max push-off um",
+    header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "largest push-off um",
               "peak passive N", "peak kW", "time s", "mass left g", "rubbing"]
-    note = "(rubbing: stations where the wall gives way so far that the tool barely cuts)"
+    note = ("(largest push-off: of largest size along the pass, negative where the surface came towards the tool "
+            "and was cut below its target; rubbing: stations where the wall gives way so far that the tool barely "
+            "cuts)")
     return "Passes, in order\n" + grid(header, [pass_row(p) for p in passes]) + "\n" + note
 
 
