@@ -392,7 +392,7 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
                 # a bore's roughing steps move towards the axis: a floor run to the centre slides past it
                 cuts.append(short_of_the_axis(CutPath(points_rz=final.points_rz + shift, normals=final.normals,
                                                       feed_dir=final.feed_dir), tol))
-    except BeyondAxis as exc:   # process.py refuses such targets first; this is the last guard
+    except BeyondAxis as exc:   # machining/targets.py refuses such targets first; this is the last guard
         raise ModelError(f"the target of '{p.name}' {exc.message}; check its allowance, offset and compensation",
                          key=p.key) from None
     cuts.append(final)
