@@ -321,7 +321,7 @@ def test_solid_is_converged(case):
 #
 # Measured once on the rim as the face pass meets it (OD 30.3, bore 28.2, the face cut to z = 58 outside the
 # tool at r 29.3, a 1 mm step of stock still ahead of it), at r 29.8: solid C_nn 2.899e-5, C_na -5.484e-5;
-# shell 3.371e-5, -6.392e-5, both 16 % high (the step is idealised as one thick node) and their ratio, which
+# shell 3.371e-5, -6.392e-5, both 16 % high, and their ratio, which
 # sets the sign of the push-off, within 0.3 %.
 
 RIM_CUP = ([[10.0, 0.0], [40.0, 0.0], [40.0, 10.0], [30.0, 10.0], [30.0, 58.0], [28.5, 58.0], [28.5, 12.0],
