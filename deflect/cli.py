@@ -96,7 +96,8 @@ MATRIX_AXES = ["normal (into the material)", "circumferential", "along the bound
 
 def point_record(point) -> dict:
     return {"r": point.r_mm, "z": point.z_mm, "nr": point.nr, "nz": point.nz,
-            "compliance_mm_per_N": point.normal_mm_per_n,
+            "compliance_mm_per_N": point.normal_mm_per_n, "r_mm": point.r_mm, "z_mm": point.z_mm,
+            "along_boundary_mm": point.along_mm,
             "matrix_mm_per_N": point.matrix_mm_per_n.tolist(),
             "stiffness_N_per_mm": 1.0 / point.normal_mm_per_n if point.normal_mm_per_n > 0 else None,
             "highest_harmonic": point.harmonics}
@@ -108,12 +109,14 @@ def point_record(point) -> dict:
               help="A point on (or near) the section boundary, in the job's units; repeat for several.")
 @click.option("--patch", default="2,2", show_default=True, metavar="A,W",
               help="Contact patch: A along the section boundary, W around the circumference (job's units).")
-@click.option("--tol", "tolerance", default=1e-3, show_default=True, type=float,
-              help="Relative truncation tolerance of the Fourier-harmonic sum.")
+@click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
+              help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
+                   "tolerance).")
+@click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
               help="Without --at: draw the compliance map along the boundary into this PNG file.")
-def compliance(job_file, at, patch, tolerance, as_json, plot_file):
+def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file):
     """Compliance of the held part at boundary points: how far the wall gives per newton.
 
     A unit force presses into the material along the boundary normal, spread over the patch. Without
@@ -127,8 +130,10 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
     length, width = parse_pair(patch, "--patch", "A,W")
+    option = "--harmonic-tol" if old_tolerance is None else "--tol"
+    tolerance = tolerance if old_tolerance is None else old_tolerance
     if not (tolerance > 0 and tolerance < 0.5):
-        raise InputError("--tol", f"must lie between 0 and 0.5, got {tolerance:g}")
+        raise InputError(option, f"must lie between 0 and 0.5, got {tolerance:g}")
     points = [parse_pair(text, "--at", "R,Z") for text in at]
     try:
         model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
@@ -143,7 +148,7 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     payload = {"points": [point_record(p) for p in results],
                "matrix_axes": MATRIX_AXES,
                "patch_mm": {"length": length * factor, "width": width * factor},
-               "tolerance": tolerance}
+               "harmonic_tolerance": tolerance}
     if plot_file and not points:
         from deflect.output.figures import compliance_map_plot
         try:
@@ -159,9 +164,11 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
 
 
 def run_prediction(job_file: str, show_progress: bool):
-    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
-    toleranced features (empty without [tolerance])."""
-    from deflect.decisions.conformance import check_features
+    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
+    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
+    findings and the job."""
+    from deflect.decisions.conformance import verdict
+    from deflect.decisions.rules import check_rules
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
@@ -180,7 +187,7 @@ def run_prediction(job_file: str, show_progress: bool):
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        return pred, (check_features(pred, process, tolerances) if tolerances else [])
+        return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -202,10 +209,13 @@ def write_outputs(pred, csv_dir, plot_dir) -> list:
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
 @click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
               help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
-@click.option("--plot", "plot_dir", type=click.Path(file_okay=False), default=None,
-              help="Draw the section, the deviation and the pass forces as PNG files into this folder.")
+@click.option("--figures", "plot_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the section, the material left and the pass forces as PNG files into this folder.")
+@click.option("--plot", "old_plot_dir", type=click.Path(file_okay=False), default=None, hidden=True)  # earlier name
+@click.option("--dxf", "dxf_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
-def predict(job_file, as_json, csv_dir, plot_dir, quiet):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -213,13 +223,17 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     """
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.rules_report import rules_payload, rules_summary
 
-    pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
-    written = write_outputs(pred, csv_dir, plot_dir)
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
+    written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
+    if dxf_file:
+        from deflect.output.dxf_files import prediction_dxf
+        written.append(prediction_dxf(pred, job.section, dxf_file))
     if as_json:
-        emit_json(prediction_payload(pred, features))
+        emit_json({**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)})
     else:
-        click.echo(predict_report(pred, features))
+        click.echo(predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -234,16 +248,18 @@ def demo(out_dir):
     from deflect.job.materials import library_path
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.rules_report import rules_summary
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, features = run_prediction(job_file, show_progress=True)
+    pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
     out = Path(out_dir)
-    report = predict_report(pred, features)
+    report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
     try:
         out.mkdir(parents=True, exist_ok=True)
         (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2))
+        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, judged.checks, judged.warnings),
+                                                        indent=2))
     except OSError as exc:
         raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
     written = write_outputs(pred, out / "csv", out / "figures")
@@ -292,7 +308,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
                                                   f"got {plot_at!r}")
                 index = nearest_point(study.given, surface, z * factor)
             if index is None:
-                raise InputError("--plot", "no OD or bore is finished in this setup outside the grip: nothing to draw")
+                raise InputError("--plot", "no OD or ID is finished in this setup outside the grip: nothing to draw")
             profile = released_profile(study.given, index)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -315,7 +331,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
 @click.argument("job_file", type=click.Path(dir_okay=False))
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
-              help="Write the compensated finishing contour of each pass (CSV points and ISO 6983 moves) here.")
+              help="Write the compensated finishing contour of each pass (CSV points, ISO 6983 moves, DXF) here.")
 @click.option("--design", is_flag=True,
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
@@ -323,14 +339,16 @@ def clamp(job_file, as_json, plot_file, plot_at):
 def tune(job_file, as_json, contour_dir, design, quiet):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
-    Tries feeds, spring passes, the finishing allowance, the job's other tools, a wear offset, a compensated
+    Tries feeds, spring cuts, the finishing allowance, the job's other tools, a wear offset, a compensated
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
+    from deflect.decisions.rules import check_rules
     from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
+    from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
     job = read_job(job_file)
@@ -345,13 +363,14 @@ def tune(job_file, as_json, contour_dir, design, quiet):
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         written = write_contours(job, result, contour_dir) if contour_dir else []
+        rules = check_rules(job, process)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
     if as_json:
-        emit_json(tune_payload(result, surface_of, job.units, walls))
+        emit_json({**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)})
     else:
-        click.echo(tune_report(result, surface_of, job.units, job.title, walls))
+        click.echo(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -378,6 +397,9 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    if job.drawing is not None:   # the walls are redrawn on the outline read from the drawing
+        from deflect.job.drawing import outline_in
+        data["part"] = {"outline": outline_in(job.drawing, job.units)}
     recommended = result.options[0].changes if result.options else ()
     with click.progressbar(length=WALL_STEPS_SHOWN, label="trying wall thicknesses", file=sys.stderr,
                            show_eta=False, hidden=quiet) as bar:
@@ -386,12 +408,13 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
 
 
 def write_contours(job, result, folder: str) -> list:
-    """CSV and ISO 6983 files of every compensated pass of the best option that has one."""
+    """CSV, ISO 6983 and DXF files of every compensated pass of the best option that has one."""
     from pathlib import Path
 
     from deflect.decisions.tune import job_with
     from deflect.machining.targets import process_from_job
     from deflect.machining.toolpath import compensated_contour
+    from deflect.output.dxf_files import contour_dxf
     from deflect.output.programs import contour_csv, iso6983_block
 
     option = next((o for o in result.options if any(c.key == "compensate" for c in o.changes)), None)
@@ -411,9 +434,88 @@ def write_contours(job, result, folder: str) -> list:
                 path = out / f"{stem}-contour{suffix}"
                 path.write_text(text)
                 written.append(path)
+            written.append(contour_dxf(rows, job.section, p.name, out / f"{stem}-contour.dxf"))
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
     return written
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+def rules(job_file, as_json):
+    """Design rules the part in JOB_FILE must meet: thinnest wall against the material's least, internal
+    corners sharper than the nose that finishes them (with the material the nose leaves), stretches the
+    finishing insert cannot reach, and what the drawing itself holds (splines, tiny segments, near-tangent
+    corners, a size that suggests the wrong unit)."""
+    from deflect.decisions.rules import check_rules
+    from deflect.job.reader import read_job
+    from deflect.machining.targets import process_from_job
+    from deflect.output.rules_report import rules_payload, rules_report
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    try:
+        process = process_from_job(job) if "pass" in job.tables else None
+        result = check_rules(job, process)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    if as_json:
+        emit_json(rules_payload(result))
+    else:
+        click.echo(rules_report(result, job.title))
+
+
+@cli.command(name="import")
+@click.argument("drawing_file", type=click.Path(dir_okay=False))
+@click.option("--units", type=click.Choice(["mm", "inch"]), default=None,
+              help="The drawing's unit, whatever its header says (default: its $INSUNITS; unitless: mm).")
+@click.option("--layer", default=None, help="Read only this layer (default: every layer).")
+@click.option("--axis", default=None, metavar="y=VALUE|x=VALUE",
+              help="The spin axis in drawing coordinates (default: a centre line, else y = 0).")
+@click.option("--material", default=None, help="A library material to write into [material].")
+@click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the job to this file (it must not exist yet) instead of printing it.")
+def import_drawing(drawing_file, units, layer, axis, material, out_file):
+    """Write a job whose [part] outline reproduces the DXF half-section in DRAWING_FILE (arcs as arcs).
+
+    Drawing x is read as z (along the spin axis) and y as r; a full profile mirrored about the axis gives
+    its half above it. Notes on what was joined, replaced or ignored go to stderr and into the job's header.
+    """
+    from pathlib import Path
+
+    from deflect.job.drawing import drawing_notes, drawing_section, read_drawing
+    from deflect.job.materials import material_from_job
+    from deflect.output.job_files import job_text
+
+    try:
+        drawing = read_drawing(drawing_file, units=units, layer=layer, axis=axis)
+        section = drawing_section(drawing, key="entities")
+    except InputError as exc:
+        exc.file = exc.file or drawing_file
+        raise
+    if material is not None:
+        try:
+            material_from_job({"name": material})
+        except InputError as exc:
+            raise InputError("--material", exc.message) from None
+    notes = drawing_notes(drawing, section)
+    warn(notes, drawing_file)
+    text = job_text(drawing, notes, material)
+    if out_file is None:
+        click.echo(text, nl=False)
+        return
+    out = Path(out_file)
+    if out.exists():
+        raise InputError("--out", f"{out_file} exists already; choose another name (a job file is never overwritten)")
+    try:
+        temporary = out.with_name(out.name + ".part")
+        temporary.write_text(text, encoding="utf-8")
+        temporary.replace(out)
+    except OSError as exc:
+        raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
+    click.echo(f"wrote {out_file}", err=True)
 
 
 def main(argv: list[str] | None = None) -> None:

@@ -241,7 +241,7 @@ def test_material_left_grows_towards_the_free_end(run, request):
     assert 0.0 < chuck < middle < free, (chuck, middle, free)
     check = next(c for c in pred.surfaces if c.surface == surface)
     diameter = check.predicted_diameter_mm
-    assert sign * diameter["chuck end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
+    assert sign * diameter["held end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
     drawn = 40.0 if surface == "od" else 38.0
     assert diameter["free end"] == pytest.approx(drawn + sign * 2.0 * check.deviation_mm["free end"], rel=SAME_FLOAT)
 
@@ -396,6 +396,16 @@ def test_shipped_example_predicts_with_the_contract_keys(example):
             assert station["feed_mm"] == given["feed"]
         assert record["max_deflection_mm"] == pytest.approx(max(s["deflection_mm"] for s in record["stations"]))
     assert data["deviation"] and all(finite(q[key]) for q in data["deviation"] for key in CONTRACT_DEVIATION)
+    # each finished surface's most material left is the largest on its own points, away from the drawing's
+    # corners, on a point facing the surface's side, and no row shows more (regression: the Ti sleeve's OD
+    # said 12.7 um, the rim face's material beside the rim fillet, while its rows showed at most 1.5 um)
+    for surface in data["surfaces"]:
+        own = [q for q in data["deviation"] if q["surface"] == surface["surface"] and not q["corner"]]
+        most = max(own, key=lambda q: q["deviation_mm"])
+        assert surface["most_material_left_mm"] == most["deviation_mm"]
+        assert surface["most_material_left_at"] == {"r_mm": most["r"], "z_mm": most["z"]}
+        assert (1.0 if surface["surface"] == "od" else -1.0) * most["nr"] > 0.0, most
+        assert all(surface["most_material_left_mm"] >= left for left in surface["material_left_mm"].values())
 
 
 # A face pass whose radial extent starts just outside the rim (as every shipped face pass does, to clear

@@ -54,7 +54,9 @@ from deflect.machining.inprocess import (
     polygon_mass,
     remove,
 )
+from deflect.machining.leftover import corners_left, covered, finishing_targets, reach_left
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.machining.toolshape import tool_shape
 from deflect.mechanics.chuck import centrifugal_force_n, grip_in_cut_n
 from deflect.mechanics.clamping import released_deviation
 from deflect.mechanics.compliance import Patch, WallModel
@@ -249,16 +251,19 @@ def plan_compliance(job, process: Process, settings: SimulationSettings, nominal
     return plan
 
 
-def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict):
+def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict, tool_shapes: bool = True):
     """({i: the cuts of pass i}, {i: the part before each of them}): each pass's cuts laid out on the part
-    cut exactly to the earlier targets. Kept in memo by the part before the pass and the pass's geometry
-    (feed, speed and tool do not change where a pass cuts)."""
+    cut exactly to the earlier targets, each target swept by its tool's nose and edges (tool_shapes False: a
+    point tool, the drawn contour itself). Kept in memo by the part before the pass, the pass's geometry and
+    its tool's shape (feed and speed do not change where a pass cuts)."""
     paths, parts, current = {}, {}, process.stock_rz
     for i, p in enumerate(process.passes):
+        tool = process.tools[p.tool] if tool_shapes else None
+        shape = tool_shape(tool, p.surface) if tool is not None else None
         name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
-                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring)
+                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring, shape)
         if name not in memo:
-            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm), []
+            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm, tool), []
             after = current
             for path in cuts:
                 befores.append(after)
@@ -266,6 +271,15 @@ def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: 
             memo[name] = (cuts, befores, after)
         paths[i], parts[i], current = memo[name]
     return paths, parts
+
+
+def cut_to_targets(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict,
+                   tool_shapes: bool = True) -> np.ndarray:
+    """The part every pass leaves when each cut goes exactly to its target (no push-off): what the tools'
+    shape alone leaves (tool_shapes False: the drawn contour wherever a pass runs)."""
+    paths, parts = laid_out(process, nominal_rz, spacing_mm, memo, tool_shapes)
+    last = len(process.passes) - 1
+    return cut_to_target(parts[last][-1], paths[last][-1], process.passes[last])
 
 
 def cut_to_target(current_rz: np.ndarray, path: CutPath, p: Pass, upto: int | None = None) -> np.ndarray:
@@ -510,6 +524,11 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
     return per_pass, current
 
 
+# the lobes' form on a SurfaceDeviation, from the released shape per newton (`clamping.ReleasedDeviation`)
+FORM_FIELDS = {"roundness_mm": "roundness_mm", "lobe_peak_mm": "peak_mm", "two_point_low_mm": "two_point_low_mm",
+               "two_point_high_mm": "two_point_high_mm"}
+
+
 def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str], memo: dict):
     """With [holding]: what the jaws' squeeze does to the surfaces finished in the chuck once they let go.
 
@@ -517,16 +536,18 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
     (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.machining.grip.grip_in_cut_n`,
     VDI 3106 (2004) as quoted second-hand). Returns (uniform spring-back along the outward normal [mm],
-    out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
-    (None, None, 0) without [holding]. The squeeze per newton is kept in memo (it depends on the drawn part, the
-    holding and the points only, not on the passes)."""
+    {roundness_mm, lobe_peak_mm, two_point_low_mm, two_point_high_mm: the lobes' form [mm]}, lobes) for every
+    deviation point (0 where no od or bore pass finished it), or (None, {}, 0) without [holding]. The squeeze
+    per newton is kept in memo (it depends on the drawn part, the holding and the points only, not on the
+    passes)."""
     if "holding" not in job.tables:
-        return None, None, 0
+        return None, {}, 0
     holding = holding_from_table(job.tables["holding"])
     machined = np.array([s in ("od", "id") for s in surfaces])
-    released, roundness = np.zeros(len(surfaces)), np.zeros(len(surfaces))
+    released = np.zeros(len(surfaces))
+    form = {name: np.zeros(len(surfaces)) for name in FORM_FIELDS}
     if not machined.any():
-        return released, roundness, 0
+        return released, form, 0
     points, normals = raw.points_rz[machined], raw.normals[machined]
     name = ("released", job.section, holding, job.material.E_mpa, job.material.nu, points.tobytes(),
             normals.tobytes())
@@ -539,8 +560,9 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
                     for p, r in zip(passes, raw.points_rz[machined, 0])])
     grip_n = grip_in_cut_n(holding.force_n, centrifugal_force_n(holding.centrifugal_moment_kg_m, rpm), holding.grip)
     released[machined] = grip_n * per_newton.mean_mm
-    roundness[machined] = grip_n * per_newton.roundness_mm
-    return released, roundness, per_newton.lobes
+    for name, field_name in FORM_FIELDS.items():
+        form[name][machined] = grip_n * getattr(per_newton, field_name)
+    return released, form, per_newton.lobes
 
 
 def faces_cut_below(process: Process, per_pass: list[list[StationTable]], raw: Deviation,
@@ -590,15 +612,13 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
         gap, nearest = cKDTree(path).query(deviation.points_rz)
         # a point this pass finished lies at its final target, across from a station between the path's
         # ends (at or beyond an end a surface an earlier pass finished may carry on, and the point where the
-        # two meet is their corner), within half the stations' spacing of it along the path, and faces the
-        # way the cut surface faces there (at a corner of the path, where the station's normal is the mean of
-        # the two sides', a point on the surface beyond the corner faces elsewhere)
+        # two meet is their corner), and faces the way the cut surface faces there, within FACING_DEG (at a
+        # corner of the path, where the station's normal is the mean of the two sides', a point on the
+        # surface beyond the corner faces elsewhere)
         facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > cos_facing
         offset = deviation.points_rz - path[nearest]
         tangent = np.column_stack([-final.normal_rz[nearest, 1], final.normal_rz[nearest, 0]])
-        steps = np.linalg.norm(np.diff(path, axis=0), axis=1)
-        spacing = np.maximum(np.r_[steps, 0.0], np.r_[0.0, steps])[nearest]
-        across = np.abs(np.einsum("ij,ij->i", offset, tangent)) <= 0.5 * spacing + 1e-9
+        across = np.abs(np.einsum("ij,ij->i", offset, tangent)) <= STATION_SPACING_MM
         inside = (nearest > 0) & (nearest < len(path) - 1)
         for k in np.flatnonzero(facing & across & inside & (gap <= reach)):
             surfaces[k], names[k] = p.surface, p.name
@@ -614,7 +634,7 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 
 
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
-    """Push-off at the chuck end (low z), the middle and the free end of each finished od and id, on the
+    """Push-off at the held end (low z), the middle and the free end of each finished od and id, on the
     surface's own cylindrical stretch (`straight_points`); its most material left and where it is, over the
     points it finished, corners of the drawing left out (a corner belongs to two surfaces)."""
     checks = []
@@ -625,7 +645,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         order = straight_points(deviation, surface)
         if len(order) < 3:
             continue
-        picks = {"chuck end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
+        picks = {"held end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
         positions = {name: tuple(map(float, deviation.points_rz[k])) for name, k in picks.items()}
         left = {name: float(deviation.deviation_mm[k]) for name, k in picks.items()}
         nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
@@ -655,7 +675,7 @@ def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
 
 
 def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
-    """Wall thickness against nominal at the chuck end, middle and free end of the height over which a
+    """Wall thickness against nominal at the held end, middle and free end of the height over which a
     cylindrical od and a cylindrical bore face each other (fillets left out, as a machinist measures)."""
     od, bore = straight_points(deviation, "od"), straight_points(deviation, "id")
     if len(od) < 3 or len(bore) < 3:
@@ -665,12 +685,21 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     if high <= low:
         return []
     rows = []
-    for name, z in (("chuck end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
+    for name, z in (("held end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
         r_od = float(np.interp(z, z_od, deviation.points_rz[od, 0]))
         r_id = float(np.interp(z, z_bore, deviation.points_rz[bore, 0]))
         left = float(np.interp(z, z_od, deviation.deviation_mm[od]) + np.interp(z, z_bore, deviation.deviation_mm[bore]))
         rows.append({"where": name, "z_mm": float(z), "nominal_mm": r_od - r_id, "predicted_mm": r_od - r_id + left})
     return rows
+
+
+def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict):
+    """(corners, reach): what the finishing tools' nose and edges leave beyond the drawing
+    (`deflect.machining.leftover`), on the part cut exactly to the targets."""
+    targets = finishing_targets(job, process, memo)
+    corners = corners_left(job, process, targets)
+    shaped = cut_to_targets(process, nominal_rz, settings.station_spacing_mm, memo)
+    return corners, reach_left(job, process, shaped, corners, targets)
 
 
 def simulate(job, process: Process, settings: SimulationSettings = SimulationSettings(), progress=None,
@@ -694,11 +723,11 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
 
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
-    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
+    released, form, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
-                                 surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness,
-                                 corner=raw.corner)
+                                 surface=surfaces, finished_by=names, released_mm=released, corner=raw.corner,
+                                 **form)
     spring_back = 0.0 if released is None else released
     range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
                  for rz in ranges] or [float(np.max(deviation.deviation_mm))]
@@ -715,11 +744,19 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
             peak_power_kw=float(max(t.power_kw.max(initial=0.0) for t in tables)),
             mass_left_g=float(layer[mine].sum()) if mine.any() else 0.0))
 
+    # the tools' shape: the nose's material in internal corners (exact) and what the edges cannot reach are
+    # causes of their own; the layer on the surface is counted where they are not
+    corners, reach = shape_left(job, process, nominal_rz, settings, memo) if with_ranges else ([], [])
+    apart = covered(deviation.points_rz, corners, reach)
     by_surface = {}
     for name in ("od", "id", "face", "unmachined"):
-        mine = np.array([s == name for s in surfaces], bool)
+        mine = np.array([s == name for s in surfaces], bool) & ~apart
         if mine.any():
             by_surface[name] = float(layer[mine].sum())
+    if any(c.material is not None for c in corners):
+        by_surface["corners"] = float(sum(c.mass_g for c in corners))
+    if reach:
+        by_surface["reach"] = float(sum(piece.mass_g for piece in reach))
     checks = surface_checks(deviation, material.density_g_cm3)
     peak_power = max((p.peak_power_kw for p in passes), default=0.0)
     warnings = list(process.warnings)
