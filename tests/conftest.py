@@ -1,20 +1,33 @@
-"""Fixtures shared by test modules: the demo's full report, made once per test session.
+"""Test-wide settings, and fixtures shared by test modules.
 
-`deflect report` on the shipped housing predicts it and searches its remedies (the slowest step of the report,
-about 15 s of CPU); the browser checks, the `tune --apply` round trip and the comparison all start from this
-one run: its HTML file and its JSON (each part under its command's name).
+The shell models' matrices are small: BLAS threads cost more than they give there, and on a shared 2-core
+machine they fight the other processes (one shell computation measured 0.5 s on one thread, 54 s with the
+default threads under load). The command line sets one thread for the same reason (`deflect/cli.py`); tests
+that call the library directly get the same here, before numpy is first imported.
+
+The demo's full report is made once per test session: `deflect report` on the shipped housing predicts it and
+searches its remedies (the slowest step of the report, about 15 s of CPU); the browser checks, the `tune
+--apply` round trip and the comparison all start from this one run: its HTML file and its JSON (each part under
+its command's name).
 """
 
-from __future__ import annotations
+import os
 
-import io
-import json
-from contextlib import redirect_stderr, redirect_stdout
-from pathlib import Path
+for _variable in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_variable, "1")
 
-import pytest
+from threadpoolctl import threadpool_limits  # noqa: E402  (after the settings above)
 
-from deflect.cli import main
+threadpool_limits(limits=1)
+
+import io  # noqa: E402
+import json  # noqa: E402
+from contextlib import redirect_stderr, redirect_stdout  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+import pytest  # noqa: E402
+
+from deflect.cli import main  # noqa: E402
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
 DEMO_JOB = EXAMPLES / "housing.toml"
