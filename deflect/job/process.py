@@ -66,6 +66,12 @@ class Pass:
     # side for od / id (outwards from the material, like `offset` on a cylinder) and in Z for a face,
     # interpolated between and held beyond; () for none
     compensation: tuple[tuple[float, float], ...] = ()
+    # from a first article's calibration (`deflect.job.calibration`; 1 and 0 without one): the factor on this
+    # pass's forces (its tool's kc1.1, kf1.1 and kp1.1 together), and the size error of the surface it finishes
+    # (wear, tool setting, thermal growth), which is already inside `compensation`: the target is where the
+    # machine really cuts; the program's compensation is each pair's offset less size_error_mm
+    force_factor: float = 1.0
+    size_error_mm: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -345,5 +351,7 @@ def read_process(job) -> Process:
     warnings: list[str] = []
     machine = _machine_from_job(tables, warnings)
     tolerance = dict(check_table(tables.get("tolerance", {}), "tolerance"))
+    if job.calibration is not None:
+        passes = job.calibration.applied_to(passes)
     return Process(stock_rz=stock_rz, tools=tools, passes=passes, machine=machine, tolerance=tolerance,
                    warnings=warnings)

@@ -19,6 +19,7 @@ from pathlib import Path
 from deflect.errors import InputError
 from deflect.geometry.boxes import HeldBox
 from deflect.geometry.section import Section, section_from_outline, unit_size_warning
+from deflect.job.calibration import Calibration, read_calibration, with_calibration
 from deflect.job.checks import check_keys, check_range, check_table, is_number
 from deflect.job.holding import held_from_holding
 from deflect.job.materials import Material, material_from_job
@@ -27,7 +28,7 @@ MM_PER_INCH = 25.4
 
 # Tables a job may hold. The machining ones are read by the simulation; here they only pass through.
 KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding")
-JOB_KEYS = ("title", "units")
+JOB_KEYS = ("title", "units", "calibration")
 PART_KEYS = ("outline",)
 HELD_KEYS = ("r", "z")
 
@@ -51,6 +52,7 @@ class Job:
     held: list[HeldBox]
     tables: dict = field(default_factory=dict)   # machining tables (stock, tool, pass, ...), lengths in mm
     warnings: list[str] = field(default_factory=list)
+    calibration: Calibration | None = None       # a first article's (`deflect.job.calibration`), if given
 
 
 def scale_lengths(value, factor: float):
@@ -121,8 +123,9 @@ def read_held(data: dict, factor: float) -> list[HeldBox]:
     return boxes
 
 
-def parse_job(data: dict, path: str) -> Job:
-    """Check a parsed TOML document and build the Job (InputError without the file name)."""
+def parse_job(data: dict, path: str, calibrated: bool = True) -> Job:
+    """Check a parsed TOML document and build the Job (InputError without the file name); calibrated False
+    leaves out a `[job] calibration` (the job with its recalled constants)."""
     for name in data:
         if name not in KNOWN_TABLES:
             raise InputError(name, f"unknown table; a job holds {', '.join(KNOWN_TABLES)}")
@@ -157,12 +160,25 @@ def parse_job(data: dict, path: str) -> Job:
     if "holding" in tables and not held:
         # the material under the jaws' contact is what holds the part for the cutting stiffness
         held = held_from_holding(section, tables["holding"])
-    return Job(path=path, title=title, units=units, section=section, material=material,
-               held=held, tables=tables, warnings=warnings)
+    where = calibration_path(job_table["calibration"], path) if "calibration" in job_table else None
+    if where is not None and not calibrated:
+        warnings.append(f"job.calibration: {where} is left out here; the job's recalled constants are used")
+    job = Job(path=path, title=title, units=units, section=section, material=material,
+              held=held, tables=tables, warnings=warnings)
+    return with_calibration(job, read_calibration(where)) if where is not None and calibrated else job
 
 
-def read_job(path: str | Path) -> Job:
-    """Read and check a job file; every problem is an InputError naming this file."""
+def calibration_path(value, job_path: str) -> Path:
+    """`[job] calibration = "file.toml"`: the calibration file, a path relative to the job's folder."""
+    if not isinstance(value, str) or not value.strip():
+        raise InputError("job.calibration", "must be the path of a calibration file in quotes, as written by "
+                                            "`deflect explain --save`")
+    return Path(job_path).parent / value
+
+
+def read_job(path: str | Path, calibrated: bool = True) -> Job:
+    """Read and check a job file; every problem is an InputError naming this file. calibrated False leaves
+    out its `[job] calibration`."""
     path = str(path)
     try:
         text = Path(path).read_bytes().decode("utf-8")
@@ -175,7 +191,7 @@ def read_job(path: str | Path) -> Job:
     except tomllib.TOMLDecodeError as exc:
         raise InputError("file", f"not valid TOML: {exc}", file=path) from None
     try:
-        return parse_job(data, path)
+        return parse_job(data, path, calibrated)
     except InputError as exc:
-        exc.file = path
+        exc.file = exc.file or path          # a problem in the calibration file names that file
         raise

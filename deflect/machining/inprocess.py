@@ -124,6 +124,10 @@ def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> 
     u0, v0, u1, v1 = u0[slanted], v0[slanted], u1[slanted], v1[slanted]
     levels = np.concatenate([v0, v1])
     levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo) & (levels < v_hi)]]))
+    # levels closer than tol are one level: a slab thinner than that is spanned only by edges the filter above
+    # dropped (an offset face a micrometre off its drawn height leaves one between its edge and the arc that
+    # rounds it), and the envelope would jump to the far side there
+    levels = levels[np.concatenate([[True], np.diff(levels) > tol])]
     bottom, top = levels[:-1], levels[1:]
     lo_edge, hi_edge = np.minimum(v0, v1), np.maximum(v0, v1)
     slope = (u1 - u0) / (v1 - v0)
