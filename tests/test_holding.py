@@ -1,5 +1,5 @@
 """Work holding: the [holding] reader, where the grip bears, the grip window and its remedies, and
-`deflect clamp` (JSON keys of shared/CONTRACT.md, the figure, bad input as one error line)."""
+`deflect clamp` (JSON keys of INTERFACE.md, the figure, bad input as one error line)."""
 
 import json
 import math

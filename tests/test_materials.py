@@ -56,14 +56,15 @@ def test_every_library_number_has_a_source(library):
 
 
 def test_kienzle_constants_stay_marked_as_from_memory(library):
-    # REFERENCE.md marks every Kienzle constant [M]; nobody has read a printed table yet.
+    # every shipped Kienzle constant is a recalled value; nobody has read a printed table yet.
     for name in SHIPPED:
         for key in KIENZLE_KEYS:
             assert "from memory" in library[name].sources[key], f"{name}.{key}"
 
 
 def test_library_values_lie_in_the_reference_bands(library):
-    # Plausibility bands from REFERENCE.md sections 1.3 and 6 ([M] values: bands only).
+    # Plausibility bands, recalled handbook ranges (Koenig & Klocke; Tschaetsch; ASM Handbook vol. 2; from memory:
+    # bands only).
     steel = library["steel-c45"]
     assert 200000 <= steel.E_mpa <= 215000 and 7.8 <= steel.density_g_cm3 <= 7.9
     assert 650 <= library["al-6061-t6"].kc11 <= 830

@@ -9,7 +9,7 @@ Checks, each against something computed here rather than read back from the prod
   outwards), most next to the jaws;
 * the spring-back moves the surface but adds no material: the mass gain equals a Pappus integration of the
   deviation less the spring-back;
-* six jaws at the same total grip leave the bore far rounder than three (REFERENCE.md 4.6: a factor of
+* six jaws at the same total grip leave the bore far rounder than three (inextensional ring theory, derived: a factor of
   about 19 on a thin ring; here a short tube, so only the direction and a lower bound of 5 are asserted);
 * the features against the drawing: the OD and bore limits from ISO 286-1 (`deflect.job.fits`, validated on its
   own) and the predicted extremes recomputed from the JSON deviation points.

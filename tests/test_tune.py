@@ -100,7 +100,7 @@ def sleeve(wall_mm: float = 1.0, stepped: bool = False) -> dict:
 
 
 def in_inches(tables: dict) -> dict:
-    """The same job written in inches: every length of its tables divided by 25.4 (CONTRACT.md: with
+    """The same job written in inches: every length of its tables divided by 25.4 (INTERFACE.md: with
     units = "inch" every length in the file is inches; fit codes, Ra, speeds and moduli stay)."""
     def scaled(value):
         return [scaled(v) for v in value] if isinstance(value, list) else value / MM_PER_INCH
@@ -458,7 +458,7 @@ def test_impossible_tolerance_names_the_limiting_feature(folder):
 
 
 # ---------------------------------------------------------------------------------------------------
-# 4. the JSON keys of shared/CONTRACT.md, ranks and order
+# 4. the JSON keys of INTERFACE.md, ranks and order
 
 @pytest.mark.parametrize("run", RUNS)
 def test_tune_json_carries_the_contract_keys(run, request):
@@ -665,7 +665,7 @@ def test_spring_cut_pushes_off_by_its_own_force(folder):
 # the cutting speed, where the machine's power limits it
 
 def test_a_pass_over_the_machines_power_runs_slower_in_every_option(folder):
-    """P = F_c v_c / 60000 (REFERENCE.md 1.1; the force hardly changes with speed): a pass that asks more
+    """P = F_c v_c / 60000 (the cutting power; the force hardly changes with speed): a pass that asks more
     than the machine has is slowed in every option, and an option said to meet keeps its predicted peak
     power within the machine's."""
     tables = sleeve()

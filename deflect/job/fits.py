@@ -2,7 +2,7 @@
 
 Takes an ISO 286 tolerance class as written on a drawing ("h8" for a shaft, "H7" for a hole) and a nominal
 diameter, and gives the lower and upper deviation on the diameter (`limits_of_fit`, mm). Takes the job's
-`[tolerance]` table (shared/CONTRACT.md, "The machining job"; lengths already in mm, see
+`[tolerance]` table (INTERFACE.md, "The machining job"; lengths already in mm, see
 `deflect.job.reader.TOLERANCE_LENGTH_KEYS`) and gives a checked `Tolerances`, whose `diameter_limits` turns the od
 or id tolerance into deviations for the diameter it applies to.
 
@@ -17,7 +17,8 @@ linear sizes - Part 1: Basis of tolerances, deviations and fits*:
   K, M, N, P: ES = -ei of the same shaft letter, plus Delta = IT(n) - IT(n-1) for K, M, N up to grade 8 and
   P up to grade 7; JS: +/- IT/2). The table numbers of the 2010 edition are from memory, to be confirmed.
 
-What is confirmed and what is recalled is said beside each table (marks as in shared/REFERENCE.md).
+What is confirmed and what is recalled is said beside each table: [C] read in the standard's table or in
+two independent reproductions of it that agree, [M] from memory, to be confirmed.
 Letters and grades the module does not hold are refused with an `InputError`, never guessed.
 """
 
@@ -31,7 +32,7 @@ from deflect.job.checks import check_keys, check_table, number
 
 # ISO 286-1:2010, Table 1: standard tolerance values, um, per nominal size range in mm ("over ... up to and
 # including"; the first range takes sizes from 0 to 3 inclusive).
-# IT5 to IT11 up to 315 mm: [C], shared/REFERENCE.md section 5.
+# IT5 to IT11 up to 315 mm: [C], two independent public reproductions of ISO 286-1:2010 Table 1 that agree.
 # IT1 to IT4, IT12 to IT18 and the ranges 315-400 and 400-500: from memory, to be confirmed.
 STANDARD_TOLERANCE_ROWS = (
     # (over mm, up to and including mm, (IT1, IT2, ..., IT18) um)
@@ -60,7 +61,7 @@ SMALLEST_COARSE_SIZE_MM = 1.0
 SIZE_ROUND_OFF_MM = 1e-9
 
 # Fundamental deviations, um, one value per range of SIZE_RANGES_MM. All from memory, to be confirmed,
-# except g, f, e at 18-30 and 30-50 (shared/REFERENCE.md section 5, [M] there too) and h (es = 0, [C]).
+# except g, f, e at 18-30 and 30-50 ([M]) and h (es = 0, [C]).
 # ISO 286-1:2010, Table 2: upper deviation es of shafts d to h.
 SHAFT_UPPER_UM = {
     "d": (-20, -30, -40, -50, -65, -80, -100, -120, -145, -170, -190, -210, -230),
@@ -92,7 +93,7 @@ M6_SPECIAL = (6, (250.0, 315.0), -9.0)  # grade, size range mm, ES um
 
 # js / JS: +/- IT/2. For js7 to js11 an odd IT (in um) is first rounded down to the even value below, so the
 # deviations come out in whole micrometres (ISO 286-1:2010 note to Tables 2 and 4; the grade range is from
-# memory, to be confirmed: shared/REFERENCE.md section 5 states the rule [M] without it, while the published
+# memory, to be confirmed: the rule is recalled without it, while the published
 # js6 limits keep their half micrometres, e.g. js6 over 18 up to 30 mm = +/-6.5 um).
 JS_ROUNDED_GRADES = range(7, 12)
 

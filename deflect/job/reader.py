@@ -1,6 +1,6 @@
 """Job file: TOML on disk -> a checked `Job` in mm, N, MPa.
 
-Takes the path of a job file (layout in shared/CONTRACT.md) and gives a `Job`: the title, the nominal
+Takes the path of a job file (keys in INTERFACE.md) and gives a `Job`: the title, the nominal
 section (`deflect.geometry.section.Section`), the material (`deflect.job.materials.Material`), the held boxes (the
 [[held]] boxes or, when there are none, the material under the [holding] contact,
 `deflect.job.holding.held_from_holding`), and the machining tables as read (checked by the modules that use
@@ -32,7 +32,7 @@ JOB_KEYS = ("title", "units", "calibration")
 PART_KEYS = ("outline",)
 HELD_KEYS = ("r", "z")
 
-# Lengths inside the machining tables, converted for inch jobs (key names as in CONTRACT.md).
+# Lengths inside the machining tables, converted for inch jobs (key names as in INTERFACE.md).
 TOOL_LENGTH_KEYS = ("nose_radius",)
 BAR_LENGTH_KEYS = ("diameter", "overhang")
 PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset", "compensate")

@@ -7,15 +7,16 @@ surface finished in the chuck after release, the grip during each cut, the least
 remedies each evaluated with the model (more jaws, wider jaws, a collet or mandrel, gripping on a thicker
 section, a lighter grip for the finishing passes), and the cautions.
 
-Holding the cut (jaw chuck practice as quoted from VDI 3106 (2004) in REFERENCE.md 8 [S]):
+Holding the cut (jaw chuck practice after VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern
+(Backenfutter)", as quoted in chuck makers' operating manuals: seen second-hand):
 * the jaws' centrifugal force Fc = (sum m_B r_s) (pi n / 30)^2 (kg, m, 1/min -> N) takes grip away from an
   OD grip and adds to a bore grip: F_sp = F_sp0 -/+ Fc;
 * the grip must carry the cut by friction: the cutting force F_c at the chip's radius r turns the part with
-  the torque F_c r, which the grip holds with mu F_sp R at the gripped radius R (REFERENCE.md 8 [S]); the
+  the torque F_c r, which the grip holds with mu F_sp R at the gripped radius R (same source); the
   feed force (the passive force of a face pass) pushes it along the axis, held by the same friction. Coulomb
   friction bounds the friction force of a contact in any direction of its plane by mu times its normal force,
   so the two demands add as a vector: F_spz = sqrt((F_c r / R)^2 + F_axial^2) / mu. (The tilting moment of a
-  long overhang needs a check of its own, REFERENCE.md 8; it is not made here.)
+  long overhang needs a check of its own; it is not made here.)
 * the least static grip: F_sp0 = S_z F_spz + Fc for an OD grip. For a bore grip F_sp0 = S_z F_spz - Fc, but
   never below F_spz: the gain from speed is counted for the safety margin only, never for the force itself
   (the spindle slows at the end of the cycle, and the grip must hold whenever the tool is in the cut). The
@@ -52,7 +53,7 @@ from deflect.mechanics.cutting import cutting_forces, spindle_speed_rpm
 
 HOLD_STATION_MM = 0.5        # station spacing along a cut for the grip it needs (the force changes slowly)
 SURFACE_SPACING_SHARE = 1 / 200   # finished-surface points every perimeter / 200
-EN1550_SHARE = 0.67          # EN 1550 as quoted (REFERENCE.md 8 [S]): Fc at top speed <= 67 % of the grip
+EN1550_SHARE = 0.67          # EN 1550:1997+A1:2008 as quoted second-hand: Fc at top speed <= 67 % of the grip
 PIE_SHARE = 0.8              # pie jaws: together covering this share of the gripped circumference
 THICKER_BY = 1.2             # a stretch of the gripped side counts as thicker with 20 % more wall
 GRIP_POSITIONS = 24          # positions of the grip zone tried along the gripped side

@@ -509,7 +509,7 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     A surface cut round while squeezed springs back by minus the squeeze (`deflect.mechanics.clamping`); the squeeze
     is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
     (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.machining.grip.grip_in_cut_n`,
-    VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
+    VDI 3106 (2004) as quoted second-hand). Returns (uniform spring-back along the outward normal [mm],
     out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
     (None, None, 0) without [holding]. The squeeze per newton is kept in memo (it depends on the drawn part, the
     holding and the points only, not on the passes)."""

@@ -9,8 +9,8 @@ The loads. N jaws at theta_j = 2 pi j / N press on the gripped surface, each ove
 circumference (half-angle a = width / (2 R) at the gripped radius R) and over the contact's z extent along
 the meridian, with a uniform pressure (weights r ds); the total force F is shared equally, radially inward
 for an OD grip, outward for a bore grip. One jaw's load per radian has the cosine series
-(F/N) [1/(2 pi) + sum_n g_n / pi cos(n (theta - theta_j))], g_n = sin(n a) / (n a) (REFERENCE.md 11); summed
-over the N jaws, sum_j cos(n (theta - theta_j)) is N cos(n theta) when N divides n and 0 otherwise, so only
+(F/N) [1/(2 pi) + sum_n g_n / pi cos(n (theta - theta_j))], g_n = sin(n a) / (n a) (the Fourier series of a
+rectangular pulse); summed over the N jaws, sum_j cos(n (theta - theta_j)) is N cos(n theta) when N divides n and 0 otherwise, so only
 n = 0, N, 2N, ... are excited, with amplitudes F / (2 pi) and F g_n / pi. A collet or mandrel is a pressure
 all round: n = 0 alone.
 
@@ -155,7 +155,7 @@ class ReleasedDeviation:
 
 def grip_amplitudes(harmonics: np.ndarray, half_angle_rad: float) -> np.ndarray:
     """Load per radian of N equal jaws of total force 1 N at harmonics n = 0, N, 2N, ...: 1 / (2 pi) at n = 0,
-    g_n / pi above (module docstring; REFERENCE.md 11)."""
+    g_n / pi above (module docstring)."""
     n = np.asarray(harmonics, dtype=float)
     return np.where(n == 0, 0.5, patch_factor(n, half_angle_rad)) / math.pi
 

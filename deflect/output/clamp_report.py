@@ -93,7 +93,7 @@ def _worst_um(clamped: Clamped) -> float:
 
 
 def clamp_payload(study: ClampStudy) -> dict:
-    """The JSON object of `deflect clamp --json` (keys of shared/CONTRACT.md first)."""
+    """The JSON object of `deflect clamp --json` (the interface's fixed keys first)."""
     g = study.given
     limiting = None
     if g.limiting is not None:

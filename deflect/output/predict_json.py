@@ -1,4 +1,4 @@
-"""JSON payload of `deflect predict --json`: a Prediction -> the dict of shared/CONTRACT.md (plus extras).
+"""JSON payload of `deflect predict --json`: a Prediction -> the dict of INTERFACE.md (plus extras).
 
 Formatting only. The contract's keys and meanings are fixed; extra keys are added beside them.
 """

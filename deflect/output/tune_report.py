@@ -1,4 +1,4 @@
-"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of shared/CONTRACT.md.
+"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of INTERFACE.md.
 
 Formatting only; the figures come from `deflect.decisions.tune`. Changes are said the way a machinist says them
 (leave 0.1 mm a side for the finish pass; one spring pass; wear offset X -0.026). Values in the JSON and in

@@ -4,7 +4,7 @@ Reference
 ---------
 ISO 1832, "Indexable inserts for cutting tools - Designation". The standard's text was
 not read; the position meanings are those given by several public descriptions of it,
-as summarised in shared/REFERENCE.md section 7.1 (marked [S]): shape / corner angle,
+summarised here ([S]: seen second-hand): shape / corner angle,
 normal clearance, tolerance class, hole and chip breaker, size, thickness (04 = 4.76 mm,
 T3 = 3.97 mm), corner radius in tenths of a millimetre, optional edge condition and hand,
 then a maker's chip-breaker code that is not standardised.
