@@ -3,6 +3,7 @@
     conformance.py  prediction + tolerances -> each toleranced feature in or out, with its margin
     tune.py         ranked remedies (feed, spring cuts, allowance, tool, wear offset, compensation, order)
     design.py       the thinnest drawn wall that holds with the recommended finishing
+    first_article.py  a measured part: force factors, size errors and grip fitted, its mass gain by cause
 
 May import every room below: `deflect.errors`, `geometry`, `job`, `mechanics`, `machining`.
 """

@@ -186,7 +186,7 @@ def calibration_from_data(data: dict) -> Calibration:
     fitted_per = table.get("fitted_per", "tool")
     if fitted_per not in ("tool", "pass"):
         raise InputError("calibration.fitted_per", f'must be "tool" or "pass", got {fitted_per!r}')
-    residual = _number(table, "residual_rms_um", "calibration", 0.0, math.inf)
+    residual = _number(table, "residual_rms_um", "calibration", 0.0, math.inf) if "residual_rms_um" in table else 0.0
     factors = tuple(_factor(item, f"calibration.factor[{i}]")
                     for i, item in enumerate(_array(table, "factor")))
     sizes = tuple(_size_error(item, f"calibration.size_error[{i}]")

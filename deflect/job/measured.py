@@ -161,16 +161,19 @@ def measured_from_data(data: dict, path: str, job) -> Measured:
     polygon = job.section.polygon(POLYGON_CHORD_MM)
     notes: list[str] = []
     readings = []
+    assumed: dict[tuple[str, str], list[str]] = {}
     for kind in ("diameter", "wall", "face", "roundness"):
         for i, entry in enumerate(_entries(table, kind)):
             reading = READERS[kind](entry, f"measured.{kind}[{i}]", polygon, factor, units)
             if reading.uncertainty_from != "given":
-                notes.append(f"{reading.key}: uncertainty {_shown(reading)} assumed, the usual one of a "
-                             f"{reading.uncertainty_from} (common practice); give `uncertainty` to override")
+                assumed.setdefault((reading.uncertainty_from, _shown(reading)), []).append(
+                    reading.key.removeprefix("measured."))
             elif reading.kind != "roundness" and reading.uncertainty_mm > COARSEST_MM:
                 notes.append(f"{reading.key}: an uncertainty of {reading.uncertainty_mm:g} mm is coarser than the "
                              "push-off it is meant to see (micrometres); it weighs little in the fit")
             readings.append(reading)
+    notes += [f"uncertainty {shown} assumed for {', '.join(keys)}: the usual one of a {instrument} (common "
+              "practice); give `uncertainty` to override" for (instrument, shown), keys in assumed.items()]
     mass, mass_u, mass_from = _mass(table, job)
     if mass is not None and mass_from != "given":
         notes.append(f"measured.mass_uncertainty: {mass_u:g} g assumed, a laboratory scale (common practice)")

@@ -351,7 +351,8 @@ def read_process(job) -> Process:
     warnings: list[str] = []
     machine = _machine_from_job(tables, warnings)
     tolerance = dict(check_table(tables.get("tolerance", {}), "tolerance"))
-    if job.calibration is not None:
-        passes = job.calibration.applied_to(passes)
+    calibration = getattr(job, "calibration", None)     # a Job has one (None without); a bare section may not
+    if calibration is not None:
+        passes = calibration.applied_to(passes)
     return Process(stock_rz=stock_rz, tools=tools, passes=passes, machine=machine, tolerance=tolerance,
                    warnings=warnings)

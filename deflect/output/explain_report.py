@@ -8,6 +8,8 @@ mass g. Formatting only: the figures come from `deflect.decisions.first_article`
 
 from __future__ import annotations
 
+import textwrap
+
 import numpy as np
 
 from deflect.decisions.first_article import Estimate, FirstArticle, usual_suspects
@@ -16,10 +18,13 @@ from deflect.output.tables import grid
 from deflect.output.tune_report import option_words, tune_payload
 
 SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "face", "wall": "wall"}
+WHAT = {("diameter", "od"): "OD diameter", ("diameter", "id"): "bore diameter", ("wall", "wall"): "wall",
+        ("face", "face"): "face height", ("roundness", "od"): "OD roundness", ("roundness", "id"): "bore roundness"}
 CAUSES = {"push-off": "push-off", "size error": "size error", "unreached": "corners and stock no pass reached",
           "density": "the batch's density (measured)", "layers": "(sum of the surfaces' layers against the section)"}
 PROFILE_ROWS = 9                 # heights shown in the profile table
 OPTIONS_SHOWN = 3                # options of the next part printed
+WIDTH = 110                      # prose is wrapped to this many characters
 EXPLAINS = (
     "A force factor scales its tool's kc1.1, kf1.1 and kp1.1 together; the readings see force times compliance, "
     "so it also carries any error of the wall's stiffness the model makes. A size error is uniform along its "
@@ -73,7 +78,7 @@ def readings_table(result: FirstArticle) -> list[str]:
         else:
             values = [f"{v:.4f}" for v in (x.value_mm, r.uncalibrated_mm, r.calibrated_mm)]
             drawn = f"{x.nominal_mm:.4f}"
-        rows.append([x.key.removeprefix("measured."), f"{x.kind} {SURFACE_NAMES[x.surface]}", where, drawn, *values,
+        rows.append([x.key.removeprefix("measured."), WHAT[(x.kind, x.surface)], where, drawn, *values,
                      f"{1000 * (x.value_mm - r.calibrated_mm):+.1f}", f"{1000 * r.uncertainty_mm:.1f}",
                      "" if r.used else "no", r.note])
     header = ["reading", "what", "where mm", "drawn mm", "measured", "uncalibrated", "calibrated", "residual um",
@@ -150,7 +155,8 @@ def explain_report(result: FirstArticle, remedies=None, surface_of: dict | None 
                    searched: bool = False) -> str:
     lines = [f"First article: {result.title}", f"measured part: {result.measured_path}", "",
              f"Calibration ({'per tool' if result.calibration.fitted_per == 'tool' else 'per pass'}, 95 % "
-             "intervals)", *estimates_table(result), EXPLAINS, f"fit: {fit_words(result)}",
+             "intervals)", *estimates_table(result), *textwrap.wrap(EXPLAINS, WIDTH),
+             *textwrap.wrap(f"fit: {fit_words(result)}", WIDTH),
              f"residual {result.residual_rms_um:.2f} um rms (measured - calibrated)", "",
              "Readings (mm; roundness um)", *readings_table(result), "",
              "Mass", *mass_lines(result), "",
@@ -158,8 +164,9 @@ def explain_report(result: FirstArticle, remedies=None, surface_of: dict | None 
              "Next part (with the calibrated constants)",
              *next_part_lines(remedies, surface_of or {}, units, searched)]
     if result.notes:
-        lines += ["", "Notes:", *(f"  {n}" for n in result.notes)]
-    lines += ["", CAUTION]
+        lines += ["", "Notes:", *(textwrap.fill(n, WIDTH, initial_indent="  ", subsequent_indent="    ")
+                                  for n in result.notes)]
+    lines += ["", *textwrap.wrap(CAUTION, WIDTH)]
     return "\n".join(lines)
 
 

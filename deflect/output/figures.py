@@ -235,6 +235,8 @@ def released_shape_plot(profile, title: str, path: str) -> None:
 
 
 PROFILE_PANELS = {"od": "OD diameter", "id": "bore diameter", "wall": "wall thickness"}
+FIGURE_CAUSES = {"push-off": "push-off", "size error": "size error", "unreached": "stock not reached",
+                 "density": "batch density", "layers": "layer sums"}
 
 
 def first_article_plot(result, path) -> Path:
@@ -242,8 +244,12 @@ def first_article_plot(result, path) -> Path:
     um; the measured ones with their 95 % bars), and the measured mass gain split by cause."""
     plt = _pyplot()
     panels = list(result.profiles)
-    fig, axes = plt.subplots(1, len(panels) + 1, figsize=(4.6 * (len(panels) + 1) + 1, 5.2), squeeze=False)
-    for ax, profile in zip(axes[0], panels):
+    rows = (len(panels) + 2) // 2          # two panels a row: the profiles, then the mass
+    fig, axes = plt.subplots(rows, 2, figsize=(12, 4.6 * rows + 0.6), squeeze=False)
+    axes = axes.ravel()
+    for ax in axes[len(panels) + 1:]:
+        ax.set_axis_off()
+    for ax, profile in zip(axes, panels):
         ax.plot(1000 * profile.uncalibrated_mm, profile.z_mm, "--", color="0.55", label="uncalibrated")
         ax.plot(1000 * profile.calibrated_mm, profile.z_mm, "-", color="tab:blue", label="calibrated")
         mine = [r for r in result.readings if r.reading.kind in ("diameter", "wall")
@@ -258,13 +264,13 @@ def first_article_plot(result, path) -> Path:
         ax.set_title(PROFILE_PANELS[profile.surface])
         ax.grid(True, alpha=0.3)
         ax.legend(loc="best", fontsize=8)
-    ax = axes[0][-1]
+    ax = axes[len(panels)]
     mass = result.mass
     if mass is None:
         ax.text(0.5, 0.5, "the part was not weighed", ha="center", va="center", transform=ax.transAxes)
         ax.set_axis_off()
     else:
-        labels = [s.cause + (f"\n{s.where.split(' (')[0]}" if s.where else "") for s in mass.shares]
+        labels = [FIGURE_CAUSES[s.cause] + (f", {s.where.split(' (')[0]}" if s.where else "") for s in mass.shares]
         values = [s.mass_g for s in mass.shares]
         labels += ["rest"]
         values += [mass.rest_g]
