@@ -447,8 +447,8 @@ def write_contours(job, result, folder: str) -> list:
     try:
         out.mkdir(parents=True, exist_ok=True)
         for p in changed.passes:
-            if not p.compensation:
-                continue
+            if not any(c != p.size_error_mm for _, c in p.compensation):   # nothing programmed (a calibrated
+                continue                                                   # size error alone is not a program)
             rows = compensated_contour(job, changed, p)
             stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
             for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):

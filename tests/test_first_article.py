@@ -525,7 +525,7 @@ def test_the_rest_beyond_the_measurement_is_said_with_the_usual_suspects(sleeve,
     data = measure(truths[0.7], **READINGS)
     data["measured"]["mass"] += 0.5                    # half a gram of something the dimensions do not see
     result = fitted(sleeve, data, memo)
-    text = explain_report(result)
+    text = " ".join(explain_report(result).split())          # the prose is wrapped
     assert "MORE than the measurement allows" in text and "stock a pass did not clean up" in text
     mass = explain_payload(result)["mass"]
     assert not mass["rest_explained"] and mass["rest_g"] == pytest.approx(0.5, abs=0.01)

@@ -39,10 +39,12 @@ Identification, decided before the fit on the Jacobian at the start (factors 1, 
    length: a singular value below `SEPARABLE_RATIO` of the largest (or missing, fewer readings than unknowns)
    means a combination the readings cannot see; the unknowns that take part in it (`SHARE_IN_NULL` of its
    singular vector or more) cannot be separated from each other;
-3. resolved: after the fit, a factor whose 95 % interval reaches 0 is not resolved from "no push-off at
-   all"; it is set aside and the fit made again.
+3. resolved: a factor whose 95 % interval at its recalled value (the same Jacobian, correlations included,
+   the stated uncertainties) would reach 0 is not resolved from "no push-off at all", and is set aside.
+All three are decided on where the readings are and how good they are, never on the noise of one part (a
+rule judged on the fitted interval would drop a factor whenever a part happened to scatter).
 An unknown that is not identified stays at 1 (factors) or 0 (size errors), is reported "not identified" with
-the reason, and is never fitted to noise.
+the reason, and is never fitted to noise. A factor's interval is cut at 0 (a force is not negative).
 
 The intervals: C = s2 (J^T J)^-1 with J the weighted Jacobian at the solution (through its singular value
 decomposition, as scipy's curve_fit), s2 = 1 while the residuals are as large as the stated uncertainties
@@ -76,7 +78,7 @@ from deflect.errors import ModelError
 from deflect.geometry.gauging import nearest_face, nearest_radius, outer_wall
 from deflect.geometry.section import POLYGON_CHORD_MM, mass_properties
 from deflect.job.calibration import GRIP_APPLIES_TO, Calibration, Factor, SizeError, with_calibration
-from deflect.job.measured import Measured, Reading
+from deflect.job.measured import MIN_RADIAL_NORMAL, Measured, Reading
 from deflect.machining.inprocess import polygon_mass
 from deflect.machining.results import Prediction
 from deflect.machining.simulate import CYLINDER_COS, SimulationSettings, plan_compliance, run_passes, simulate
@@ -326,12 +328,12 @@ def released_at(pred: Prediction, readings: list[Reading]) -> tuple[np.ndarray, 
     for k, reading in enumerate(readings):
         if reading.kind not in ("diameter", "roundness"):
             continue
-        mine = np.array([s == reading.surface for s in d.surface])
+        # the finished points of its surface that a diameter can be read on (the reader's own rule), by height
+        mine = np.array([s == reading.surface and abs(n[0]) >= MIN_RADIAL_NORMAL
+                         for s, n in zip(d.surface, d.normals)], bool)
         if not mine.any():
             continue
-        r = 0.5 * reading.nominal_mm if reading.kind == "diameter" else np.interp(
-            reading.at_mm, d.points_rz[mine, 1], d.points_rz[mine, 0])
-        gaps = np.hypot(d.points_rz[mine, 0] - r, d.points_rz[mine, 1] - reading.at_mm)
+        gaps = np.abs(d.points_rz[mine, 1] - reading.at_mm)
         nearest = int(np.argmin(gaps))
         if gaps[nearest] <= RELEASE_REACH_MM:
             released[k] = d.released_mm[mine][nearest]
@@ -392,22 +394,16 @@ def fit_unknowns(model: ReadingModel, y: np.ndarray, sigma: np.ndarray, used: np
         return Fit(x0, [False] * k, reasons, np.zeros((k, k)), np.zeros(k), 0.0, 0, False,
                    float(stats.norm.ppf(0.5 + COVERAGE / 2)), unseparated, True)
     start, _ = model.jacobian(x0, list(range(k)))
+    weighted = start[rows] / sigma[rows, None]
     seen_by(unknowns, start[rows], sigma[rows], identified, reasons)
-    unseparated = separable(unknowns, start[rows] / sigma[rows, None], identified, reasons)
-    while True:
-        active = [j for j in range(k) if identified[j]]
-        x, converged = solved(model, x0, active, y[rows], sigma[rows], rows)
-        result = covariance_at(model, x, active, y[rows], sigma[rows], rows)
-        covariance, gradient, chi_square, dof, scaled, quantile = result
-        half = quantile * np.sqrt(np.maximum(np.diag(covariance), 0.0))
-        wide = [j for j in active if unknowns[j].kind != "size" and half[j] >= x[j]]
-        if not wide:
-            return Fit(x, identified, reasons, covariance, gradient, chi_square, dof, scaled, quantile,
-                       unseparated, converged)
-        worst = max(wide, key=lambda j: half[j] / x[j])
-        identified[worst] = False
-        reasons[worst] = (f"its 95 % interval reaches 0 ({x[worst]:.3g} +/- {half[worst]:.2g}): the readings "
-                          "cannot tell its push-off from none")
+    unseparated = separable(unknowns, weighted, identified, reasons)
+    resolved(unknowns, weighted, identified, reasons)
+    active = [j for j in range(k) if identified[j]]
+    x, converged = solved(model, x0, active, y[rows], sigma[rows], rows)
+    covariance, gradient, chi_square, dof, scaled, quantile = covariance_at(model, x, active, y[rows], sigma[rows],
+                                                                            rows)
+    return Fit(x, identified, reasons, covariance, gradient, chi_square, dof, scaled, quantile, unseparated,
+               converged)
 
 
 def seen_by(unknowns: list[Unknown], jacobian: np.ndarray, sigma: np.ndarray, identified: list[bool],
@@ -452,6 +448,29 @@ def separable(unknowns: list[Unknown], weighted: np.ndarray, identified: list[bo
                       if others else "the readings do not see it")
     return [f"the readings cannot tell {', '.join(names)} apart: they see only a combination of them; readings at "
             "more heights along each surface would separate them"] if len(members) > 1 else []
+
+
+def resolved(unknowns: list[Unknown], weighted: np.ndarray, identified: list[bool], reasons: list[str]) -> None:
+    """Rule 3: a factor whose 95 % interval, at its recalled value and the stated uncertainties (the weighted
+    Jacobian at the start, correlations with the other unknowns included), would reach 0 is not resolved from
+    no push-off at all; the least resolved one is set aside and the rest judged again. Decided before the fit,
+    on the readings' places and uncertainties alone, so the noise of one part never decides it."""
+    z95 = stats.norm.ppf(0.5 + COVERAGE / 2)
+    while True:
+        active = [j for j in range(len(unknowns)) if identified[j]]
+        if not active:
+            return
+        _, singular, vt = np.linalg.svd(weighted[:, active], full_matrices=False)
+        half = z95 * np.sqrt(np.diag((vt.T / singular**2) @ vt))
+        starts = np.array([unknowns[j].start for j in active])
+        wide = [(half[i] / starts[i], j) for i, j in enumerate(active)
+                if unknowns[j].kind != "size" and half[i] >= starts[i]]
+        if not wide:
+            return
+        share, worst = max(wide)
+        identified[worst] = False
+        reasons[worst] = (f"even at its recalled value its 95 % interval from these readings would be +/-"
+                          f"{share:.2g} of it and reach 0: the readings cannot tell its push-off from none")
 
 
 def solved(model: ReadingModel, x0: np.ndarray, active: list[int], y: np.ndarray, sigma: np.ndarray,
@@ -524,15 +543,17 @@ def explain(job, process, measured: Measured, fitted_per: str = "tool", memo: di
     if lost:
         raise ModelError(f"{', '.join(lost)}: the predicted part has no such surface there")
     half = fit.quantile * np.sqrt(np.maximum(np.diag(fit.covariance), 0.0))
+    floor = np.array([-np.inf if u.kind == "size" else 0.0 for u in unknowns])
+    low, high = np.maximum(fit.x - half, floor), fit.x + half
     residual = (y - after)[used]
     rms_um = 1000.0 * float(np.sqrt(np.mean(residual**2))) if len(residual) else 0.0
     calibration = calibration_from(
-        unknowns, fit.x, fitted_per, low=fit.x - half, high=fit.x + half, identified=fit.identified,
+        unknowns, fit.x, fitted_per, low=low, high=high, identified=fit.identified,
         job=job.path, measured=measured.path, date=date, material=job.material.name, residual_rms_um=rms_um)
     calibrated_job = with_calibration(job, calibration)
     calibrated = simulate(calibrated_job, calibrated_process(process, calibration), settings, memo=memo)
-    estimates = tuple(Estimate(u, float(v), float(v - h), float(v + h), ok, why)
-                      for u, v, h, ok, why in zip(unknowns, fit.x, half, fit.identified, fit.reasons))
+    estimates = tuple(Estimate(u, float(v), float(lo), float(hi), ok, why)
+                      for u, v, lo, hi, ok, why in zip(unknowns, fit.x, low, high, fit.identified, fit.reasons))
     unseparated = list(fit.unseparated)
     if not used.any() and measured.mass_g is not None:
         unseparated.append("the mass alone sees only the total of what every cause leaves: it cannot separate "

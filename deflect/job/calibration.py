@@ -237,7 +237,8 @@ def _factor(item: dict, key: str) -> Factor:
     applies_to = _text(item, "applies_to", key)
     if kind == "force" and not applies_to:
         raise InputError(f"{key}.applies_to", "missing; name the tool (or the pass) the force factor applies to")
-    values = [_number(item, name, key, *FACTOR_LIMITS) for name in ("value", "low", "high")]
+    values = [_number(item, "value", key, *FACTOR_LIMITS), _number(item, "low", key, 0.0, math.inf),
+              _number(item, "high", key, 0.0, math.inf)]
     if not values[1] <= values[0] <= values[2]:
         raise InputError(key, f"the interval [{values[1]:g}, {values[2]:g}] must hold the value {values[0]:g}")
     return Factor(applies_to=applies_to or GRIP_APPLIES_TO, kind=kind, value=values[0], low=values[1],
@@ -253,7 +254,8 @@ def _size_error(item: dict, key: str) -> SizeError:
     if surface not in SURFACES:
         raise InputError(f"{key}.surface", f'must be "od", "id" or "face", got {surface!r}')
     limit = MOST_SIZE_ERROR_MM
-    values = [_number(item, name, key, -limit, limit) for name in ("value_mm", "low_mm", "high_mm")]
+    values = [_number(item, "value_mm", key, -limit, limit), _number(item, "low_mm", key, -math.inf, math.inf),
+              _number(item, "high_mm", key, -math.inf, math.inf)]
     if not values[1] <= values[0] <= values[2]:
         raise InputError(key, f"the interval [{values[1]:g}, {values[2]:g}] mm must hold the value {values[0]:g}")
     return SizeError(pass_name=name, surface=surface, value_mm=values[0], low_mm=values[1], high_mm=values[2],

@@ -97,15 +97,17 @@ def mass_lines(result: FirstArticle) -> list[str]:
     rows.append(["calibrated prediction", f"{m.calibrated_g - m.nominal_g:+.4f}"])
     rows.append(["the rest (measured - explained)", f"{m.rest_g:+.4f}"])
     lines.append(grid(["cause", "mass g"], rows))
-    lines.append(f"(predicted {m.uncalibrated_g:.3f} g uncalibrated, {m.calibrated_g:.3f} g calibrated; density "
-                 f"{m.density_g_cm3:.4g} g/cm3, u {m.density_uncertainty_g_cm3:.2g} ({m.density_from}))")
+    words = [f"(predicted {m.uncalibrated_g:.3f} g uncalibrated, {m.calibrated_g:.3f} g calibrated; density "
+             f"{m.density_g_cm3:.4g} g/cm3, u {m.density_uncertainty_g_cm3:.2g} ({m.density_from}))"]
     allowed = (f"the measurement allows +/-{m.rest_allowed_g:.3f} g at about 95 % (the scale, the density over the "
                "part's volume, the calibration)")
     if m.rest_explained:
-        lines.append(f"The rest, {m.rest_g:+.4f} g, is within what {allowed}.")
+        words.append(f"The rest, {m.rest_g:+.4f} g, is within what {allowed}.")
     else:
-        lines.append(f"The rest, {m.rest_g:+.4f} g, is MORE than {allowed}: something the model does not see. "
+        words.append(f"The rest, {m.rest_g:+.4f} g, is MORE than {allowed}: something the model does not see. "
                      "The usual suspects:")
+    lines += [line for text in words for line in textwrap.wrap(text, WIDTH)]
+    if not m.rest_explained:
         lines += [f"  - {s}" for s in usual_suspects(m)]
     return lines
 
@@ -146,8 +148,9 @@ def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> l
     if remedies.limiting:
         lines.append(remedies.limiting)
     if not searched:
-        lines.append("(--search runs the whole remedy search of `deflect tune` with the calibrated constants: feeds, "
-                     "spring cuts, allowance, tools, compensation, order; or run `deflect tune JOB --calibration FILE`)")
+        lines += textwrap.wrap("(--search runs the whole remedy search of `deflect tune` with the calibrated "
+                               "constants: feeds, spring cuts, allowance, tools, compensation, order; or run "
+                               "`deflect tune JOB --calibration FILE`)", WIDTH)
     return lines
 
 
