@@ -269,7 +269,7 @@ BAD_FILES = {   # kind: (file text, job, key in the error line, words in it)
     "height outside the part": (ONE_OD.replace("z = 20.0", "z = 60.0"), HOUSING, "measured.diameter[0].z",
                                 "outside the part"),
     "a surface the part lacks": (ONE_OD.replace('"od"', '"id"').replace("50.008", "10.0"), "solid",
-                                 "measured.diameter[0].surface", "no bore"),
+                                 "measured.diameter[0].surface", "no ID"),
     "a diameter on a face's fillet": (ONE_OD.replace("z = 20.0", "z = 5.05"), HOUSING, "measured.diameter[0].z",
                                       "fillet"),
     "mass in kilograms": ("[measured]\nmass = 0.0598\n", HOUSING, "measured.mass", "kilograms"),
@@ -362,7 +362,7 @@ def test_scaled_constants_come_back_within_1_percent_without_noise(scale, sleeve
         assert e.identified
         assert e.value == pytest.approx(scale, rel=EXACT_SHARE)
         assert e.low < scale < e.high
-    for surface, name in (("od", "finish OD"), ("id", "finish bore")):
+    for surface, name in (("OD", "finish OD"), ("ID", "finish bore")):
         e = estimate(result, f"size error {surface} ({name})")
         assert abs(e.value) < EXACT_SIZE_MM
     assert result.residual_rms_um < 0.1
@@ -400,8 +400,8 @@ def test_a_pure_size_error_comes_back_as_size_error_not_push_off(sleeve, memo):
     for tool in ("T1", "B1"):
         e = estimate(result, f"force factor {tool}")
         assert e.value == pytest.approx(1.0, rel=EXACT_SHARE)
-    assert estimate(result, "size error od (finish OD)").value == pytest.approx(0.008, abs=EXACT_SIZE_MM)
-    assert estimate(result, "size error id (finish bore)").value == pytest.approx(-0.005, abs=EXACT_SIZE_MM)
+    assert estimate(result, "size error OD (finish OD)").value == pytest.approx(0.008, abs=EXACT_SIZE_MM)
+    assert estimate(result, "size error ID (finish bore)").value == pytest.approx(-0.005, abs=EXACT_SIZE_MM)
     # the mass the size errors add is the layer they leave: 8 um over the OD, -5 um in the bore, 34 mm long
     # (z = 6 to 40); the layer's closed form within 3 % (the deeper or shallower cut pushes off a little
     # differently, and the finished length ends in the corner at z = 6)
@@ -424,14 +424,14 @@ def test_mass_alone_says_what_it_cannot_separate(sleeve, truths, memo):
 def test_one_reading_cannot_tell_the_push_off_from_the_size_error(sleeve, truths, memo):
     data = measure(truths[0.7], diameters=[("od", 36.0, U_OD)])
     result = fitted(sleeve, data, memo)
-    t1, od = estimate(result, "force factor T1"), estimate(result, "size error od (finish OD)")
+    t1, od = estimate(result, "force factor T1"), estimate(result, "size error OD (finish OD)")
     assert not t1.identified and not od.identified
     assert "cannot be separated" in t1.reason and od.unknown.label in t1.reason
     assert any("cannot tell" in line for line in result.unseparated)
     # nothing reads the bore: its tool and size error are not seen at all
-    b1, bore = estimate(result, "force factor B1"), estimate(result, "size error id (finish bore)")
+    b1, bore = estimate(result, "force factor B1"), estimate(result, "size error ID (finish bore)")
     assert not b1.identified and "nothing measured sees it" in b1.reason
-    assert not bore.identified and "no reading of the bore" in bore.reason
+    assert not bore.identified and "no reading of the ID" in bore.reason
     assert (b1.value, bore.value) == (1.0, 0.0)
 
 

@@ -304,7 +304,7 @@ def test_fit_limits_need_a_size_of_the_standard():
     ({"od": {"plus": 0.0}}, "tolerance.od.minus", "missing"),
     ({"od": {"plus": "0", "minus": -0.04}}, "tolerance.od.plus", "must be a number"),
     ({"id": {"plus": 0.02, "minus": 0.0, "max": 0.03}}, "tolerance.id.max", "unknown key"),
-    ({"odd": "h7"}, "tolerance.odd", "unknown key; allowed keys: od, id, wall, ra"),
+    ({"odd": "h7"}, "tolerance.odd", "unknown key; allowed keys: od, id, wall, ra, roundness, envelope"),
     ({"wall": 0.0}, "tolerance.wall", "must be positive"),
     ({"wall": -0.03}, "tolerance.wall", "must be positive"),
     ({"wall": "0.03"}, "tolerance.wall", "must be a number"),
@@ -312,6 +312,31 @@ def test_fit_limits_need_a_size_of_the_standard():
     ({"ra": 0}, "tolerance.ra", "must be positive"),
 ])
 def test_bad_tables(table, key, message):
+    with pytest.raises(InputError, match=message) as caught:
+        tolerance_from_table(table)
+    assert caught.value.key == key
+
+
+def test_roundness_and_the_size_rule():
+    """A roundness limit of its own (one number for both, or per surface) and the size rule: the envelope
+    requirement unless `envelope = false` says size is independent of form (ISO 8015)."""
+    both = tolerance_from_table({"id": "H7", "roundness": 0.01})
+    assert (both.roundness_limit_mm("od"), both.roundness_limit_mm("id")) == (0.01, 0.01)
+    assert both.envelope is True
+    apart = tolerance_from_table({"roundness": {"id": 0.02}, "envelope": False})
+    assert (apart.roundness_limit_mm("od"), apart.roundness_limit_mm("id")) == (None, 0.02)
+    assert apart.envelope is False
+    assert tolerance_from_table({}).roundness_limit_mm("id") is None
+
+
+@pytest.mark.parametrize("table, key, message", [
+    ({"roundness": 0.0}, "tolerance.roundness", "must be positive"),
+    ({"roundness": {"bore": 0.01}}, "tolerance.roundness.bore", "unknown key; allowed keys: od, id"),
+    ({"roundness": {"id": "0.01"}}, "tolerance.roundness.id", "must be a number"),
+    ({"envelope": "no"}, "tolerance.envelope", "must be true .* or false"),
+    ({"envelope": 0}, "tolerance.envelope", "must be true .* or false"),
+])
+def test_bad_roundness_and_size_rule(table, key, message):
     with pytest.raises(InputError, match=message) as caught:
         tolerance_from_table(table)
     assert caught.value.key == key

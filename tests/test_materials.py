@@ -55,6 +55,17 @@ def test_every_library_number_has_a_source(library):
         assert set(library[name.lower()].sources) >= set(numbers)
 
 
+def test_second_hand_sources_name_the_book(library):
+    """A value read second-hand cites the book it comes from (authors, title, edition, year) and says it was
+    not checked there, never an unnamed intermediary."""
+    for name in SHIPPED:
+        for key, text in library[name].sources.items():
+            assert "public script" not in text, f"{name}.{key}"
+            if text.startswith("second-hand"):
+                assert re.search(r"[A-Z][a-z]+.*, .*\b(19|20)[0-9]{2}\b", text) and "not checked" in text, \
+                    f"{name}.{key}: {text}"
+
+
 def test_kienzle_constants_stay_marked_as_from_memory(library):
     # every shipped Kienzle constant is a recalled value; nobody has read a printed table yet.
     for name in SHIPPED:

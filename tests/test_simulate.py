@@ -242,7 +242,7 @@ def test_material_left_grows_towards_the_free_end(run, request):
     assert 0.0 < chuck < middle < free, (chuck, middle, free)
     check = next(c for c in pred.surfaces if c.surface == surface)
     diameter = check.predicted_diameter_mm
-    assert sign * diameter["chuck end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
+    assert sign * diameter["held end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
     drawn = 40.0 if surface == "od" else 38.0
     assert diameter["free end"] == pytest.approx(drawn + sign * 2.0 * check.deviation_mm["free end"], rel=SAME_FLOAT)
 

@@ -122,7 +122,7 @@ class Unknown:
             return f"force factor {self.name}"
         if self.kind == "grip":
             return "grip factor (jaws' squeeze)"
-        return f"size error {self.surface} ({self.name})"
+        return f"size error {SURFACE_WORDS[self.surface]} ({self.name})"
 
 
 @dataclass(frozen=True)
@@ -142,7 +142,7 @@ class ReadingFit:
     """One reading against the predictions (mm)."""
 
     reading: Reading
-    uncertainty_mm: float        # as used in the fit (a two-point gauge on even lobes carries their share)
+    uncertainty_mm: float        # as used in the fit (a two-point gauge on lobes of changing width carries their share)
     uncalibrated_mm: float
     calibrated_mm: float
     used: bool                   # in the fit
@@ -155,7 +155,7 @@ class ReadingFit:
 
 @dataclass(frozen=True)
 class MassShare:
-    cause: str                   # "push-off" | "size error" | "unreached" | "density" | "layers"
+    cause: str                   # "push-off" | "size error" | "unmachined" | "density" | "layers"
     where: str                   # the pass (and its surface), or ""
     mass_g: float
 
@@ -273,7 +273,7 @@ class ReadingModel:
         self.memo = ChainMap({}, memo)
         self.nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
         self.grip_index = next((k for k, u in enumerate(unknowns) if u.kind == "grip"), None)
-        self.released_mm, self.roundness_mm = released_at(uncalibrated, readings)
+        self.released_mm, self.roundness_mm, _ = released_at(uncalibrated, readings)
         self.cache: dict[bytes, tuple[np.ndarray, float]] = {}
 
     def __call__(self, x: np.ndarray) -> tuple[np.ndarray, float]:
@@ -317,14 +317,14 @@ class ReadingModel:
         return np.array(columns).T.reshape(len(base), len(active)), np.array(masses)
 
 
-def released_at(pred: Prediction, readings: list[Reading]) -> tuple[np.ndarray, np.ndarray]:
-    """The jaws' spring-back along the outward normal [mm] and the roundness [mm] at each reading, from a
-    prediction at the grip as given (0 where the jaws did not hold the part while its surface was cut, or
-    without [holding])."""
+def released_at(pred: Prediction, readings: list[Reading]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """At each reading, from a prediction at the grip as given: the jaws' spring-back along the outward normal,
+    the roundness, and the spread of a two-point half-size around the circumference (most - least) [mm]; 0
+    where the jaws did not hold the part while its surface was cut, or without [holding]."""
     d = pred.deviation
-    released, roundness = np.zeros(len(readings)), np.zeros(len(readings))
+    released, roundness, spread = (np.zeros(len(readings)) for _ in range(3))
     if d.released_mm is None:
-        return released, roundness
+        return released, roundness, spread
     for k, reading in enumerate(readings):
         if reading.kind not in ("diameter", "roundness"):
             continue
@@ -338,7 +338,8 @@ def released_at(pred: Prediction, readings: list[Reading]) -> tuple[np.ndarray, 
         if gaps[nearest] <= RELEASE_REACH_MM:
             released[k] = d.released_mm[mine][nearest]
             roundness[k] = d.roundness_mm[mine][nearest]
-    return released, roundness
+            spread[k] = d.two_point_high_mm[mine][nearest] - d.two_point_low_mm[mine][nearest]
+    return released, roundness, spread
 
 
 def gauge(machined_rz: np.ndarray, reading: Reading, released_mm: float, roundness_mm: float) -> float:
@@ -423,7 +424,7 @@ def seen_by(unknowns: list[Unknown], jacobian: np.ndarray, sigma: np.ndarray, id
                           "(root-sum-square): nothing measured sees it")
 
 
-SURFACE_WORDS = {"od": "OD", "id": "bore", "face": "face"}
+SURFACE_WORDS = {"od": "OD", "id": "ID", "face": "face"}
 
 
 def separable(unknowns: list[Unknown], weighted: np.ndarray, identified: list[bool], reasons: list[str]) -> list[str]:
@@ -601,15 +602,15 @@ def reading_weights(readings: list[Reading], pred: Prediction, job) -> tuple[np.
 
     A roundness reading is fitted only where the jaws are modelled ([holding]) and leave lobes on its
     surface, and only when the lobes counted (if given) are theirs: other lobes are another cause. A two-point
-    gauge on an even number of lobes reads the diameter anywhere between the lobes' peaks and valleys, as the
-    gauge happens to sit: for r = R + a cos(N theta) it reads 2R + 2a cos(N theta), whose standard deviation
-    over a uniform theta is sqrt(2) a = peak-to-valley / sqrt(2), added in quadrature (an odd number of lobes
-    has a constant width, and a fitted circle reads 2R)."""
-    _, roundness = released_at(pred, readings)
+    gauge on lobes whose width is not constant (an even number of them) reads the diameter anywhere between
+    its least and most two-point size, as the gauge happens to sit: for r = R + a cos(N theta) it reads
+    2R + 2a cos(N theta), whose standard deviation over a uniform theta is sqrt(2) a, that is the spread of
+    the two-point half-size (2a) over sqrt(2); added in quadrature. (An odd number of lobes has a constant
+    width, and a fitted circle reads 2R.)"""
+    _, roundness, spread = released_at(pred, readings)
     sigma = np.array([r.uncertainty_mm for r in readings])
     used = np.ones(len(readings), bool)
     notes = []
-    even = pred.lobes > 0 and pred.lobes % 2 == 0
     for k, r in enumerate(readings):
         if r.kind == "roundness":
             if "holding" not in job.tables or pred.lobes == 0 or roundness[k] == 0.0:
@@ -620,8 +621,8 @@ def reading_weights(readings: list[Reading], pred: Prediction, job) -> tuple[np.
                 used[k] = False
                 notes.append(f"{r.key}: {r.lobes} lobes, the jaws leave {pred.lobes}: another cause (the spindle, "
                              "the blank, a chatter mark); not fitted")
-        elif r.kind == "diameter" and r.how == "two-point" and even and roundness[k] > 0.0:
-            sigma[k] = math.hypot(sigma[k], roundness[k] / math.sqrt(2.0))
+        elif r.kind == "diameter" and r.how == "two-point" and spread[k] > 0.0:
+            sigma[k] = math.hypot(sigma[k], spread[k] / math.sqrt(2.0))
     return sigma, used, notes
 
 
@@ -694,7 +695,7 @@ def mass_balance(job, process, measured: Measured, uncalibrated: Prediction, cal
             shares.append(MassShare("size error", where, with_sizes.mass_left_g - forces_only.mass_left_g))
     unreached = calibrated.mass_gain_by_surface_g.get("unmachined", 0.0)
     if unreached:
-        shares.append(MassShare("unreached", "", unreached))
+        shares.append(MassShare("unmachined", "", unreached))
     calibrated_g = calibrated.predicted_mass_g.value
     layers = calibrated_g - nominal - sum(s.mass_g for s in shares)
     if abs(layers) > LAYER_SHOWN_G:

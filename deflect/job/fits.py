@@ -103,7 +103,7 @@ FIT_FORM = ('a fit code is the deviation letter and the IT grade, e.g. "h8" for 
             "(lower-case letters are shafts, upper-case holes)")
 _FIT = re.compile(r"([a-z]{1,2}|[A-Z]{1,2})(\d+)")
 
-TOLERANCE_KEYS = ("od", "id", "wall", "ra")
+TOLERANCE_KEYS = ("od", "id", "wall", "ra", "roundness", "envelope")
 LIMIT_KEYS = ("plus", "minus")
 SURFACES = ("od", "id")
 
@@ -142,6 +142,13 @@ class Tolerances:
 
     ``od`` and ``id`` hold a `Fit` (a shaft letter for the od, a hole letter for the id) or explicit
     `DiameterLimits`; ``wall_mm`` is the +/- band on wall thickness; ``ra_um`` the most roughness Ra.
+    ``od_roundness_mm`` and ``id_roundness_mm`` are roundness limits of their own (ISO 1101: the radial width
+    of the zone between two concentric circles, ISO 12181), None where not given.
+    ``envelope``: how a diameter's size is judged. True (the default): the envelope requirement (ISO 14405-1,
+    the modifier (E); Taylor's principle; the default of ASME Y14.5-2018, Rule #1), a GO ring or plug gauge at
+    the maximum-material size and two-point sizes within the least-material size, so the form must fit inside
+    the diameter band. False: size independent of form (the independency principle, ISO 8015:2011), two-point
+    sizes within both limits, the roundness reported beside and judged only against a roundness limit.
     ``key`` is the table's dotted key, for the errors `diameter_limits` raises.
     """
 
@@ -150,6 +157,13 @@ class Tolerances:
     wall_mm: float | None
     ra_um: float | None
     key: str = "tolerance"
+    od_roundness_mm: float | None = None
+    id_roundness_mm: float | None = None
+    envelope: bool = True
+
+    def roundness_limit_mm(self, surface: str) -> float | None:
+        """The roundness limit of the od or id [mm, radial peak to valley], None if not toleranced."""
+        return self.od_roundness_mm if surface == "od" else self.id_roundness_mm
 
     def diameter_limits(self, surface: str, nominal_diameter_mm: float) -> tuple[float, float] | None:
         """(lower, upper) deviation from the nominal diameter, mm, of the od or id; None if not toleranced.
@@ -289,11 +303,27 @@ def tolerance_from_table(table: dict, key: str = "tolerance") -> Tolerances:
     """The job's [tolerance] table (od, id, wall, ra; lengths in mm), checked, as `Tolerances`."""
     check_table(table, key)
     check_keys(table, TOLERANCE_KEYS, key)
+    od_roundness, id_roundness = _roundness_limits(table.get("roundness"), f"{key}.roundness")
+    envelope = table.get("envelope", True)
+    if not isinstance(envelope, bool):
+        raise InputError(f"{key}.envelope", "must be true (the default: the form must fit inside the diameter band, "
+                                            "ISO 14405-1 (E)) or false (size independent of form, ISO 8015), got "
+                                            f"{envelope!r}")
     return Tolerances(od=_diameter_tolerance(table.get("od"), "od", key),
                       id=_diameter_tolerance(table.get("id"), "id", key),
                       wall_mm=_positive(table.get("wall"), f"{key}.wall", "mm, the +/- band on wall thickness"),
                       ra_um=_positive(table.get("ra"), f"{key}.ra", "um, the most roughness Ra"),
-                      key=key)
+                      key=key, od_roundness_mm=od_roundness, id_roundness_mm=id_roundness, envelope=envelope)
+
+
+def _roundness_limits(value, key: str) -> tuple[float | None, float | None]:
+    """(od, id) roundness limits [mm]: one number for both, or a table { od = ..., id = ... }."""
+    meaning = "mm, the most roundness: radial peak to valley"
+    if isinstance(value, dict):
+        check_keys(value, SURFACES, key)
+        return tuple(_positive(value.get(side), f"{key}.{side}", meaning) for side in SURFACES)
+    limit = _positive(value, key, meaning + ", one number for the OD and the bore or { od = ..., id = ... }")
+    return limit, limit
 
 
 def _diameter_tolerance(value, surface: str, key: str) -> Fit | DiameterLimits | None:

@@ -286,7 +286,7 @@ def contact_of(section: Section, holding: Holding) -> Contact:
     side = surface_points(section, holding.grip, spacing)
     z = side.points_rz[:, 1]
     inside = (z >= low - 1e-9) & (z <= high + 1e-9)
-    name = "OD" if holding.grip == "od" else "bore"
+    name = "OD" if holding.grip == "od" else "ID"
     if not inside.any():
         span = f"its {name} spans z = {z.min():g} to {z.max():g} mm" if len(z) else f"it has no {name}"
         raise InputError("holding.z", f"the grip at z = [{low:g}, {high:g}] touches no {name} of the part "

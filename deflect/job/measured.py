@@ -245,7 +245,7 @@ def _surface_at(entry: dict, key: str, polygon, z: float, factor: float) -> tupl
     surface = _choice(entry, "surface", key, ("od", "id"), "")
     found = surface_radius(polygon, surface, z)
     if found is None:
-        lacks = "no bore" if surface == "id" else "no material"
+        lacks = "no ID (bore)" if surface == "id" else "no material"
         raise InputError(f"{key}.surface", f"the part has {lacks} at z = {z / factor:g}: there is no {surface} to "
                                            "measure there")
     r, n_r = found
@@ -287,7 +287,7 @@ def _wall(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
     z = _height(entry, key, polygon, factor)
     wall = outer_wall(polygon, z)
     if wall is None or wall[0][0] <= 0.0 or min(abs(wall[0][1]), abs(wall[1][1])) < MIN_RADIAL_NORMAL:
-        raise InputError(f"{key}.z", f"the part has no wall between an OD and a bore at z = {z / factor:g}")
+        raise InputError(f"{key}.z", f"the part has no wall between an OD and an ID at z = {z / factor:g}")
     nominal = wall[1][0] - wall[0][0]
     value = _number(entry, "value", key, "the wall thickness measured") * factor
     if value <= 0.0:

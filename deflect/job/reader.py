@@ -37,7 +37,7 @@ TOOL_LENGTH_KEYS = ("nose_radius",)
 BAR_LENGTH_KEYS = ("diameter", "overhang")
 PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset", "compensate")
 HOLDING_LENGTH_KEYS = ("z", "width", "jaw_radius")
-TOLERANCE_LENGTH_KEYS = ("wall", "plus", "minus")
+TOLERANCE_LENGTH_KEYS = ("wall", "roundness", "plus", "minus")
 
 
 @dataclass(frozen=True)
@@ -92,8 +92,9 @@ def convert_machining_tables(data: dict, factor: float) -> dict:
         tables["holding"] = scale_keys(check_table(data["holding"], "holding"), HOLDING_LENGTH_KEYS, factor)
     if "tolerance" in data:
         tolerance = check_table(data["tolerance"], "tolerance")
-        tables["tolerance"] = {k: (scale_keys(v, TOLERANCE_LENGTH_KEYS, factor) if isinstance(v, dict)
-                                   else scale_lengths(v, factor) if k in TOLERANCE_LENGTH_KEYS else v)
+        # wall and roundness are lengths (a roundness table's od and id too); explicit limits hold lengths
+        tables["tolerance"] = {k: (scale_lengths(v, factor) if k in TOLERANCE_LENGTH_KEYS
+                                   else scale_keys(v, TOLERANCE_LENGTH_KEYS, factor) if isinstance(v, dict) else v)
                                for k, v in tolerance.items()}
     if "machine" in data:
         tables["machine"] = check_table(data["machine"], "machine")

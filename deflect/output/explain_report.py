@@ -17,10 +17,10 @@ from deflect.job.calibration import Calibration
 from deflect.output.tables import grid
 from deflect.output.tune_report import option_words, tune_payload
 
-SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "face", "wall": "wall"}
-WHAT = {("diameter", "od"): "OD diameter", ("diameter", "id"): "bore diameter", ("wall", "wall"): "wall",
-        ("face", "face"): "face height", ("roundness", "od"): "OD roundness", ("roundness", "id"): "bore roundness"}
-CAUSES = {"push-off": "push-off", "size error": "size error", "unreached": "corners and stock no pass reached",
+SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "wall": "wall"}
+WHAT = {("diameter", "od"): "OD diameter", ("diameter", "id"): "ID diameter", ("wall", "wall"): "wall",
+        ("face", "face"): "face height", ("roundness", "od"): "OD roundness", ("roundness", "id"): "ID roundness"}
+CAUSES = {"push-off": "push-off", "size error": "size error", "unmachined": "unmachined (corners, stock no pass reached)",
           "density": "the batch's density (measured)", "layers": "(sum of the surfaces' layers against the section)"}
 PROFILE_ROWS = 9                 # heights shown in the profile table
 OPTIONS_SHOWN = 3                # options of the next part printed
@@ -114,7 +114,7 @@ def mass_lines(result: FirstArticle) -> list[str]:
 
 def profile_lines(result: FirstArticle) -> list[str]:
     if not result.profiles:
-        return ["no finished OD or bore to profile"]
+        return ["no finished OD or ID to profile"]
     lines = []
     for p in result.profiles:
         picks = np.unique(np.linspace(0, len(p.z_mm) - 1, PROFILE_ROWS).round().astype(int))
