@@ -492,8 +492,15 @@ def solved(model: ReadingModel, x0: np.ndarray, active: list[int], y: np.ndarray
     def jacobian(xa):
         return -model.jacobian(full(xa), active)[0][rows] / sigma[:, None]
 
-    result = least_squares(residuals, x0[active], jac=jacobian, method="trf",
-                           bounds=([u.bounds[0] for u in unknowns], [u.bounds[1] for u in unknowns]),
+    # the push-off is nearly linear in the factors and the size errors add to it: one Gauss-Newton step on
+    # the Jacobian at the start (computed for the identification anyway) lands close, and the trust region
+    # takes it from there (from the start itself if the part cannot be made there)
+    low, high = (np.array([u.bounds[k] for u in unknowns]) for k in (0, 1))
+    step = np.linalg.lstsq(jacobian(x0[active]), -residuals(x0[active]), rcond=None)[0]
+    start = np.clip(x0[active] + step, low + 1e-6 * (high - low), high - 1e-6 * (high - low))
+    if not np.all(np.isfinite(residuals(start))):
+        start = x0[active]
+    result = least_squares(residuals, start, jac=jacobian, method="trf", bounds=(low, high),
                            x_scale=[0.01 if u.kind == "size" else 1.0 for u in unknowns],
                            xtol=1e-6, ftol=1e-8, gtol=1e-8, max_nfev=MAX_EVALUATIONS)
     return full(result.x), result.status > 0
@@ -531,7 +538,7 @@ def explain(job, process, measured: Measured, fitted_per: str = "tool", memo: di
         raise ModelError("the job already carries a calibration; explain a first article against the recalled "
                          "constants (leave out [job] calibration)", key="job.calibration")
     memo = {} if memo is None else memo
-    uncalibrated = simulate(job, process, settings, memo=memo)
+    uncalibrated = simulate(job, process, settings, memo=memo, with_ranges=False)
     unknowns = unknowns_of(job, process, uncalibrated, measured, fitted_per)
     readings = list(measured.readings)
     sigma, used, notes = reading_weights(readings, uncalibrated, job)
@@ -552,7 +559,8 @@ def explain(job, process, measured: Measured, fitted_per: str = "tool", memo: di
         unknowns, fit.x, fitted_per, low=low, high=high, identified=fit.identified,
         job=job.path, measured=measured.path, date=date, material=job.material.name, residual_rms_um=rms_um)
     calibrated_job = with_calibration(job, calibration)
-    calibrated = simulate(calibrated_job, calibrated_process(process, calibration), settings, memo=memo)
+    calibrated = simulate(calibrated_job, calibrated_process(process, calibration), settings, memo=memo,
+                          with_ranges=False)
     estimates = tuple(Estimate(u, float(v), float(lo), float(hi), ok, why)
                       for u, v, lo, hi, ok, why in zip(unknowns, fit.x, low, high, fit.identified, fit.reasons))
     unseparated = list(fit.unseparated)

@@ -172,7 +172,7 @@ def measured_from_data(data: dict, path: str, job) -> Measured:
                 notes.append(f"{reading.key}: an uncertainty of {reading.uncertainty_mm:g} mm is coarser than the "
                              "push-off it is meant to see (micrometres); it weighs little in the fit")
             readings.append(reading)
-    notes += [f"uncertainty {shown} assumed for {', '.join(keys)}: the usual one of a {instrument} (common "
+    notes += [f"uncertainty {shown} assumed for {', '.join(keys)}: usual for the {instrument} (common "
               "practice); give `uncertainty` to override" for (instrument, shown), keys in assumed.items()]
     mass, mass_u, mass_from = _mass(table, job)
     if mass is not None and mass_from != "given":

@@ -135,18 +135,20 @@ def profile_lines(result: FirstArticle) -> list[str]:
 def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> list[str]:
     if remedies is None:
         return ["no [tolerance] in the job: nothing to aim the next part at"]
-    lines = [f"as programmed, with the calibration: cycle {remedies.current.cycle_time_s:.1f} s, worst deviation "
-             f"{1000 * remedies.current.max_deviation_mm:.1f} um a side, "
-             f"{'meets' if remedies.current.meets else 'does NOT meet'} the drawing"]
+    lines = textwrap.wrap(f"as programmed, with the calibration: cycle {remedies.current.cycle_time_s:.1f} s, most "
+                          f"off the drawing {1000 * remedies.current.max_deviation_mm:.1f} um a side, "
+                          f"{'meets' if remedies.current.meets else 'does NOT meet'} the drawing", WIDTH)
     if not searched:
         lines.append("the wear offsets that centre every finished surface in its band (no time lost):")
     for rank, o in enumerate(remedies.options[:OPTIONS_SHOWN], 1):
         verdict = "meets" if o.meets else "does not meet"
-        lines.append(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {option_words(o, surface_of, units)}")
+        lines += textwrap.wrap(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {option_words(o, surface_of, units)}",
+                               WIDTH, subsequent_indent="   ")
         if o.broken:
-            lines.append(f"   breaks: {'; '.join(o.broken)}")
+            lines += textwrap.wrap(f"breaks: {'; '.join(o.broken)}", WIDTH, initial_indent="   ",
+                                   subsequent_indent="   ")
     if remedies.limiting:
-        lines.append(remedies.limiting)
+        lines += textwrap.wrap(remedies.limiting, WIDTH)
     if not searched:
         lines += textwrap.wrap("(--search runs the whole remedy search of `deflect tune` with the calibrated "
                                "constants: feeds, spring cuts, allowance, tools, compensation, order; or run "
