@@ -638,3 +638,25 @@ def test_jobs_with_other_constants_share_compliance_but_not_cut_results(truths, 
     nominal = truths[0.7].nominal_mass_g
     gains = {scale: truths[scale].predicted_mass_g.value - nominal for scale in truths}
     assert gains[1.3] / gains[0.7] == pytest.approx(1.3 / 0.7, rel=0.15)
+
+
+def test_the_figure_draws_the_readings_and_the_mass_split_it_is_given(sleeve, truths, memo, monkeypatch, tmp_path):
+    from deflect.output import figures
+
+    drawn = []
+    save = figures._save
+    monkeypatch.setattr(figures, "_save", lambda plt, fig, path: (save(plt, fig, path), drawn.append(fig)))
+    result = fitted(sleeve, measure(truths[1.3], **READINGS), memo)
+    figures.first_article_plot(result, tmp_path / "first-article.png")
+    assert (tmp_path / "first-article.png").stat().st_size > 0
+    axes = drawn[0].axes
+    titles = [ax.get_title() for ax in axes]
+    assert titles[:3] == ["OD diameter", "ID diameter", "wall thickness"]
+    # the OD panel's measured points: each reading's diameter less the drawn 40 mm, in um, at its height
+    od = [r.reading for r in result.readings if r.reading.surface == "od"]
+    points = next(line for line in axes[0].get_lines() if line.get_marker() == "o")
+    assert points.get_xdata() == pytest.approx([1000 * (r.value_mm - 40.0) for r in od], abs=1e-9)
+    assert points.get_ydata() == pytest.approx([r.at_mm for r in od])
+    # the mass panel's bars: the shares, then the rest
+    widths = [patch.get_width() for patch in axes[3].patches]
+    assert widths == pytest.approx([s.mass_g for s in result.mass.shares] + [result.mass.rest_g])
