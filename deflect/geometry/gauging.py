@@ -28,33 +28,31 @@ def _closed_edges(polygon_rz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return points, np.roll(points, -1, axis=0)
 
 
+def _crossings(polygon_rz: np.ndarray, axis: int, level: float) -> tuple[np.ndarray, np.ndarray]:
+    """Where the boundary crosses the line on which coordinate `axis` (0: r, 1: z) equals `level`: the other
+    coordinate of each crossing, in order, and that component of the boundary's outward unit normal there."""
+    start, end = _closed_edges(polygon_rz)
+    a0, a1 = start[:, axis], end[:, axis]
+    hit = ((a0 <= level) & (level < a1)) | ((a1 <= level) & (level < a0))
+    s, e = start[hit], end[hit]
+    other = 1 - axis
+    t = (level - s[:, axis]) / (e[:, axis] - s[:, axis])
+    position = s[:, other] + t * (e[:, other] - s[:, other])
+    d = e - s
+    normal = np.column_stack([d[:, 1], -d[:, 0]]) / np.hypot(d[:, 0], d[:, 1])[:, None]  # (dz, -dr) / |d|: CCW
+    order = np.argsort(position)
+    return position[order], normal[order, other]
+
+
 def crossings_at_height(polygon_rz: np.ndarray, z_mm: float) -> tuple[np.ndarray, np.ndarray]:
     """(r, n_r) of every crossing of the boundary with the line at height z, by r: the radius and the radial
     part of the boundary's outward unit normal there (+1 on an OD, -1 in a bore, near 0 on a face's edge)."""
-    start, end = _closed_edges(polygon_rz)
-    z0, z1 = start[:, 1], end[:, 1]
-    hit = ((z0 <= z_mm) & (z_mm < z1)) | ((z1 <= z_mm) & (z_mm < z0))
-    s, e = start[hit], end[hit]
-    t = (z_mm - s[:, 1]) / (e[:, 1] - s[:, 1])
-    r = s[:, 0] + t * (e[:, 0] - s[:, 0])
-    d = e - s
-    n_r = d[:, 1] / np.hypot(d[:, 0], d[:, 1])     # outward normal of a counter-clockwise edge: (dz, -dr) / |d|
-    order = np.argsort(r)
-    return r[order], n_r[order]
+    return _crossings(polygon_rz, 1, z_mm)
 
 
 def crossings_at_radius(polygon_rz: np.ndarray, r_mm: float) -> tuple[np.ndarray, np.ndarray]:
     """(z, n_z) of every crossing of the boundary with the line at radius r (parallel to the axis), by z."""
-    start, end = _closed_edges(polygon_rz)
-    r0, r1 = start[:, 0], end[:, 0]
-    hit = ((r0 <= r_mm) & (r_mm < r1)) | ((r1 <= r_mm) & (r_mm < r0))
-    s, e = start[hit], end[hit]
-    t = (r_mm - s[:, 0]) / (e[:, 0] - s[:, 0])
-    z = s[:, 1] + t * (e[:, 1] - s[:, 1])
-    d = e - s
-    n_z = -d[:, 0] / np.hypot(d[:, 0], d[:, 1])
-    order = np.argsort(z)
-    return z[order], n_z[order]
+    return _crossings(polygon_rz, 0, r_mm)
 
 
 def outer_wall(polygon_rz: np.ndarray, z_mm: float) -> tuple[tuple[float, float], tuple[float, float]] | None:

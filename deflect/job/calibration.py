@@ -47,12 +47,11 @@ from __future__ import annotations
 
 import json
 import math
-import tomllib
 from dataclasses import dataclass, replace
 from pathlib import Path
 
 from deflect.errors import InputError
-from deflect.job.checks import check_keys, check_table, is_number
+from deflect.job.checks import check_keys, check_table, is_number, read_toml
 
 CALIBRATION_KEYS = ("job", "measured", "date", "material", "fitted_per", "residual_rms_um", "factor", "size_error")
 FACTOR_KEYS = ("applies_to", "kind", "value", "low", "high", "identified")
@@ -158,14 +157,7 @@ def grip_factor_of(job) -> float:
 def read_calibration(path: str | Path) -> Calibration:
     """Read and check a calibration file; every problem is an InputError naming it."""
     path = str(path)
-    try:
-        data = tomllib.loads(Path(path).read_bytes().decode("utf-8"))
-    except FileNotFoundError:
-        raise InputError("file", "no such calibration file", file=path) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError("file", f"not valid TOML: {exc}", file=path) from None
+    data = read_toml(path, "calibration file")
     try:
         return replace(calibration_from_data(data), path=path)
     except InputError as exc:

@@ -45,14 +45,13 @@ the measurement file and the entry.
 from __future__ import annotations
 
 import math
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
 from deflect.errors import InputError
 from deflect.geometry.gauging import nearest_face, outer_wall, surface_radius
 from deflect.geometry.section import POLYGON_CHORD_MM, mass_properties
-from deflect.job.checks import check_keys, check_table, is_number
+from deflect.job.checks import check_keys, check_table, read_toml, required_number
 
 MM_PER_INCH = 25.4
 MEASURED_KEYS = ("units", "mass", "mass_uncertainty", "density", "density_uncertainty", "diameter", "wall", "face",
@@ -127,14 +126,7 @@ def read_measured(path: str | Path, job) -> Measured:
     """Read and check a measurement file against the job whose part it measures; every problem is an
     InputError naming the file and the entry."""
     path = str(path)
-    try:
-        data = tomllib.loads(Path(path).read_bytes().decode("utf-8"))
-    except FileNotFoundError:
-        raise InputError("file", "no such measurement file", file=path) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError("file", f"not valid TOML: {exc}", file=path) from None
+    data = read_toml(path, "measurement file")
     try:
         return measured_from_data(data, path, job)
     except InputError as exc:
@@ -202,15 +194,6 @@ def _entries(table: dict, kind: str) -> list[dict]:
     return value
 
 
-def _number(entry: dict, name: str, key: str, what: str) -> float:
-    if name not in entry:
-        raise InputError(f"{key}.{name}", f"missing; give {what}")
-    value = entry[name]
-    if not is_number(value):
-        raise InputError(f"{key}.{name}", f"must be a number ({what}), got {value!r}")
-    return float(value)
-
-
 def _choice(entry: dict, name: str, key: str, allowed: tuple[str, ...], default: str) -> str:
     value = entry.get(name, default)
     if value not in allowed:
@@ -223,7 +206,7 @@ def _uncertainty(entry: dict, key: str, factor: float, default: tuple[float, str
     """(standard uncertainty [mm], where it came from); factor converts the file's unit, scale um -> mm."""
     if name not in entry:
         return default
-    value = _number(entry, name, key, "the standard uncertainty of the reading")
+    value = required_number(entry, name, key, "the standard uncertainty of the reading")
     if value <= 0.0:
         raise InputError(f"{key}.{name}", f"must be more than 0, got {value:g} (no gauge reads exactly); "
                                           "leave it out for the instrument's usual one")
@@ -232,7 +215,7 @@ def _uncertainty(entry: dict, key: str, factor: float, default: tuple[float, str
 
 def _height(entry: dict, key: str, polygon, factor: float) -> float:
     """The entry's z [mm], inside the part's axial extent."""
-    z = _number(entry, "z", key, "the height along the axis where it was measured") * factor
+    z = required_number(entry, "z", key, "the height along the axis where it was measured") * factor
     low, high = float(polygon[:, 1].min()), float(polygon[:, 1].max())
     if not low < z < high:
         raise InputError(f"{key}.z", f"{z / factor:g} lies outside the part, which runs from z = {low / factor:g} "
@@ -270,7 +253,7 @@ def _unit_hint(value_mm: float, nominal_mm: float, units: str, diameter: bool) -
 def _diameter(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
     z = _height(entry, key, polygon, factor)
     surface, r = _surface_at(entry, key, polygon, z, factor)
-    value = _number(entry, "value", key, "the diameter measured") * factor
+    value = required_number(entry, "value", key, "the diameter measured") * factor
     nominal = 2.0 * r
     if value <= 0.0:
         raise InputError(f"{key}.value", f"must be a diameter more than 0, got {value / factor:g}")
@@ -289,7 +272,7 @@ def _wall(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
     if wall is None or wall[0][0] <= 0.0 or min(abs(wall[0][1]), abs(wall[1][1])) < MIN_RADIAL_NORMAL:
         raise InputError(f"{key}.z", f"the part has no wall between an OD and an ID at z = {z / factor:g}")
     nominal = wall[1][0] - wall[0][0]
-    value = _number(entry, "value", key, "the wall thickness measured") * factor
+    value = required_number(entry, "value", key, "the wall thickness measured") * factor
     if value <= 0.0:
         raise InputError(f"{key}.value", f"must be a thickness more than 0, got {value / factor:g}")
     if abs(value - nominal) > max(WALL_GROSS_MM, WALL_GROSS_SHARE * nominal):
@@ -301,11 +284,11 @@ def _wall(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
 
 
 def _face(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
-    r = _number(entry, "r", key, "the radius at which the face's height was measured") * factor
+    r = required_number(entry, "r", key, "the radius at which the face's height was measured") * factor
     r_max = float(polygon[:, 0].max())
     if not 0.0 <= r < r_max:
         raise InputError(f"{key}.r", f"{r / factor:g} lies outside the part, which reaches r = {r_max / factor:g}")
-    value = _number(entry, "value", key, "the face's height above the job's z = 0") * factor
+    value = required_number(entry, "value", key, "the face's height above the job's z = 0") * factor
     found = nearest_face(polygon, r, value)
     if found is None or abs(found[0] - value) > FACE_SEARCH_MM or abs(found[1]) < MIN_RADIAL_NORMAL:
         raise InputError(f"{key}.value", f"the part has no face near z = {value / factor:g} at r = {r / factor:g}; "
@@ -319,7 +302,7 @@ def _face(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
 def _roundness(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
     z = _height(entry, key, polygon, factor)
     surface, _ = _surface_at(entry, key, polygon, z, factor)
-    value_um = _number(entry, "value_um", key, "the radial peak to valley, um")
+    value_um = required_number(entry, "value_um", key, "the radial peak to valley, um")
     if not 0.0 <= value_um <= MOST_ROUNDNESS_UM:
         raise InputError(f"{key}.value_um", f"must lie between 0 and {MOST_ROUNDNESS_UM:g} um (a radial peak to "
                                             f"valley in micrometres), got {value_um:g}")
@@ -338,13 +321,13 @@ def _mass(table: dict, job) -> tuple[float | None, float, str]:
     """(mass [g] or None, its standard uncertainty [g], where that came from)."""
     u, source = DEFAULT_MASS_UNCERTAINTY_G, "laboratory scale (common practice)"
     if "mass_uncertainty" in table:
-        u = _number(table, "mass_uncertainty", "measured", "the scale's standard uncertainty, g")
+        u = required_number(table, "mass_uncertainty", "measured", "the scale's standard uncertainty, g")
         if u <= 0.0:
             raise InputError("measured.mass_uncertainty", f"must be more than 0 g, got {u:g}")
         source = "given"
     if "mass" not in table:
         return None, u, source
-    mass = _number(table, "mass", "measured", "the part's mass in grams")
+    mass = required_number(table, "mass", "measured", "the part's mass in grams")
     nominal = mass_properties(job.section, job.material.density_g_cm3).mass_g
     if mass <= 0.0:
         raise InputError("measured.mass", f"must be more than 0 g, got {mass:g}")
@@ -370,7 +353,7 @@ def _density(table: dict, job) -> tuple[float | None, float | None]:
             raise InputError("measured.density_uncertainty", "given without density; give the batch's measured "
                                                              "density too, or leave both out")
         return None, None
-    density = _number(table, "density", "measured", "the batch's measured density, g/cm3")
+    density = required_number(table, "density", "measured", "the batch's measured density, g/cm3")
     stated = job.material.density_g_cm3
     if not math.isclose(density, stated, rel_tol=DENSITY_SHARE):
         raise InputError("measured.density", f"{density:g} g/cm3 is more than {100 * DENSITY_SHARE:g} % from "
@@ -378,7 +361,7 @@ def _density(table: dict, job) -> tuple[float | None, float | None]:
     if "density_uncertainty" not in table:
         raise InputError("measured.density_uncertainty", "missing; a measured density needs its standard "
                                                          "uncertainty in g/cm3")
-    u = _number(table, "density_uncertainty", "measured", "the density's standard uncertainty, g/cm3")
+    u = required_number(table, "density_uncertainty", "measured", "the density's standard uncertainty, g/cm3")
     if not 0.0 < u < DENSITY_SHARE * stated:
         raise InputError("measured.density_uncertainty", f"must be more than 0 and less than "
                                                          f"{DENSITY_SHARE * stated:.3g} g/cm3, got {u:g}")

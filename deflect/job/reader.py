@@ -12,7 +12,6 @@ Every problem is raised as `InputError` carrying the file name, the dotted key a
 
 from __future__ import annotations
 
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -20,7 +19,7 @@ from deflect.errors import InputError
 from deflect.geometry.boxes import HeldBox
 from deflect.geometry.section import Section, section_from_outline, unit_size_warning
 from deflect.job.calibration import Calibration, read_calibration, with_calibration
-from deflect.job.checks import check_keys, check_range, check_table, is_number
+from deflect.job.checks import check_keys, check_range, check_table, is_number, read_toml
 from deflect.job.holding import held_from_holding
 from deflect.job.materials import Material, material_from_job
 
@@ -181,16 +180,7 @@ def read_job(path: str | Path, calibrated: bool = True) -> Job:
     """Read and check a job file; every problem is an InputError naming this file. calibrated False leaves
     out its `[job] calibration`."""
     path = str(path)
-    try:
-        text = Path(path).read_bytes().decode("utf-8")
-    except FileNotFoundError:
-        raise InputError("file", "no such file", file=path) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError("file", f"not valid TOML: {exc}", file=path) from None
+    data = read_toml(path)
     try:
         return parse_job(data, path, calibrated)
     except InputError as exc:

@@ -20,8 +20,9 @@ from deflect.output.tune_report import option_words, tune_payload
 SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "wall": "wall"}
 WHAT = {("diameter", "od"): "OD diameter", ("diameter", "id"): "ID diameter", ("wall", "wall"): "wall",
         ("face", "face"): "face height", ("roundness", "od"): "OD roundness", ("roundness", "id"): "ID roundness"}
-CAUSES = {"push-off": "push-off", "size error": "size error", "unmachined": "unmachined (corners, stock no pass reached)",
-          "density": "the batch's density (measured)", "layers": "(sum of the surfaces' layers against the section)"}
+CAUSES = {"push-off": "push-off", "size error": "size error",
+          "unmachined": "unmachined (corners, stock no pass reached)", "density": "the batch's density (measured)",
+          "layers": "(sum of the surfaces' layers against the section)"}
 PROFILE_ROWS = 9                 # heights shown in the profile table
 OPTIONS_SHOWN = 3                # options of the next part printed
 WIDTH = 110                      # prose is wrapped to this many characters
@@ -142,8 +143,9 @@ def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> l
         lines.append("the wear offsets that centre every finished surface in its band (no time lost):")
     for rank, o in enumerate(remedies.options[:OPTIONS_SHOWN], 1):
         verdict = "meets" if o.meets else "does not meet"
-        lines += textwrap.wrap(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {option_words(o, surface_of, units)}",
-                               WIDTH, subsequent_indent="   ")
+        words = option_words(o, surface_of, units)
+        lines += textwrap.wrap(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {words}", WIDTH,
+                               subsequent_indent="   ")
         if o.broken:
             lines += textwrap.wrap(f"breaks: {'; '.join(o.broken)}", WIDTH, initial_indent="   ",
                                    subsequent_indent="   ")
