@@ -591,11 +591,16 @@ def test_the_readme_example_reads_and_its_causes_come_back():
         result = explain(HOUSING_JOB, process_from_job(HOUSING_JOB), read_measured(HOUSING_MEASURED, HOUSING_JOB))
     payload = explain_payload(result)
     truth = {"T2 finish": 0.85, "T3 boring": 1.25}
-    for f in payload["factors"]:
-        assert f["identified"] and f["low"] <= truth[f["applies_to"]] <= f["high"]
-    sizes = {"od": 0.004, "id": -0.002, "face": 0.003}
-    for s in payload["size_errors"]:
-        assert s["identified"] and s["low_mm"] <= sizes[s["surface"]] <= s["high_mm"]
+    factors = {f["applies_to"]: f for f in payload["factors"]}
+    for tool, value in truth.items():
+        assert factors[tool]["identified"] and factors[tool]["low"] <= value <= factors[tool]["high"]
+    # any other tool that finishes a point (the roughing tool at a corner the finishing pass leaves) is not seen
+    assert all(not f["identified"] and f["value"] == 1.0 for tool, f in factors.items() if tool not in truth)
+    sizes = {"finish OD": 0.004, "finish bore": -0.002, "face rim": 0.003}
+    errors = {s["pass"]: s for s in payload["size_errors"]}
+    for name, value in sizes.items():
+        assert errors[name]["identified"] and errors[name]["low_mm"] <= value <= errors[name]["high_mm"]
+    assert all(not s["identified"] for name, s in errors.items() if name not in sizes)
     assert payload["mass"]["rest_explained"]
 
 

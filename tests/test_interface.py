@@ -1,7 +1,7 @@
 """The interface page and the code cannot drift apart (issue 10.8: one name per quantity, a unit on every number).
 
 Every command that prints JSON is run (section, compliance, predict (also calibrated), clamp, tune with --design,
-explain), with every
+chatter, explain), with every
 CSV output (predict --csv, tune --contour); every JSON key and CSV column is listed, and:
 * each key or column that holds a number ends in a unit suffix from INTERFACE.md's "Unit suffixes" table, or
   sits in an object whose key does (`force_N.cutting`), or is in its "Keys without a unit suffix" table;
@@ -93,6 +93,7 @@ def outputs(tmp_path_factory) -> dict:
         "predict ring": ["predict", ring, "--quiet", "--csv", str(folder / "ring-csv")],
         "clamp": ["clamp", ring],
         "tune": ["tune", ring, "--quiet", "--design", "--contour", str(folder / "contour")],
+        "chatter": ["chatter", housing],
     }
     data = {}
     for name, args in runs.items():

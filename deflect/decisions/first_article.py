@@ -81,7 +81,14 @@ from deflect.job.calibration import GRIP_APPLIES_TO, Calibration, Factor, SizeEr
 from deflect.job.measured import MIN_RADIAL_NORMAL, Measured, Reading
 from deflect.machining.inprocess import polygon_mass
 from deflect.machining.results import Prediction
-from deflect.machining.simulate import CYLINDER_COS, SimulationSettings, plan_compliance, run_passes, simulate
+from deflect.machining.simulate import (
+    CYLINDER_COS,
+    DEVIATION_SPACING_MM,
+    SimulationSettings,
+    plan_compliance,
+    run_passes,
+    simulate,
+)
 
 FACTOR_BOUNDS = (0.05, 20.0)      # a force or grip factor further off is no calibration of recalled constants
 SIZE_BOUND_MM = 0.2               # a size error beyond this is a wrong program or part, not a setting
@@ -96,6 +103,7 @@ MAX_EVALUATIONS = 40              # the fit's evaluations of the model (the Jaco
 RELEASE_REACH_MM = 0.5            # a reading takes the jaws' spring-back of a finished point this near
 DENSITY_FIGURES = 3               # a handbook density is quoted to three significant figures
 LAYER_SHOWN_G = 5e-4              # the layers' sum and the section's mass differ by more: shown in the split
+FINISHED_MM = 0.5                 # a pass finishes a surface when it finishes this much of the boundary
 
 
 @dataclass(frozen=True)
@@ -221,9 +229,10 @@ class FirstArticle:
 # the unknowns
 
 def finishing_passes(pred: Prediction, process) -> list:
-    """The passes that finish some point of the part, in order."""
-    finishing = set(pred.deviation.finished_by) - {""}
-    return [p for p in process.passes if p.name in finishing]
+    """The passes that finish a stretch of the part at least FINISHED_MM long, in order (a corner point where
+    one pass's surface meets the next is no surface of its own)."""
+    names = pred.deviation.finished_by
+    return [p for p in process.passes if names.count(p.name) * DEVIATION_SPACING_MM >= FINISHED_MM]
 
 
 def unknowns_of(job, process, pred: Prediction, measured: Measured, fitted_per: str) -> list[Unknown]:
@@ -694,8 +703,9 @@ def mass_balance(job, process, measured: Measured, uncalibrated: Prediction, cal
     density = job.material.density_g_cm3
     nominal = mass_properties(job.section, density).mass_g
     shares = []
+    finishing = {p.name for p in finishing_passes(calibrated, process)}
     for p, with_sizes, forces_only in zip(process.passes, calibrated.passes, factors_only.passes):
-        if p.name not in set(calibrated.deviation.finished_by):
+        if p.name not in finishing:
             continue
         where = f"{p.name} ({SURFACE_WORDS[p.surface]}, {p.tool})"
         shares.append(MassShare("push-off", where, forces_only.mass_left_g))
