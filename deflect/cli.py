@@ -167,10 +167,41 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
             click.echo(f"compliance map drawn in {plot_file}")
 
 
-def run_prediction(job_file: str, show_progress: bool):
+CALIBRATION_HELP = ("A first article's calibration (as `deflect explain --save` writes it) to use instead of the "
+                    "job's [job] calibration, if any.")
+
+
+def read_calibrated_job(job_file: str, calibration_file: str | None):
+    """The job, with the calibration file given on the command line (it wins over a [job] calibration key)."""
+    from deflect.job.calibration import read_calibration, with_calibration
+    from deflect.job.reader import read_job
+
+    if calibration_file is None:
+        return read_job(job_file)
+    job = read_job(job_file, calibrated=False)
+    try:
+        return with_calibration(job, read_calibration(calibration_file), key="--calibration")
+    except InputError as exc:
+        exc.file = exc.file or job_file
+        raise
+
+
+def state_calibration(job, payload: dict | None = None) -> None:
+    """A calibrated report states itself: a line before the report, or the `calibration` key of the JSON."""
+    if job.calibration is None:
+        return
+    from deflect.output.explain_report import calibration_note, calibration_record
+
+    if payload is None:
+        click.echo(calibration_note(job.calibration))
+    else:
+        payload["calibration"] = calibration_record(job.calibration)
+
+
+def run_prediction(job_file: str, show_progress: bool, calibration_file: str | None = None):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
     verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
-    findings and the job."""
+    findings and the job (with the calibration of `--calibration` or [job] calibration, if any)."""
     from dataclasses import replace
 
     from deflect.decisions.conformance import verdict
@@ -178,12 +209,11 @@ def run_prediction(job_file: str, show_progress: bool):
     from deflect.job.dynamics import dynamics_from_job
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
-    from deflect.job.reader import read_job
     from deflect.machining.chatter import prediction_warnings
     from deflect.machining.simulate import simulate
     from deflect.machining.targets import process_from_job
 
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     try:
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
@@ -226,8 +256,9 @@ def write_outputs(pred, csv_dir, plot_dir) -> list:
 @click.option("--dxf", "dxf_file", type=click.Path(dir_okay=False), default=None,
               help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
 @click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
-def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, html_file):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, calibration_file, html_file):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -238,7 +269,8 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet,
     from deflect.output.rules_report import rules_payload, rules_summary
 
     html_target(html_file)
-    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
+                                              calibration_file=calibration_file)
     written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
     if dxf_file:
         from deflect.output.dxf_files import prediction_dxf
@@ -248,8 +280,11 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet,
         written.append(write_html(html_file, pred.title, "machining prediction", [job_file],
                                   [predict_chapter(pred, judged.checks, judged.warnings, rules)]))
     if as_json:
-        emit_json({**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)})
+        payload = {**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)}
+        state_calibration(job, payload)
+        emit_json(payload)
     else:
+        state_calibration(job)
         click.echo(predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
@@ -296,8 +331,9 @@ def demo(out_dir):
               help="Draw the released shape of one finished section around the circumference into this PNG file.")
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
 @click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
-def clamp(job_file, as_json, plot_file, plot_at, html_file):
+def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
     From [holding]: the least grip that holds the heaviest cut (friction, safety factor, the jaws' loss of grip
@@ -305,12 +341,12 @@ def clamp(job_file, as_json, plot_file, plot_at, html_file):
     go, the roundness and lobes after release, and what widens the window, each computed. Estimates: the chuck
     maker's limits and the machine's interlocks come first.
     """
-    from deflect.job.reader import MM_PER_INCH, read_job
+    from deflect.job.reader import MM_PER_INCH
     from deflect.machining.grip import clamp_study, nearest_point, released_profile
     from deflect.output.clamp_report import clamp_payload, clamp_report
 
     html_target(html_file)
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
     try:
@@ -344,8 +380,11 @@ def clamp(job_file, as_json, plot_file, plot_at, html_file):
     if html_file:
         write_clamp_html(html_file, job_file, study)
     if as_json:
-        emit_json(clamp_payload(study))
+        payload = clamp_payload(study)
+        state_calibration(job, payload)
+        emit_json(payload)
     else:
+        state_calibration(job)
         click.echo(clamp_report(study))
         if profile is not None:
             click.echo(f"released shape drawn in {plot_file}")
@@ -362,12 +401,13 @@ def clamp(job_file, as_json, plot_file, plot_at, html_file):
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
 @click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
 @click.option("--apply", "apply_number", type=int, default=None, metavar="N",
               help="Write option N's changes into a copy of the job (--out), comments and layout kept.")
 @click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None, metavar="NEW.toml",
               help="The job file --apply writes (a new file; the job itself is never changed).")
-def tune(job_file, as_json, contour_dir, design, quiet, html_file, apply_number, out_file):
+def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_file, apply_number, out_file):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
     Tries feeds, spring cuts, the finishing allowance, the job's other tools, a wear offset, a compensated
@@ -376,14 +416,13 @@ def tune(job_file, as_json, contour_dir, design, quiet, html_file, apply_number,
     """
     from deflect.decisions.rules import check_rules
     from deflect.job.materials import require_cutting_constants
-    from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
     from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
     html_target(html_file)
     check_apply(job_file, apply_number, out_file)
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     try:
         require_cutting_constants(job.material)
@@ -393,7 +432,8 @@ def tune(job_file, as_json, contour_dir, design, quiet, html_file, apply_number,
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         written = write_contours(job, result, contour_dir) if contour_dir else []
         rules = check_rules(job, process)
-        applied = apply_option(job_file, job, result, apply_number, out_file) if apply_number else None
+        applied = (apply_option(job_file, job, result, apply_number, out_file, calibration_file) if apply_number
+                   else None)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -407,8 +447,10 @@ def tune(job_file, as_json, contour_dir, design, quiet, html_file, apply_number,
         payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
         if applied:
             payload["applied"] = {"rank": apply_number, "file": str(applied)}
+        state_calibration(job, payload)
         emit_json(payload)
     else:
+        state_calibration(job)
         click.echo(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
@@ -503,6 +545,8 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    if job.calibration is not None:      # the redrawn jobs carry the same calibration (--calibration or the key)
+        data.setdefault("job", {})["calibration"] = str(Path(job.calibration.path).resolve())
     if job.drawing is not None:   # the walls are redrawn on the outline read from the drawing
         from deflect.job.drawing import outline_in
         data["part"] = {"outline": outline_in(job.drawing, job.units)}
@@ -532,8 +576,8 @@ def write_contours(job, result, folder: str) -> list:
     try:
         out.mkdir(parents=True, exist_ok=True)
         for p in changed.passes:
-            if not p.compensation:
-                continue
+            if not any(c != p.size_error_mm for _, c in p.compensation):   # nothing programmed (a calibrated
+                continue                                                   # size error alone is not a program)
             rows = compensated_contour(job, changed, p)
             stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
             for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):
@@ -631,6 +675,117 @@ def import_drawing(drawing_file, units, layer, axis, material, out_file):
     click.echo(f"wrote {out_file}", err=True)
 
 
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("measured_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--save", "save_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the calibration (factors and size errors with their intervals, where they came from) "
+                   "to this TOML file, for `predict`, `tune` and `clamp --calibration FILE` or [job] calibration.")
+@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the profiles and the mass split as a PNG file into this folder.")
+@click.option("--per-pass", is_flag=True, help="One force factor per finishing pass instead of per finishing tool.")
+@click.option("--search", is_flag=True,
+              help="For the next part, run the whole remedy search of `deflect tune` with the calibrated constants "
+                   "(its slowest step: tens of seconds) instead of the wear offsets alone.")
+@click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, search, quiet, html_file):
+    """A measured first article (MEASURED_FILE) of JOB_FILE: what caused its extra material, the force constants
+    calibrated on it, and what to change for the next part.
+
+    Fits a force factor per finishing tool (on its three Kienzle constants together), a size error per finished
+    surface and, with [holding] and roundness measured, a grip factor, by weighted least squares with 95 %
+    intervals; splits the measured mass gain by cause; gives the wear offsets that centre the next part (with
+    --search, the whole remedy search of `deflect tune`) with the calibrated constants.
+    """
+    from datetime import date
+
+    from deflect.decisions.first_article import explain as explain_first_article
+    from deflect.decisions.first_article import next_part
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.measured import read_measured
+    from deflect.job.reader import read_job
+    from deflect.machining.simulate import kept_workers
+    from deflect.machining.targets import process_from_job
+    from deflect.output.explain_report import explain_payload, explain_report
+
+    html_target(html_file)
+    job = read_job(job_file, calibrated=False)
+    warn(job.warnings, job_file)
+    measured = read_measured(measured_file, job)
+    try:
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        warn(process.warnings, job_file)
+        memo: dict = {}
+        with kept_workers():
+            result = explain_first_article(job, process, measured, "pass" if per_pass else "tool", memo,
+                                           date=date.today().isoformat())
+            with click.progressbar(length=SEARCH_STEPS_SHOWN, label="next part: searching remedies", file=sys.stderr,
+                                   show_eta=False, hidden=quiet or as_json or not search) as bar:
+                remedies = next_part(job, result.calibration, memo, search, short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+                bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    written = []
+    if figure_dir:
+        written.append(draw_first_article(result, figure_dir))
+    if save_file:
+        written.append(save_calibration(result.calibration, save_file))
+    surface_of = {p.name: p.surface for p in process.passes}
+    if html_file:
+        from deflect.output.html_chapters import explain_chapter
+        written.append(write_html(html_file, result.title, "first article explained", [job_file, measured_file],
+                                  [explain_chapter(result, remedies, surface_of, job.units, search)]))
+    if as_json:
+        emit_json(explain_payload(result, remedies, surface_of, job.units, search,
+                                  str(save_file) if save_file else None))
+    else:
+        click.echo(explain_report(result, remedies, surface_of, job.units, search))
+        for path in written:
+            click.echo(f"wrote {path}")
+
+
+def draw_first_article(result, folder: str):
+    from pathlib import Path
+
+    from deflect.output.figures import first_article_plot
+
+    out = Path(folder)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        return first_article_plot(result, out / "first-article.png")
+    except OSError as exc:
+        raise InputError("--figures", f"cannot write into {folder}: {exc.strerror or exc}") from None
+
+
+def save_calibration(calibration, path_text: str):
+    """The calibration as TOML, written whole or not at all (a temporary file moved into place); a file that is
+    not a calibration this command wrote is never overwritten."""
+    import os
+    import tempfile
+    from pathlib import Path
+
+    from deflect.job.calibration import CALIBRATION_HEADER, calibration_toml
+
+    path = Path(path_text)
+    temporary = None
+    try:
+        if path.exists() and not path.read_text(encoding="utf-8", errors="replace").startswith(CALIBRATION_HEADER):
+            raise InputError("--save", f"{path} exists and is not a deflect calibration; give another file name")
+        handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=".deflect-", suffix=".toml")
+        with os.fdopen(handle, "w", encoding="utf-8") as stream:
+            stream.write(calibration_toml(calibration))
+        os.replace(temporary, path)
+    except OSError as exc:
+        if temporary is not None and os.path.exists(temporary):
+            os.remove(temporary)
+        raise InputError("--save", f"cannot write {path}: {exc.strerror or exc}") from None
+    return path
+
+
 # ---------------------------------------------------------------------------------------------------
 # the HTML report, a remedy written into a job
 
@@ -671,6 +826,38 @@ def write_clamp_html(html_file, job_file: str, study):
     return write_html(html_file, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
 
 
+def explained(job_file: str, measured_file: str):
+    """The first article's chapter and JSON for `deflect report --measured` (`deflect explain` without --search:
+    the next part's wear offsets with the calibrated constants)."""
+    from datetime import date
+
+    from deflect.decisions.first_article import explain as explain_first_article
+    from deflect.decisions.first_article import next_part
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.measured import read_measured
+    from deflect.job.reader import read_job
+    from deflect.machining.simulate import kept_workers
+    from deflect.machining.targets import process_from_job
+    from deflect.output.explain_report import explain_payload
+    from deflect.output.html_chapters import explain_chapter
+
+    job = read_job(job_file, calibrated=False)
+    measured = read_measured(measured_file, job)
+    try:
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        memo: dict = {}
+        with kept_workers():
+            result = explain_first_article(job, process, measured, "tool", memo, date=date.today().isoformat())
+            remedies = next_part(job, result.calibration, memo, False, None)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    surface_of = {p.name: p.surface for p in process.passes}
+    return (explain_chapter(result, remedies, surface_of, job.units, False),
+            explain_payload(result, remedies, surface_of, job.units, False, None))
+
+
 def chatter_of(job):
     """The chatter study of every finishing pass, with its lobes (`deflect.machining.chatter`)."""
     from deflect.job.dynamics import dynamics_from_job
@@ -700,8 +887,9 @@ def check_apply(job_file: str, number, out_file) -> None:
     check_target(out_file, "--out", JOB_MARK)
 
 
-def apply_option(job_file: str, job, result, number: int, out_file):
-    """Write option `number`'s changes into a copy of the job file (`deflect.output.job_file`)."""
+def apply_option(job_file: str, job, result, number: int, out_file, calibration_file=None):
+    """Write option `number`'s changes into a copy of the job file (`deflect.output.remedy_job`), with the
+    calibration given on the command line, if any, named in it."""
     from pathlib import Path
 
     from deflect import __version__
@@ -718,9 +906,10 @@ def apply_option(job_file: str, job, result, number: int, out_file):
         warn([f"option {number} does not hold the drawing ({'; '.join(option.broken) or 'see the table'})"],
              job_file)
     label = f"deflect tune option {number}"
+    calibration = Path(calibration_file) if calibration_file else None
     text = job_text_with(Path(job_file).read_text(encoding="utf-8"),
                          [change_record(c, job.units) for c in option.changes], label, job.units,
-                         Path(job_file).parent, Path(out_file).parent)
+                         Path(job_file).parent, Path(out_file).parent, calibration)
     return write_whole(out_file, written_header(label, Path(job_file).name, __version__, report_date()) + text,
                        "--out")
 
@@ -732,12 +921,15 @@ def apply_option(job_file: str, job, result, number: int, out_file):
 @click.option("--json", "as_json", is_flag=True,
               help="Also print one JSON object: each part's JSON under its command's name (predict, rules, clamp, "
                    "chatter, tune).")
+@click.option("--measured", "measured_file", type=click.Path(dir_okay=False), default=None,
+              help="A measured first article of the job (as `deflect explain` reads it): its explanation is added.")
 @click.option("--quiet", is_flag=True, help="No progress on stderr.")
-def report(job_file, html_file, as_json, quiet):
+def report(job_file, html_file, measured_file, as_json, quiet):
     """One report of JOB_FILE to hand over, as a single HTML file.
 
     The prediction and the design rules; with [holding], the work holding; with [dynamics], the chatter check;
-    with [tolerance], the remedies ranked by cycle time. Key figures and cautions first, then the inputs, every
+    with [tolerance], the remedies ranked by cycle time; with --measured, the first article explained (the other
+    parts keep the job's constants as given; the first article's part gives them calibrated). Key figures and cautions first, then the inputs, every
     table and figure of those commands, and the job file as given; the tool's version and the date. No scripts
     and nothing fetched: it reads and prints anywhere.
     """
@@ -755,8 +947,14 @@ def report(job_file, html_file, as_json, quiet):
     pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
     chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
-               "rules": rules_payload(rules), "clamp": None, "chatter": None, "tune": None}
+               "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
     remarks = []
+    if job.calibration is not None:
+        from deflect.output.explain_report import calibration_note
+        remarks.append(calibration_note(job.calibration))
+    if measured_file:
+        chapter, payload["explain"] = explained(job_file, measured_file)
+        chapters.append(chapter)
     try:
         if "holding" in job.tables:
             study = clamp_study(job)
@@ -783,7 +981,8 @@ def report(job_file, html_file, as_json, quiet):
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    written = write_html(html_file, pred.title, "report", [job_file], chapters, remarks=remarks)
+    sources = [job_file, measured_file] if measured_file else [job_file]
+    written = write_html(html_file, pred.title, "report", sources, chapters, remarks=remarks)
     if as_json:
         emit_json(payload)
     else:
@@ -795,8 +994,11 @@ def report(job_file, html_file, as_json, quiet):
 @click.argument("job_b", type=click.Path(dir_okay=False))
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None,
+              help="Read JOB_B with this first article's calibration (as `deflect explain --save` writes it): a job "
+                   "against the same job calibrated.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
-def compare(job_a, job_b, as_json, html_file, quiet):
+def compare(job_a, job_b, as_json, html_file, calibration_file, quiet):
     """Two jobs side by side: JOB_A and JOB_B predicted, and the change from A to B.
 
     Mass and gain, the most material left, cycle time, the OD and ID diameters and the wall at the held end,
@@ -812,23 +1014,22 @@ def compare(job_a, job_b, as_json, html_file, quiet):
     from deflect.output.compare_report import compare_payload, compare_report, part_words
 
     html_target(html_file)
-    for job_file in (job_a, job_b):       # both read and checked before either is predicted
-        read_job(job_file)
+    read_job(job_a)                       # both read and checked before either is predicted
+    read_calibrated_job(job_b, calibration_file)
     sides = []
-    for job_file in (job_a, job_b):
+    for job_file, calibration in ((job_a, None), (job_b, calibration_file)):
         if not quiet and not as_json:
             click.echo(f"predicting {job_file}", err=True)
-        pred, judged, _, _ = run_prediction(job_file, show_progress=False)
-        sides.append(Compared(Path(job_file).name, pred, judged.checks))
+        pred, judged, _, job = run_prediction(job_file, show_progress=False, calibration_file=calibration)
+        sides.append(Compared(Path(job_file).name, pred, judged.checks, job.calibration))
     comparison = compare_jobs(*sides)
     written = None
     if html_file:
         from deflect.output.html_chapters import compare_chapter
         a, b = comparison.a.prediction, comparison.b.prediction
         title = a.title if a.title == b.title else f"{a.title} against {b.title}"
-        notes = () if comparison.same_part else (part_words(comparison),)
         written = write_html(html_file, title, "comparison of two jobs", [job_a, job_b],
-                             [compare_chapter(comparison)], notes)
+                             [compare_chapter(comparison)], (part_words(comparison),))
     if as_json:
         emit_json(compare_payload(comparison))
     else:

@@ -141,3 +141,22 @@ def test_an_html_file_that_cannot_be_written_is_refused_first(tmp_path):
     code, out, err = run_deflect(["compare", DEMO_JOB, DEMO_JOB, "--html", tmp_path / "no" / "c.html"])
     assert code == 2 and err.startswith("error: --html: ") and "does not exist" in err, err
     assert "predicting" not in err and files_in(tmp_path) == []
+
+
+def test_a_job_against_the_same_job_calibrated(tmp_path):
+    """B read with a first article's calibration (written here by hand: the finishing tool's forces halved):
+    the same part; B's figures are `deflect predict --calibration`'s, and half the force leaves less material."""
+    job = write_job(tmp_path, "sleeve", sleeve())
+    calibration = tmp_path / "calibration.toml"
+    calibration.write_text('[calibration]\nfitted_per = "tool"\n\n[[calibration.factor]]\napplies_to = "T1"\n'
+                           'kind = "force"\nvalue = 0.5\nlow = 0.4\nhigh = 0.6\nidentified = true\n')
+    code, out, err = run_deflect(["compare", job, job, "--calibration", calibration, "--json", "--quiet"])
+    assert code == 0, err
+    payload = json.loads(out)
+    code, text, err = run_deflect(["predict", job, "--calibration", calibration, "--json", "--quiet"])
+    assert code == 0, err
+    calibrated = json.loads(text)
+    assert payload["same_part"] and payload["a"]["calibration"] is None
+    assert payload["b"]["calibration"]["factors"][0]["value"] == 0.5
+    assert payload["b"]["mass_g"] == pytest.approx(calibrated["predicted"]["mass_g"], rel=SAME_FLOAT)
+    assert payload["change"]["most_material_left_mm"] < 0.0

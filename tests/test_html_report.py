@@ -242,14 +242,15 @@ def test_write_whole_writes_an_ordinary_file(tmp_path):
 # ---------------------------------------------------------------------------------------------------
 # the commands refuse an HTML file they cannot write, before any work
 
-@pytest.mark.parametrize("command", ["predict", "report", "clamp", "tune", "rules", "chatter"])
+@pytest.mark.parametrize("command", ["predict", "report", "clamp", "tune", "rules", "chatter", "explain"])
 def test_an_html_file_that_cannot_be_written_is_refused_before_any_work(tmp_path, command):
-    from conftest import EXAMPLES, run_deflect
+    from conftest import DEMO_JOB, DEMO_MEASURED, EXAMPLES, run_deflect
 
     users = tmp_path / "notes.html"
     users.write_text("my notes")
+    jobs = [DEMO_JOB, DEMO_MEASURED] if command == "explain" else [EXAMPLES / "ring.toml"]
     for target, words in ((tmp_path / "missing" / "r.html", "does not exist"), (users, "deflect did not write it")):
-        code, out, err = run_deflect([command, EXAMPLES / "ring.toml", "--html", target])
+        code, out, err = run_deflect([command, *jobs, "--html", target])
         assert code == 2 and err.startswith("error: --html: ") and words in err, err
         assert "machined:" not in err and "Traceback" not in err
     assert users.read_text() == "my notes" and sorted(p.name for p in tmp_path.iterdir()) == ["notes.html"]

@@ -1,7 +1,7 @@
 """The HTML reports in a real browser (headless Chromium through Playwright; tests/browser.py).
 
-For the report of each shipped example job (`deflect report JOB --html --json`; the demo's from
-tests/conftest.py; the ring's with a [dynamics] table added, so that its report has the chatter check) and for the
+For the report of each shipped example job (`deflect report JOB --html --json`; the demo's, with its first
+article, from tests/conftest.py; the ring's with a [dynamics] table added, so that its report has the chatter check) and for the
 comparison of the demo with its option 1:
 * the page loads with no console error, no page error, no failed request and no request for anything but the
   file itself;
@@ -63,10 +63,11 @@ def example_reports(tmp_path_factory, demo_report) -> dict:
 
 def expected_figures(payload: dict) -> int:
     """The prediction's three, the released shape with [holding], the remedies' with an option, the chatter
-    check's lobes of each pass and its mode shapes with [dynamics]."""
+    check's lobes of each pass and its mode shapes with [dynamics], the first article's with --measured."""
     clamp, tune, chatter = payload.get("clamp"), payload.get("tune"), payload.get("chatter")
     return (3 + (1 if clamp and clamp["roundness_um"] else 0) + (1 if tune and tune["options"] else 0)
-            + (len(chatter["passes"]) + (1 if chatter["modes"] else 0) if chatter else 0))
+            + (len(chatter["passes"]) + (1 if chatter["modes"] else 0) if chatter else 0)
+            + (1 if payload.get("explain") else 0))
 
 
 def png_size(data: bytes) -> tuple[int, int]:

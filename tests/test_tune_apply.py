@@ -275,3 +275,22 @@ def test_a_job_written_twice_stays_valid():
     written = job_text_with(text, changes, "deflect tune option 2", "mm")
     assert tomllib.loads(written)["pass"][0]["compensate"] == [[40.0, -0.012], [6.0, -0.001]]
     assert "# from the first article; was 2 pairs (deflect tune option 2)" in written
+
+
+def test_a_calibration_given_on_the_command_line_is_named_in_the_new_job(tmp_path):
+    """An option found with --calibration FILE: the written job names that file (from its own folder), so that
+    `deflect predict` on it uses the same constants."""
+    source, target = tmp_path / "jobs", tmp_path / "out"
+    source.mkdir()
+    target.mkdir()
+    job = write_job(source, "sleeve", sleeve())
+    calibration = source / "calibration.toml"
+    calibration.write_text('[calibration]\nfitted_per = "tool"\n\n[[calibration.factor]]\napplies_to = "T1"\n'
+                           'kind = "force"\nvalue = 0.5\nlow = 0.4\nhigh = 0.6\nidentified = true\n')
+    changes = [{"pass": "finish OD", "key": "feed", "from": 0.1, "to": 0.08}]
+    written = target / "sleeve-1.toml"
+    written.write_text(job_text_with(job.read_text(), changes, "deflect tune option 1", "mm", source, target,
+                                     calibration))
+    assert tomllib.loads(written.read_text())["job"]["calibration"] == "../jobs/calibration.toml"
+    read = read_job(written)
+    assert read.calibration is not None and read.calibration.factors[0].value == 0.5

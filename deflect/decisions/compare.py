@@ -1,7 +1,7 @@
 """Two jobs side by side: two predictions (and their verdicts against the drawing) -> a `Comparison`.
 
-Takes each job's name, its `Prediction` and its toleranced features; gives the two with whether they are the
-same part (the same drawn section, to `SAME_SECTION_MM`, and the same material: then only the machining
+Takes each job's name, its `Prediction`, its toleranced features and the calibration it was predicted with (a
+job against the same job calibrated is a comparison too); gives the two with whether they are the same part (the same drawn section, to `SAME_SECTION_MM`, and the same material: then only the machining
 differs) and, when not, what differs in words. Comparing two different parts (a wall revision) is allowed: the
 reports say so at the top. The differences of the figures themselves are taken where they are shown
 (`deflect.output.compare_report`); nothing is computed here beyond that judgement.
@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from deflect.decisions.conformance import FeatureCheck
+from deflect.job.calibration import Calibration
 from deflect.machining.results import Prediction
 
 SAME_SECTION_MM = 1e-6          # drawn outlines closer than this are the same drawing (an inch job of a mm
@@ -22,11 +23,13 @@ SAME_SECTION_MM = 1e-6          # drawn outlines closer than this are the same d
 
 @dataclass(frozen=True)
 class Compared:
-    """One side: the job file's name as given, its prediction and its verdict against the drawing."""
+    """One side: the job file's name as given, its prediction and its verdict against the drawing, and the first
+    article's calibration it was predicted with (None: the job's constants as given)."""
 
     name: str
     prediction: Prediction
     features: list[FeatureCheck]
+    calibration: Calibration | None = None
 
 
 @dataclass(frozen=True)

@@ -9,11 +9,15 @@ different parts are said to be so at the top.
 from __future__ import annotations
 
 from deflect.decisions.compare import Compared, Comparison
+from deflect.output.explain_report import calibration_note, calibration_record
 from deflect.output.predict_report import CAUTION, CHECK_ORDER, SURFACE_NAMES
 from deflect.output.tables import Grid, Text, blocks_text, column_grid
 
 
 def part_words(c: Comparison) -> str:
+    if c.same_part and (c.a.calibration is not None or c.b.calibration is not None):
+        return ("The same part (the same drawn section and material), predicted with and without a first "
+                "article's calibration: the differences are what the calibration changes, and the machining's.")
     if c.same_part:
         return ("The same part (the same drawn section and material), made two ways: the differences are the "
                 "machining's.")
@@ -104,9 +108,13 @@ def feature_grid(c: Comparison) -> Grid | None:
                        ("in or OUT, with the margin to the nearer limit; < 0 outside",))
 
 
+def side_words(label: str, side: Compared) -> str:
+    calibrated = "" if side.calibration is None else f"; {calibration_note(side.calibration)}"
+    return f"{label}: {side.name} ({side.prediction.title}){calibrated}"
+
+
 def sides_text(c: Comparison) -> Text:
-    return Text((f"A: {c.a.name} ({c.a.prediction.title})", f"B: {c.b.name} ({c.b.prediction.title})",
-                 part_words(c)))
+    return Text((side_words("A", c.a), side_words("B", c.b), part_words(c)))
 
 
 def compare_blocks(c: Comparison) -> list[Grid | Text]:
@@ -142,7 +150,8 @@ def side_record(side: Compared) -> dict:
                                     "predicted_mm": row["predicted_mm"]} for row in pred.wall},
             "features": [{"feature": f.feature, "meets": f.meets,
                           "margin_um": f.margin if f.unit == "um" else 1e3 * f.margin} for f in side.features],
-            "meets": all(f.meets for f in side.features) if side.features else None}
+            "meets": all(f.meets for f in side.features) if side.features else None,
+            "calibration": None if side.calibration is None else calibration_record(side.calibration)}
 
 
 def change_record(a: dict, b: dict) -> dict:

@@ -238,3 +238,52 @@ def chatter_chapter(study) -> Chapter:
             "The first modes as held: the mid-surface at rest (grey) and deflected (blue, exaggerated), and the "
             "waves around the part.", svg_text(mode_shapes_figure(study))),)))
     return Chapter("chatter", "Chatter", chatter_key_figures(study), tuple(sheets), cautions)
+
+
+def sheets_at(blocks: list, starts: dict[str, str], side_by_side: tuple[str, ...] = ()) -> list[Sheet]:
+    """The blocks in sheets: a new sheet begins at each block whose title begins with one of `starts`' keys,
+    named by its value (blocks that would begin a sheet of the same name as the one before join it); the sheets
+    named in `side_by_side` lay their blocks out in a row."""
+    sheets: list[tuple[str, list]] = []
+    for block in blocks:
+        title = getattr(block, "title", "")
+        start = next((prefix for prefix in starts if title.startswith(prefix)), None)
+        name = starts[start] if start is not None else None
+        if not sheets or (name is not None and name != sheets[-1][0]):
+            sheets.append((name or title, []))
+        sheets[-1][1].append(block)
+    return [Sheet(name, tuple(group), side_by_side=name in side_by_side) for name, group in sheets]
+
+
+def explain_key_figures(result) -> tuple[KeyFigure, ...]:
+    figures = [KeyFigure("residual after the calibration", f"{result.residual_rms_um:.2f} um rms",
+                         ("residual_rms_um",), note="measured - calibrated")]
+    force = [(k, e) for k, e in enumerate(e for e in result.estimates if e.unknown.kind != "size")]
+    for k, e in force:
+        if e.identified:
+            figures.append(KeyFigure(f"factor on {e.unknown.name}'s forces", f"x{e.value:.3f}",
+                                     (f"factors.{k}.value",), note=f"95 %: {e.low:.3f} to {e.high:.3f}"))
+    if result.mass is not None:
+        m = result.mass
+        figures.append(KeyFigure("measured mass gain", f"{m.measured_g - m.nominal_g:+.3f} g", ("mass.gain_g",),
+                                 note=f"rest after the causes {m.rest_g:+.4f} g",
+                                 verdict="" if m.rest_explained else "bad"))
+    return tuple(figures)
+
+
+def explain_chapter(result, remedies=None, surface_of: dict | None = None, units: str = "mm",
+                    searched: bool = False) -> Chapter:
+    """`deflect explain`: the calibration and the fit, the readings, the mass by cause, each profile and the next
+    part, each on a sheet of its own, and the figure of the profiles and the mass split."""
+    from deflect.output.explain_report import explain_blocks
+    from deflect.output.figures import first_article_figure, svg_text
+
+    blocks, cautions = split_cautions(explain_blocks(result, remedies, surface_of, units, searched))
+    profiles = "The profiles against the drawing"
+    sheets = sheets_at(blocks, {"Calibration": "First article: the calibration", "Readings": "The readings",
+                                "Mass": "The mass by cause", "Profile": profiles, "Next part": "The next part"},
+                       side_by_side=(profiles,))
+    sheets.append(Sheet("The first article against the model", (Figure(
+        "Measured (with 95 % bars), uncalibrated and calibrated diameters and wall against the drawing along z, and "
+        "the measured mass gain split by cause.", svg_text(first_article_figure(result))),)))
+    return Chapter("explain", "First article", explain_key_figures(result), tuple(sheets), cautions)

@@ -26,6 +26,7 @@ from dataclasses import dataclass, field
 from deflect.output.tables import Grid, Text, column_grid, pairs_grid
 
 TEMPLATE = "report.html"
+WIDE_TABLE_COLUMNS = 10         # a table of this many columns or more is set smaller, to fit the page
 LIST_SHOWN = 4                  # a list of more numbers than this (an outline) is echoed by its length
 
 
@@ -61,10 +62,12 @@ class Figure:
 
 @dataclass(frozen=True)
 class Sheet:
-    """What goes on one printed page (or on as many as it needs): a title and blocks (Grid, Text, Figure)."""
+    """What goes on one printed page (or on as many as it needs): a title and blocks (Grid, Text, Figure), laid
+    out one under the other or, `side_by_side`, in a row as wide as the page allows (narrow tables)."""
 
     title: str
     blocks: tuple
+    side_by_side: bool = False
 
 
 @dataclass(frozen=True)
@@ -141,19 +144,25 @@ def value_text(value) -> str:
 
 
 def input_tables(source: JobSource) -> list[Grid]:
-    """The job's tables as written: a table per [table] (key and value), a table with a row per entry for each
-    [[array of tables]] (a column per key)."""
-    data = tomllib.loads(source.text)          # a job deflect has read already
-    grids = []
-    for name, value in data.items():
+    """The file's tables as written: a table per [table] (key and value), a table with a row per entry for each
+    [[array of tables]] (a column per key), tables inside tables under their dotted names."""
+    return _tables_of(tomllib.loads(source.text), "")        # a file deflect has read already
+
+
+def _tables_of(data: dict, prefix: str) -> list[Grid]:
+    grids, pairs = [], []
+    for key, value in data.items():
+        name = f"{prefix}{key}"
         if isinstance(value, dict):
-            rows = [(key, value_text(v)) for key, v in value.items()]
-            if rows:
-                grids.append(pairs_grid(rows, f"[{name}]", sentences=True))
+            grids += _tables_of(value, f"{name}.")
         elif isinstance(value, list) and value and all(isinstance(v, dict) for v in value):
             keys = list(dict.fromkeys(k for entry in value for k in entry))
             rows = [[value_text(entry[k]) if k in entry else "" for k in keys] for entry in value]
             grids.append(column_grid(f"[[{name}]]", keys, rows))
+        else:
+            pairs.append((key, value_text(value)))
+    if pairs:
+        grids.insert(0, pairs_grid(pairs, f"[{prefix.rstrip('.')}]", sentences=True))
     return grids
 
 
@@ -182,7 +191,8 @@ def render(report: Report) -> str:
     environment = jinja2.Environment(loader=jinja2.PackageLoader("deflect.output", "templates"),
                                      autoescape=True, undefined=jinja2.StrictUndefined,
                                      trim_blocks=True, lstrip_blocks=True)
-    environment.globals.update(block_kind=block_kind, number_text=number_text, input_tables=input_tables)
+    environment.globals.update(block_kind=block_kind, number_text=number_text, input_tables=input_tables,
+                               wide_columns=WIDE_TABLE_COLUMNS)
     cautions = tuple(dict.fromkeys(c for chapter in report.chapters for c in chapter.cautions))
     key_figures = [(chapter, figure) for chapter in report.chapters for figure in chapter.key_figures]
     return environment.get_template(TEMPLATE).render(report=report, cautions=cautions, key_figures=key_figures)

@@ -9,7 +9,8 @@ each changed value carries a comment saying what it was. Keys:
   convention: a side, along the surface's outward normal);
 * compensate: the pairs `[[z, offset], ...]` set on the pass, as an array written one pair a line;
 * order: the [[pass]] tables put in the new order, each moved table's name marked with where it was.
-A file the job names relative to its own folder (`[part] drawing`) is named again from the new job's folder.
+A file the job names relative to its own folder (`[part] drawing`, `[job] calibration`) is named again from the
+new job's folder; a calibration the option was found with on the command line is named in `[job] calibration`.
 Formatting only; no physics is computed here.
 """
 
@@ -75,7 +76,7 @@ def _note(table, key: str, text: str) -> None:
 
 
 # keys that name a file, as (table, key), read relative to the job file's folder
-FILE_KEYS = (("part", "drawing"),)
+FILE_KEYS = (("part", "drawing"), ("job", "calibration"))
 
 
 def _relocate(document, source_folder: Path, target_folder: Path, label: str) -> None:
@@ -90,14 +91,22 @@ def _relocate(document, source_folder: Path, target_folder: Path, label: str) ->
 
 
 def job_text_with(text: str, changes: list[dict], label: str, units: str, source_folder: Path | None = None,
-                  target_folder: Path | None = None) -> str:
+                  target_folder: Path | None = None, calibration: Path | None = None) -> str:
     """The job's text with the changes written in (values in the job's `units`, "mm" or "inch"); `label` names
     where they come from in each comment (e.g. "deflect tune option 1"). Written into another folder than the
     job's (`target_folder`, the job's being `source_folder`), a file the job names relative to its folder (a
-    `[part] drawing`) is named again relative to the new one."""
+    `[part] drawing`, a `[job] calibration`) is named again relative to the new one. `calibration`: the file of
+    a calibration the option was found with (`--calibration`), named in the new job's `[job] calibration` so that
+    it predicts the option's figures."""
     document = tomlkit.parse(text)
     if source_folder is not None and target_folder is not None:
         _relocate(document, Path(source_folder).resolve(), Path(target_folder).resolve(), label)
+    if calibration is not None:
+        if "job" not in document:
+            document["job"] = tomlkit.table()
+        folder = Path(target_folder if target_folder is not None else ".").resolve()
+        named = Path(os.path.relpath(Path(calibration).resolve(), folder)).as_posix()
+        _set(document["job"], "calibration", named, f"{label}: the calibration it was found with")
     passes = document.get("pass")
     if passes is None:
         raise InputError("pass", "the job has no [[pass]] tables to change")
