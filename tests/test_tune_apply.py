@@ -294,3 +294,11 @@ def test_a_calibration_given_on_the_command_line_is_named_in_the_new_job(tmp_pat
     assert tomllib.loads(written.read_text())["job"]["calibration"] == "../jobs/calibration.toml"
     read = read_job(written)
     assert read.calibration is not None and read.calibration.factors[0].value == 0.5
+
+
+def test_a_pass_named_with_spaces_around_it_is_found():
+    """The reader drops the spaces around a pass's name; the writer finds the pass the same way."""
+    text = '[[pass]]\nname = "  finish OD "\nfeed = 0.1\n'
+    written = job_text_with(text, [{"pass": "finish OD", "key": "feed", "from": 0.1, "to": 0.08}],
+                            "deflect tune option 1", "mm")
+    assert tomllib.loads(written)["pass"][0] == {"name": "  finish OD ", "feed": 0.08}

@@ -37,9 +37,14 @@ def _was(item) -> str:
     return " ".join(item.as_string().split())
 
 
+def _name(table) -> str:
+    """A pass's name as the reader takes it (spaces around it dropped)."""
+    return str(table.get("name", "")).strip()
+
+
 def _pass_table(passes, name: str):
     for table in passes:
-        if table.get("name") == name:
+        if _name(table) == name.strip():
             return table
     raise InputError("pass", f"the job has no pass named {name!r} (the option was found for another job?)")
 
@@ -56,13 +61,12 @@ def _set(table, key: str, value, label: str) -> None:
 
 def _reorder(passes, names: list[str], label: str) -> None:
     tables = list(passes)
-    by_name = {table.get("name"): (k, table) for k, table in enumerate(tables)}
-    missing = [n for n in names if n not in by_name]
+    by_name = {_name(table): (k, table) for k, table in enumerate(tables)}
+    missing = [n for n in names if n.strip() not in by_name]
     if missing or len(names) != len(tables):
-        raise InputError("pass", f"the option's order {names} does not name the job's passes "
-                                 f"{[t.get('name') for t in tables]}")
+        raise InputError("pass", f"the option's order {names} does not name the job's passes {list(by_name)}")
     for position, name in enumerate(names):
-        was, table = by_name[name]
+        was, table = by_name[name.strip()]
         if was != position:
             _note(table, "name", f"was pass {was + 1} of {len(tables)}, now pass {position + 1} ({label})")
         passes[position] = table
