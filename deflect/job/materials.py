@@ -20,7 +20,7 @@ import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.job.checks import check_keys, number
 
 KIENZLE_KEYS = ("kc11", "mc", "kf11", "mf", "kp11", "mp")
@@ -40,6 +40,7 @@ _FIELD_OF_KEY = {
     "E": "E_mpa",
     "nu": "nu",
     "density": "density_g_cm3",
+    "yield_strength": "yield_strength_mpa",
     "kc11": "kc11",
     "mc": "mc",
     "kf11": "kf11",
@@ -62,12 +63,15 @@ class Material:
 
     ``kc11 .. mp`` are None when no Kienzle constants were given; `sources`
     maps each job-file key (``E``, ``kc11``, ...) to where its value came from.
+    ``yield_strength_mpa`` is the 0.2 % proof stress Rp0.2 (None when not given):
+    a grip that would bend the wall past it is refused.
     """
 
     name: str
     E_mpa: float
     nu: float
     density_g_cm3: float
+    yield_strength_mpa: float | None = None
     kc11: float | None = None
     mc: float | None = None
     kf11: float | None = None
@@ -96,7 +100,7 @@ def library_path() -> Path:
 
 def _check_range(name: str, value: float, key: str) -> None:
     """Physical range of each material value; `name` is the job-file key."""
-    if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11"):
+    if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11", "yield_strength"):
         if value <= 0.0:
             raise InputError(key, f"must be > 0, got {value:g}")
     elif name == "nu":
@@ -228,7 +232,7 @@ def material_from_job(table, key: str = "material") -> Material:
     if "name" in table:
         name = table["name"]
         if not isinstance(name, str):
-            raise InputError(f"{key}.name", f"must be a text string, got {name!r}")
+            raise InputError(f"{key}.name", f"must be a text string, got {shown(name)}")
         library = load_library()
         base = library.get(name.strip().lower())
         if base is None:
