@@ -14,13 +14,13 @@ table is not an error: a small lathe's limits are assumed and a warning says so.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import shapely
 from shapely.geometry import Point, Polygon
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.geometry.section import POLYGON_CHORD_MM, section_from_outline
 from deflect.job.checks import check_keys, check_table, is_number
 from deflect.job.tooling import Tool, tool_from_job
@@ -32,6 +32,12 @@ SURFACES = ("od", "id", "face")   # the side a pass cuts from: outside, bore, fa
 PASS_KEYS = ("name", "surface", "tool", "allowance", "feed", "speed", "z", "r", "depth", "spring", "offset",
              "compensate")
 MOST_COMPENSATION_MM = 0.5      # a programmed correction of push-off is micrometres to tenths, never more
+# Limits of the simulation (README, "Limits the tool enforces"):
+APPROACH_MM = 5.0               # a pass's extent is cut back to this beyond the stock and the part: the usual
+                                # clearance a program starts the tool at (1-5 mm, common practice); beyond it the
+                                # tool feeds through air, which the simulation would have to walk 0.1 mm at a time
+MAX_SPRING_CUTS = 10            # spring cuts a pass may ask for (one or two take what the wall gave back, common
+                                # practice; more take nothing more)
 PASS_REQUIRED = ("name", "surface", "tool", "allowance", "feed", "speed")
 MACHINE_KEYS = ("max_rpm", "power_kw")
 
@@ -96,7 +102,7 @@ def _number(table: dict, name: str, key: str, what: str) -> float:
         raise InputError(f"{key}.{name}", f"missing; give {what}")
     value = table[name]
     if not is_number(value):
-        raise InputError(f"{key}.{name}", f"must be a number ({what}), got {value!r}")
+        raise InputError(f"{key}.{name}", f"must be a number ({what}), got {shown(value)}")
     return float(value)
 
 
@@ -203,7 +209,7 @@ def _extent(table: dict, surface: str, key: str) -> tuple[float, float]:
                                           "(start -> end is the feed direction)")
     value = table[name]
     if not (isinstance(value, list) and len(value) == 2 and all(is_number(v) for v in value)):
-        raise InputError(f"{key}.{name}", f"must be two numbers [start, end] in mm, got {value!r}")
+        raise InputError(f"{key}.{name}", f"must be two numbers [start, end] in mm, got {shown(value)}")
     start, end = float(value[0]), float(value[1])
     if start == end:
         raise InputError(f"{key}.{name}", f"start and end are both {start:g}; a pass needs a length to feed along")
@@ -223,10 +229,10 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
         raise InputError(f"{key}.name", "must be a non-empty text such as \"finish OD\"")
     surface = table["surface"]
     if surface not in SURFACES:
-        raise InputError(f"{key}.surface", f'must be "od", "id" or "face", got {surface!r}')
+        raise InputError(f"{key}.surface", f'must be "od", "id" or "face", got {shown(surface)}')
     tool = table["tool"]
     if not isinstance(tool, str):
-        raise InputError(f"{key}.tool", f"must be the name of a [[tool]] in quotes, got {tool!r}")
+        raise InputError(f"{key}.tool", f"must be the name of a [[tool]] in quotes, got {shown(tool)}")
     if tool not in tools:
         defined = f"defined tools: {', '.join(tools)}" if tools else "no [[tool]] is defined"
         raise InputError(f"{key}.tool", f"no tool named {tool!r}; {defined}")
@@ -255,7 +261,10 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
     spring = table.get("spring", 0)
     if isinstance(spring, bool) or not isinstance(spring, int) or spring < 0:
         raise InputError(f"{key}.spring", f"must be a whole number 0 or more (extra cuts over the same target), "
-                                          f"got {spring!r}")
+                                          f"got {shown(spring)}")
+    if spring > MAX_SPRING_CUTS:
+        raise InputError(f"{key}.spring", f"{shown(spring)} spring cuts: deflect simulates at most {MAX_SPRING_CUTS} "
+                                          "(one or two take what the wall gave back; more take nothing more)")
     offset = _number(table, "offset", key, "the wear offset along the outward normal, mm") \
         if "offset" in table else 0.0
     compensation = _compensation(table["compensate"], surface, f"{key}.compensate") if "compensate" in table else ()
@@ -299,6 +308,21 @@ def _check_extent(p: Pass, stock_rz: np.ndarray, nominal_rz: np.ndarray) -> None
                                                 f"over {what}")
 
 
+def _clipped(p: Pass, stock_rz: np.ndarray, nominal_rz: np.ndarray, warnings: list[str]) -> Pass:
+    """The pass with its extent cut back to APPROACH_MM beyond the stock and the part (a warning says so): past
+    them the tool only feeds through air, and an extent of a million mm would be walked 0.1 mm at a time."""
+    (stock_lo, stock_hi), (part_lo, part_hi) = _span(stock_rz, p.surface), _span(nominal_rz, p.surface)
+    lo, hi = min(stock_lo, part_lo) - APPROACH_MM, max(stock_hi, part_hi) + APPROACH_MM
+    start, end = min(max(p.start_mm, lo), hi), min(max(p.end_mm, lo), hi)
+    if (start, end) == (p.start_mm, p.end_mm):
+        return p
+    axis = _extent_name(p.surface)
+    warnings.append(f"{p.key}.{axis}: [{p.start_mm:g}, {p.end_mm:g}] runs more than {APPROACH_MM:g} mm beyond the "
+                    f"stock and the part; simulated from {start:g} to {end:g} (the cycle time leaves out the rest, "
+                    "fed through air)")
+    return replace(p, start_mm=start, end_mm=end)
+
+
 # ---------------------------------------------------------------------------------------------------
 # machine
 
@@ -334,6 +358,7 @@ def read_process(job) -> Process:
         raise InputError("pass", "missing; a machining job needs at least one [[pass]] with name, surface, tool, "
                                  "allowance, feed, speed and its extent")
     passes: list[Pass] = []
+    warnings: list[str] = []
     for i, table in enumerate(tables["pass"]):
         p = _pass_from_job(table, i, tools)
         clash = next((q for q in passes if q.name == p.name), None)
@@ -341,8 +366,7 @@ def read_process(job) -> Process:
             raise InputError(f"{p.key}.name", f"{p.name!r} already names {clash.key}; give each pass its own name "
                                               "(the report and the remedies refer to passes by name)")
         _check_extent(p, stock_rz, nominal_rz)
-        passes.append(p)
-    warnings: list[str] = []
+        passes.append(_clipped(p, stock_rz, nominal_rz, warnings))
     machine = _machine_from_job(tables, warnings)
     tolerance = dict(check_table(tables.get("tolerance", {}), "tolerance"))
     return Process(stock_rz=stock_rz, tools=tools, passes=passes, machine=machine, tolerance=tolerance,

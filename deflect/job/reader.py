@@ -16,14 +16,19 @@ import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.geometry.boxes import HeldBox
 from deflect.geometry.section import Section, section_from_outline, unit_size_warning
-from deflect.job.checks import check_keys, check_range, check_table, is_number
+from deflect.job.checks import check_keys, check_range, check_table, is_number, nesting_depth
 from deflect.job.holding import held_from_holding
 from deflect.job.materials import Material, material_from_job
 
 MM_PER_INCH = 25.4
+# A job nests arrays and tables at most 4 deep ([stock] outline = [{ to = [r, z] }]); deeper nesting is a
+# mistake, and nesting thousands deep would exhaust the stack of any recursive reader.
+MAX_NESTING = 8
+# A job file larger than this is not a drawing of a turned part: 200,000 outline nodes take about 6 MB.
+MAX_JOB_CHARS = 20_000_000
 
 # Tables a job may hold. The machining ones are read by the simulation; here they only pass through.
 KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding")
@@ -133,7 +138,7 @@ def parse_job(data: dict, path: str) -> Job:
         raise InputError("job.title", "must be text in quotes")
     units = job_table.get("units", "mm")
     if units not in ("mm", "inch"):
-        raise InputError("job.units", f'must be "mm" or "inch", got {units!r}')
+        raise InputError("job.units", f'must be "mm" or "inch", got {shown(units)}')
     factor = MM_PER_INCH if units == "inch" else 1.0
 
     if "material" not in data:
@@ -164,16 +169,28 @@ def parse_job(data: dict, path: str) -> Job:
 def read_job(path: str | Path) -> Job:
     """Read and check a job file; every problem is an InputError naming this file."""
     path = str(path)
+    if Path(path).is_dir():
+        raise InputError("file", "is a folder, not a job file; give the path of a .toml job", file=path)
     try:
         text = Path(path).read_bytes().decode("utf-8")
     except FileNotFoundError:
         raise InputError("file", "no such file", file=path) from None
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
+    if len(text) > MAX_JOB_CHARS:
+        raise InputError("file", f"is {len(text) / 1e6:.1f} million characters long; deflect reads job files of at "
+                                 f"most {MAX_JOB_CHARS / 1e6:g} million (see the README, limits)", file=path)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError("file", f"not valid TOML: {exc}", file=path) from None
+    except RecursionError:
+        # the TOML reader descends once per level of nesting: thousands of levels exhaust Python's stack
+        raise InputError("file", "the file nests arrays or tables too deeply to be read; a job nests them at "
+                                 f"most {MAX_NESTING} deep", file=path) from None
+    if nesting_depth(data) > MAX_NESTING:
+        raise InputError("file", f"the file nests arrays or tables {nesting_depth(data)} deep; a job nests them at "
+                                 f"most {MAX_NESTING} deep (an outline node inside a stock outline is 4)", file=path)
     try:
         return parse_job(data, path)
     except InputError as exc:

@@ -35,7 +35,7 @@ from shapely.geometry import Point, Polygon
 from shapely.geometry.polygon import orient
 from shapely.ops import nearest_points
 
-from deflect.errors import ModelError
+from deflect.errors import InputError, ModelError
 from deflect.geometry.section import Section
 from deflect.job.process import SURFACES, Pass
 
@@ -57,6 +57,10 @@ CHIP_SHARE = 1e-3
 _REL_TOL = 1e-9
 # Most entries of the (slabs x edges) and (rays x edges) work arrays handled at once.
 _WORK_ENTRIES = 2_000_000
+# Most cuts one pass makes (roughing steps, the finishing cut and its spring cuts): each cut costs shell models of
+# its own (a tenth of a second or so), and a real roughing pass takes its stock in a few dozen cuts at most
+# (40 mm of radial stock at 1 mm a cut); `depth = 1e-9` would otherwise ask for billions (README, limits).
+MAX_CUTS_PER_PASS = 100
 
 
 @dataclass(frozen=True, eq=False)
@@ -318,6 +322,11 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
         along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
         deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
         n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
+        if n_cuts + p.spring > MAX_CUTS_PER_PASS:
+            raise InputError(f"{p.key}.depth", f"{p.depth_mm:g} mm a cut takes the {deepest:.4g} mm of stock in "
+                                               f"{n_cuts:.3g} cuts; deflect simulates at most {MAX_CUTS_PER_PASS} cuts "
+                                               f"a pass: give a depth of at least "
+                                               f"{deepest / (MAX_CUTS_PER_PASS - p.spring):.3g} mm")
         for k in range(1, n_cuts):
             shift = (n_cuts - k) * deepest / n_cuts * in_feed
             cuts.append(CutPath(points_rz=final.points_rz + shift, normals=final.normals, feed_dir=final.feed_dir))
