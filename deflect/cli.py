@@ -6,6 +6,8 @@ with `warning:`; with `--json` stdout holds exactly one JSON object.
 
 from __future__ import annotations
 
+import functools
+import io
 import json
 import math
 import os
@@ -22,10 +24,37 @@ import click  # noqa: E402  (after the thread settings, before numpy is first im
 from deflect.errors import InputError, ModelError
 
 EXIT_BAD_INPUT = 2
+EXIT_CANNOT_WRITE = 1     # stdout could not be written: not the input's fault
+
+
+class StdoutGone(Exception):
+    """Standard output cannot be written (a full disk, a closed pipe)."""
+
+
+def out(text: str) -> None:
+    """Print a line to stdout, flushed at once so that a stdout that cannot be written is found here (and
+    reported as one line) rather than when Python exits."""
+    try:
+        click.echo(text)
+        sys.stdout.flush()
+    except OSError as exc:
+        raise StdoutGone(exc.strerror or str(exc)) from None
+
+
+def names_the_job(command):
+    """A command whose input errors name its job file: `error: FILE: KEY: ...` also for a bad option."""
+    @functools.wraps(command)
+    def run(job_file, *args, **kwargs):
+        try:
+            return command(job_file, *args, **kwargs)
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or job_file
+            raise
+    return run
 
 
 def emit_json(payload: dict) -> None:
-    click.echo(json.dumps(payload, indent=2))
+    out(json.dumps(payload, indent=2))
 
 
 def warn(lines: list[str], path: str) -> None:
@@ -58,13 +87,14 @@ def cli():
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@names_the_job
 def section(job_file, as_json):
     """Mass properties and thinnest wall of the finished part in JOB_FILE."""
     from deflect.geometry.section import mass_properties, min_wall
     from deflect.job.reader import read_job
-    from deflect.output.tables import section_table
+    from deflect.output.tables import section_table, units_note
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -88,9 +118,10 @@ def section(job_file, as_json):
     if as_json:
         emit_json(payload)
     else:
-        click.echo(section_table(job.title, payload))
+        out(units_note(job.units) + section_table(job.title, payload))
 
 
+DEFAULT_PATCH_MM = (2.0, 2.0)   # the contact patch of `compliance`: along the boundary, around [mm]
 MATRIX_AXES = ["normal (into the material)", "circumferential", "along the boundary"]
 
 
@@ -103,16 +134,19 @@ def point_record(point) -> dict:
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--at", "at", multiple=True, metavar="R,Z",
               help="A point on (or near) the section boundary, in the job's units; repeat for several.")
-@click.option("--patch", default="2,2", show_default=True, metavar="A,W",
-              help="Contact patch: A along the section boundary, W around the circumference (job's units).")
+@click.option("--patch", default=None, metavar="A,W",
+              help="Contact patch: A along the section boundary, W around the circumference, in the job's units "
+                   "[default: 2 mm by 2 mm, in an inch job too].")
 @click.option("--tol", "tolerance", default=1e-3, show_default=True, type=float,
               help="Relative truncation tolerance of the Fourier-harmonic sum.")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Without --at: draw the compliance map along the boundary into this PNG file.")
+@click.option("--plot", "plot_file", default=None,
+              help="Without --at: draw the compliance map along the boundary into this figure file (.png, .pdf, "
+                   ".svg ...).")
+@names_the_job
 def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     """Compliance of the held part at boundary points: how far the wall gives per newton.
 
@@ -121,41 +155,55 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     """
     from deflect.job.reader import MM_PER_INCH, read_job
     from deflect.mechanics.compliance import Patch, WallModel
+    from deflect.output.files import Outputs
     from deflect.output.tables import compliance_table
 
+    if plot_file:
+        from deflect.output.figures import check_figure_name
+        check_figure_name(plot_file, "--plot")
     job = read_job(job_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
-    length, width = parse_pair(patch, "--patch", "A,W")
+    # the patch is the tool's contact: 2 mm by 2 mm whatever the job's units (2 inches would be 25 times it)
+    length_mm, width_mm = (DEFAULT_PATCH_MM if patch is None else
+                           tuple(v * factor for v in parse_pair(patch, "--patch", "A,W")))
     if not (tolerance > 0 and tolerance < 0.5):
         raise InputError("--tol", f"must lie between 0 and 0.5, got {tolerance:g}")
     points = [parse_pair(text, "--at", "R,Z") for text in at]
-    try:
-        model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
-                          Patch(length * factor, width * factor), tolerance)
-        if points:
-            results = model.at_points([(r * factor, z * factor) for r, z in points])
-        else:
-            results = model.map()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    payload = {"points": [point_record(p) for p in results],
-               "matrix_axes": MATRIX_AXES,
-               "patch_mm": {"length": length * factor, "width": width * factor},
-               "tolerance": tolerance}
-    if plot_file and not points:
-        from deflect.output.figures import compliance_map_plot
+    with Outputs() as outputs:
+        figure = outputs.file(plot_file, "--plot") if plot_file and not points else None
         try:
-            compliance_map_plot(job.section, results, job.title, plot_file)
-        except OSError as exc:
-            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+            model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
+                              Patch(length_mm, width_mm), tolerance)
+            if points:
+                results = model.at_points([(r * factor, z * factor) for r, z in points])
+            else:
+                results = model.map()
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or job_file
+            raise
+        payload = {"points": [point_record(p) for p in results],
+                   "matrix_axes": MATRIX_AXES,
+                   "patch_mm": {"length": length_mm, "width": width_mm},
+                   "tolerance": tolerance}
+        if figure:
+            from deflect.output.figures import compliance_map_plot
+            compliance_map_plot(job.section, results, job.title, figure)
+        outputs.commit()
     if as_json:
         emit_json(payload)
     else:
-        click.echo(compliance_table(job.title, results, mapped=not points))
-        if plot_file and not points:
-            click.echo(f"compliance map drawn in {plot_file}")
+        out(compliance_table(job.title, results, mapped=not points, units=job.units))
+        if figure:
+            out(f"compliance map drawn in {plot_file}")
+
+
+def job_units(job_file: str) -> str:
+    """The units a job (already read and checked) is written in: "mm" or "inch"."""
+    import tomllib
+    from pathlib import Path
+
+    return tomllib.loads(Path(job_file).read_text(encoding="utf-8")).get("job", {}).get("units", "mm")
 
 
 def run_prediction(job_file: str, show_progress: bool):
@@ -186,80 +234,102 @@ def run_prediction(job_file: str, show_progress: bool):
         raise
 
 
-def write_outputs(pred, csv_dir, plot_dir) -> list:
-    written = []
+def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str = "--plot") -> None:
+    """The CSV files and figures of a prediction, into (temporary) folders; a file that cannot be written is an
+    InputError naming the option that gave its folder."""
     if csv_dir:
         from deflect.output.csv_files import write_csv
-        written += write_csv(pred, csv_dir)
+        write_csv(pred, csv_dir, csv_key)
     if plot_dir:
         from deflect.output.figures import predict_plots
-        written += predict_plots(pred, plot_dir)
-    return written
+        try:
+            predict_plots(pred, plot_dir, plot_key)
+        except OSError as exc:
+            raise InputError(plot_key, f"cannot write the figures ({exc.strerror or exc})") from None
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--csv", "csv_dir", default=None,
               help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
-@click.option("--plot", "plot_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--plot", "plot_dir", default=None,
               help="Draw the section, the deviation and the pass forces as PNG files into this folder.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
+@names_the_job
 def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
     nominal with its range for the spread of the force constants, cycle time and peak power.
     """
+    from deflect.output.csv_files import FILES as CSV_FILES
+    from deflect.output.figures import PREDICT_FIGURES
+    from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.tables import units_note
 
-    pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
-    written = write_outputs(pred, csv_dir, plot_dir)
+    with Outputs() as outputs:
+        # the folders are checked before the prediction: a name taken by a file of the user's is refused at once
+        csv_temp = outputs.folder(csv_dir, "--csv", CSV_FILES) if csv_dir else None
+        plot_temp = outputs.folder(plot_dir, "--plot", PREDICT_FIGURES) if plot_dir else None
+        pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
+        write_outputs(pred, csv_temp, plot_temp)
+        written = outputs.commit()
     if as_json:
         emit_json(prediction_payload(pred, features))
     else:
-        click.echo(predict_report(pred, features))
+        out(units_note(job_units(job_file)) + predict_report(pred, features))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 @cli.command()
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="deflect-demo", show_default=True,
+@click.option("--out", "out_dir", default="deflect-demo", show_default=True,
               help="Folder for the demo's report, JSON, CSV files and figures.")
 def demo(out_dir):
     """Predict the shipped example: a thin-walled aluminium instrument housing (data/examples/housing.toml)."""
     from pathlib import Path
 
     from deflect.job.materials import library_path
+    from deflect.output.csv_files import FILES as CSV_FILES
+    from deflect.output.figures import PREDICT_FIGURES
+    from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
-    click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, features = run_prediction(job_file, show_progress=True)
-    out = Path(out_dir)
-    report = predict_report(pred, features)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-        (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2))
-    except OSError as exc:
-        raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
-    written = write_outputs(pred, out / "csv", out / "figures")
-    click.echo(report)
-    click.echo(f"\nreport, JSON, CSV and figures written to {out.resolve()}:")
-    for path in [out / "report.txt", out / "prediction.json", *written]:
-        click.echo(f"  {path}")
+    names = ("report.txt", "prediction.json", *(f"csv/{n}" for n in CSV_FILES),
+             *(f"figures/{n}" for n in PREDICT_FIGURES))
+    with Outputs() as outputs:
+        folder = outputs.folder(out_dir, "--out", names)
+        click.echo(f"deflect demo: predicting {job_file}", err=True)
+        pred, features = run_prediction(job_file, show_progress=True)
+        report = predict_report(pred, features)
+        try:
+            (folder / "report.txt").write_text(report + "\n", encoding="utf-8")
+            (folder / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2),
+                                                    encoding="utf-8")
+        except OSError as exc:
+            raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
+        write_outputs(pred, folder / "csv", folder / "figures", "--out", "--out")
+        written = outputs.commit()
+    out(report)
+    out(f"\nreport, JSON, CSV and figures written to {Path(out_dir).resolve()}:")
+    for path in written:
+        out(f"  {path}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Draw the released shape of one finished section around the circumference into this PNG file.")
+@click.option("--plot", "plot_file", default=None,
+              help="Draw the released shape of one finished section around the circumference into this figure "
+                   "file (.png, .pdf, .svg ...).")
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
+@names_the_job
 def clamp(job_file, as_json, plot_file, plot_at):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
@@ -271,11 +341,18 @@ def clamp(job_file, as_json, plot_file, plot_at):
     from deflect.job.reader import MM_PER_INCH, read_job
     from deflect.machining.grip import clamp_study, nearest_point, released_profile
     from deflect.output.clamp_report import clamp_payload, clamp_report
+    from deflect.output.files import Outputs
+    from deflect.output.tables import units_note
 
+    if plot_file:
+        from deflect.output.figures import check_figure_name
+        check_figure_name(plot_file, "--plot")
     job = read_job(job_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
+    outputs = Outputs()
     try:
+        figure = outputs.file(plot_file, "--plot") if plot_file else None
         study = clamp_study(job)
         profile = None
         if plot_file:
@@ -294,32 +371,32 @@ def clamp(job_file, as_json, plot_file, plot_at):
             if index is None:
                 raise InputError("--plot", "no OD or bore is finished in this setup outside the grip: nothing to draw")
             profile = released_profile(study.given, index)
+            from deflect.output.figures import released_shape_plot
+            released_shape_plot(profile, job.title, figure)
+        outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    if profile is not None:
-        from deflect.output.figures import released_shape_plot
-        try:
-            released_shape_plot(profile, job.title, plot_file)
-        except OSError as exc:
-            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+    finally:
+        outputs.discard()
     if as_json:
         emit_json(clamp_payload(study))
     else:
-        click.echo(clamp_report(study))
+        out(units_note(job.units) + clamp_report(study))
         if profile is not None:
-            click.echo(f"released shape drawn in {plot_file}")
+            out(f"released shape drawn in {plot_file}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--contour", "contour_dir", default=None,
               help="Write the compensated finishing contour of each pass (CSV points and ISO 6983 moves) here.")
 @click.option("--design", is_flag=True,
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+@names_the_job
 def tune(job_file, as_json, contour_dir, design, quiet):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
@@ -331,11 +408,14 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
+    from deflect.output.files import Outputs
     from deflect.output.tune_report import tune_payload, tune_report
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
+    outputs = Outputs()
     try:
+        contour_temp = outputs.folder(contour_dir, "--contour") if contour_dir else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         surface_of = {p.name: p.surface for p in process.passes}
@@ -344,16 +424,20 @@ def tune(job_file, as_json, contour_dir, design, quiet):
             result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
-        written = write_contours(job, result, contour_dir) if contour_dir else []
+        if contour_temp:
+            write_contours(job, result, contour_temp)
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
+    finally:
+        outputs.discard()
     if as_json:
         emit_json(tune_payload(result, surface_of, job.units, walls))
     else:
-        click.echo(tune_report(result, surface_of, job.units, job.title, walls))
+        out(tune_report(result, surface_of, job.units, job.title, walls))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 def short_of_the_end(bar, length: int):
@@ -398,18 +482,17 @@ def write_contours(job, result, folder: str) -> list:
     if option is None:
         raise InputError("--contour", "no option compensates a contour, so there is none to write")
     changed = process_from_job(job_with(job, option.changes))
-    out = Path(folder)
+    into = Path(folder)
     written = []
     try:
-        out.mkdir(parents=True, exist_ok=True)
         for p in changed.passes:
             if not p.compensation:
                 continue
             rows = compensated_contour(job, changed, p)
             stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
             for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):
-                path = out / f"{stem}-contour{suffix}"
-                path.write_text(text)
+                path = into / f"{stem}-contour{suffix}"
+                path.write_text(text, encoding="utf-8")
                 written.append(path)
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
@@ -435,3 +518,22 @@ def main(argv: list[str] | None = None) -> None:
     except click.ClickException as exc:
         click.echo(f"error: {exc.format_message()}", err=True)
         sys.exit(EXIT_BAD_INPUT)
+    except StdoutGone as exc:
+        silence_stdout()
+        click.echo(f"error: cannot write the output to stdout: {exc}", err=True)
+        sys.exit(EXIT_CANNOT_WRITE)
+
+
+def silence_stdout() -> None:
+    """Point stdout at the null device, so that Python's last flush on exit does not fail a second time with
+    its own message (what the Python documentation advises for a closed pipe)."""
+    try:
+        sys.stdout.flush()
+    except (OSError, ValueError):
+        pass
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, sys.stdout.fileno())
+        os.close(null)
+    except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
+        pass        # stdout is not a file (a test's captured stream): nothing is flushed at exit
