@@ -13,16 +13,29 @@ from deflect.output.predict_json import feature_record
 from deflect.output.predict_report import duration_text, feature_table
 from deflect.output.tables import grid
 
-LENGTH_KEYS = ("feed", "allowance", "offset")
+LENGTH_KEYS = ("feed", "allowance", "offset", "depth")
 CAUTION = ("Caution: the options are predictions; prove a changed program out (dry run, single block) and measure "
            "the first part. The machine's and chuck maker's limits and your local safety rules come first.")
+
+
+INCH_DECIMALS = 4    # a machinist writes inches to the ten-thousandth (0.0031 in/rev, X -0.0012)
+
+
+def number_text(value: float, units: str, sign: bool = False) -> str:
+    """A length or feed as a machinist writes it: inches to four decimals without trailing zeros (0.0031, not
+    0.00314961), millimetres as given (an offset to four significant digits)."""
+    if units == "inch":
+        text = f"{value:+.{INCH_DECIMALS}f}" if sign else f"{value:.{INCH_DECIMALS}f}"
+        text = text.rstrip("0").rstrip(".") if "." in text else text
+        return "0" if text in ("+0", "-0", "") else text
+    return f"{value:+.4g}" if sign else f"{value:g}"
 
 
 def in_job_units(change: Change, units: str):
     """(from, to) of a change in the job's units."""
     factor = MM_PER_INCH if units == "inch" else 1.0
     if change.key in LENGTH_KEYS:
-        return change.before / factor, change.after / factor
+        return (None if change.before is None else change.before / factor), change.after / factor
     if change.key == "compensate":
         return None, [[z / factor, c / factor] for z, c in change.after]
     if change.key == "order":
@@ -36,9 +49,13 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     before, after = in_job_units(change, units)
     name = change.pass_name
     if change.key == "feed":
-        return f"{name}: feed {before:g} -> {after:g} {unit}/rev"
+        return f"{name}: feed {number_text(before, units)} -> {number_text(after, units)} {unit}/rev"
     if change.key == "allowance":
-        return f"{name}: leave {after:g} {unit} a side for the finish pass (was {before:g})"
+        return (f"{name}: leave {number_text(after, units)} {unit} a side for the finish pass "
+                f"(was {number_text(before, units)})")
+    if change.key == "depth":
+        was = "in one cut" if before is None else f"up to {number_text(before, units)} {unit}"
+        return f"{name}: take the stock in cuts of at most {number_text(after, units)} {unit} (was {was})"
     if change.key == "spring":
         count = {0: "no spring pass", 1: "one spring pass", 2: "two spring passes"}.get(after, f"{after} spring passes")
         return f"{name}: {count}"
@@ -49,12 +66,13 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     if change.key == "offset":
         surface = surface_of.get(name, "od")
         if surface == "face":
-            return f"{name}: wear offset Z {after:+.4g}"
+            return f"{name}: wear offset Z {number_text(after, units, sign=True)}"
         x = 2.0 * after if surface == "od" else -2.0 * after
-        return f"{name}: wear offset X {x:+.4g} (on diameter)"
+        return f"{name}: wear offset X {number_text(x, units, sign=True)} (on diameter)"
     if change.key == "compensate":
         most = max((c for _, c in after), key=abs)
-        return f"{name}: program the compensated contour (push-off taken out, up to {most:+.4g} {unit} a side)"
+        return (f"{name}: program the compensated contour (push-off taken out, up to "
+                f"{number_text(most, units, sign=True)} {unit} a side)")
     if change.key == "order":
         swapped = [n for n, m in zip(after, before) if n != m]
         if len(swapped) == 2 and {surface_of.get(n) for n in swapped} == {"od", "id"}:
