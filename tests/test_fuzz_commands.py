@@ -304,6 +304,19 @@ NAMED = [  # (base, key path, value, command, options): the issue's hostile case
     ("sleeve", ("job", "title"), "plain", "predict", {"csv": "file in the way"}),
     ("sleeve", ("job", "title"), "plain", "tune", {"json": True, "contour": "foreign file"}),
     ("ring", ("job", "title"), "plain", "clamp", {"plot": "foreign file", "at": "id,4"}),
+    # found by this test itself: a blank 20 m long, an allowance of 1e300 (a division by zero), a feed of 1e-300
+    # and a modulus of 1e-300 (numpy warnings), an entering angle of 1e-9 (a tune of minutes), a job that
+    # tune could not predict (its own error hidden)
+    ("ring", ("stock", "tube", "z", 1), 20000.0, "tune", {"contour": "folder in the way"}),
+    ("sleeve", ("pass", 0, "allowance"), 1e300, "predict", {}),
+    ("sleeve", ("pass", 0, "feed"), 1e-300, "tune", {"json": True}),
+    ("sleeve", ("material", "E"), 1e-300, "predict", {"json": True}),
+    ("sleeve", ("tool", 0, "approach"), 1e-9, "tune", {}),
+    ("sleeve", ("stock", "outline", 3, 1), 3, "tune", {}),
+    ("ring", ("stock", "tube", "id"), 1e-9, "tune", {}),
+    ("ring", ("job", "title"), "plain", "compliance", {"patch": "1e300,1"}),
+    ("ring", ("job", "title"), "plain", "compliance", {"patch": "1,1e300"}),
+    ("ring", ("tool", 0, "bar", "overhang"), 42000000.0, "tune", {"json": True}),
 ]
 
 def run_named(tmp_path, index: int) -> None:

@@ -508,14 +508,18 @@ def search_remedies(job, progress) -> TuneResult:
     given = Search(job=job, tolerances=tolerances, progress=progress)
     current = given.evaluate((), with_ranges=True)
     if current is None:
-        process_from_job(job)          # raises the job's own error, if that is what failed
-        raise ModelError("the job as given cannot be predicted")
+        # the job's own error, keyed, is what the user needs: predict it again and let it say what failed
+        simulate(job, process_from_job(job), memo=given.memo, with_ranges=False)
+        raise ModelError("the job as given cannot be predicted", key="pass")
     # a cut deeper than its insert takes is split into more cuts in every option (`split_to_edge`)
     split = split_to_edge(given, current)
     edged = given if not split else Search(job=job_with(job, split), tolerances=tolerances, memo=given.memo,
                                            progress=progress)
+    edged_now = edged.evaluate(()) if split else current
+    if edged_now is None:           # the split plan cannot be predicted (too many cuts, say): search the plan given
+        split, edged, edged_now = (), given, current
     # a pass that asks more power than the machine has runs slower in every option
-    slower = slowed_to_power(edged, edged.evaluate(()) if split else current)
+    slower = slowed_to_power(edged, edged_now)
     fixed = split + slower
     search = given if not fixed else Search(job=job_with(job, fixed), tolerances=tolerances, memo=given.memo,
                                              progress=progress)

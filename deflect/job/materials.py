@@ -98,11 +98,28 @@ def library_path() -> Path:
     return installed if installed.is_file() else package.parent / "data" / "materials.toml"
 
 
+# What solids that are turned can have (README, limits): outside these a number is a typo or a unit slip, and
+# the cutting and shell models would run into overflow (a modulus of 1e-300 MPa, a density of 1e300).
+PLAUSIBLE = {
+    "E": (100.0, 1.2e6, "MPa", "from soft plastics to diamond"),
+    "density": (0.05, 25.0, "g/cm3", "from foams to the densest metals"),
+    "yield_strength": (1.0, 10000.0, "MPa", "from soft plastics to the strongest steels"),
+    "kc11": (10.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
+    "kf11": (1.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
+    "kp11": (1.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
+    "ref_speed": (1.0, 10000.0, "m/min", "cutting speeds"),
+}
+
+
 def _check_range(name: str, value: float, key: str) -> None:
     """Physical range of each material value; `name` is the job-file key."""
     if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11", "yield_strength"):
         if value <= 0.0:
             raise InputError(key, f"must be > 0, got {value:g}")
+        low, high, unit, why = PLAUSIBLE[name]
+        if not low <= value <= high:
+            raise InputError(key, f"{value:g} {unit} lies outside {low:g} to {high:g} {unit} ({why}); check the "
+                                  "number and its unit")
     elif name == "nu":
         if not -1.0 < value < 0.5:
             raise InputError(key, f"Poisson's ratio must lie in (-1, 0.5), got {value:g}")

@@ -84,8 +84,13 @@ _MAKER = re.compile(r"[A-Z0-9]+", re.ASCII)  # after a hyphen
 _MAKER_TAIL = re.compile(r"[A-Z][A-Z0-9]*", re.ASCII)  # run on directly: must start with a letter
 
 RAKE_RANGE_DEG = (-30.0, 45.0)
+APPROACH_RANGE_DEG = (5.0, 175.0)   # entering angles of turning tools run from about 15 to 107.5 deg; beyond
+                                    # these bounds the chip's width a / sin(kappa_r) grows without limit
 DEFAULT_RAKE_DEG = 0.0
 DEFAULT_BAR_E_MPA = 210000.0  # a steel bar; carbide bars are about three times stiffer
+BAR_E_RANGE_MPA = (10000.0, 1.2e6)   # from light alloys to diamond
+MAX_BAR_OVERHANG_RATIO = 20.0   # overhang over diameter: damped bars reach about 14 (common practice)
+MAX_BAR_DIAMETER_MM = 500.0
 
 TOOL_KEYS = ("name", "insert", "nose_radius", "approach", "rake", "bar")
 BAR_KEYS = ("diameter", "overhang", "E")
@@ -311,6 +316,16 @@ def _bar_from_job(table, key: str) -> BoringBar:
         if value <= 0.0:
             raise InputError(f"{key}.{name}", f"must be > 0, got {value:g}")
         values[name] = value
+    if not BAR_E_RANGE_MPA[0] <= values.get("E", DEFAULT_BAR_E_MPA) <= BAR_E_RANGE_MPA[1]:
+        raise InputError(f"{key}.E", f"{values['E']:g} MPa is no bar's modulus (steel 210,000, carbide about "
+                                     f"600,000; between {BAR_E_RANGE_MPA[0]:g} and {BAR_E_RANGE_MPA[1]:g})")
+    if values["overhang"] > MAX_BAR_OVERHANG_RATIO * values["diameter"]:
+        raise InputError(f"{key}.overhang", f"{values['overhang']:g} mm is more than {MAX_BAR_OVERHANG_RATIO:g} times "
+                                            f"the bar's {values['diameter']:g} mm diameter: no boring bar reaches so "
+                                            "far (steel bars about 4, carbide about 10, damped bars about 14)")
+    if values["diameter"] > MAX_BAR_DIAMETER_MM:
+        raise InputError(f"{key}.diameter", f"{values['diameter']:g} mm is thicker than any boring bar "
+                                            f"(at most {MAX_BAR_DIAMETER_MM:g} mm)")
     return BoringBar(
         diameter_mm=values["diameter"],
         overhang_mm=values["overhang"],
@@ -367,8 +382,10 @@ def tool_from_job(table, key: str = "tool[0]") -> Tool:
     if "approach" not in table:
         raise InputError(f"{key}.approach", "missing: give the entering angle kappa_r in degrees (e.g. 93)")
     approach = number(table["approach"], f"{key}.approach")
-    if not 0.0 < approach < 180.0:
-        raise InputError(f"{key}.approach", f"must lie between 0 and 180 deg, got {approach:g}")
+    low, high = APPROACH_RANGE_DEG
+    if not low <= approach <= high:
+        raise InputError(f"{key}.approach", f"must lie between {low:g} and {high:g} deg (a turning tool's entering "
+                                            f"angle), got {approach:g}")
 
     rake = number(table["rake"], f"{key}.rake") if "rake" in table else DEFAULT_RAKE_DEG
     low, high = RAKE_RANGE_DEG

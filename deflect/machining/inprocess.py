@@ -154,6 +154,8 @@ def _quad_segs(distance_mm: float) -> int:
     if abs(distance_mm) <= BUFFER_CHORD_MM:
         return _MIN_QUAD_SEGS
     half_angle = math.acos(1.0 - BUFFER_CHORD_MM / abs(distance_mm))
+    if half_angle == 0.0:          # an offset so large that the chord error rounds away: the finest allowed
+        return _MAX_QUAD_SEGS
     return int(min(_MAX_QUAD_SEGS, max(_MIN_QUAD_SEGS, math.ceil(math.pi / (4.0 * half_angle)))))
 
 

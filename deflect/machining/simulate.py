@@ -77,8 +77,8 @@ ROOT_STEPS = 60                 # most steps of the bracketed root search (it ta
 ROOT_TOLERANCE = 1e-13          # relative residual the root search stops at
 CYLINDER_COS = 0.999            # a finished od or bore point counts as cylindrical within 2.6 degrees of radial
 EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
-MAX_CUTS_PER_JOB = 400          # cuts of all passes together (README, limits): each costs shell models; 400 take
-                                # about a minute here, and a real job has a few dozen
+MAX_CUTS_PER_JOB = 200          # cuts of all passes together (README, limits): each costs shell models (150 cuts
+                                # of the demo housing took 70 s of CPU here); a real job has a few dozen
 MAX_STATIONS_PER_JOB = 2_000_000   # tool positions of all cuts together (one every 0.1 mm; README, limits): the
                                    # station tables of 2 million take about 1 GB
 
@@ -426,6 +426,9 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
     depth = bracketed_root(lambda a: a + push_off(a)[0] - met_depth_mm, np.zeros_like(met_depth_mm),
                            2.0 * met_depth_mm, ROOT_TOLERANCE * np.maximum(met_depth_mm, 1e-3))
     delta, forces = push_off(depth)
+    if not (np.isfinite(depth).all() and np.isfinite(delta).all()):
+        raise ModelError(f"pass '{p.name}': the push-off cannot be balanced with the chip (the set-up gives way "
+                         "without bound); check the tool's bar and the material's modulus", key=p.key)
     unbalanced = np.abs(depth + delta - met_depth_mm) > EQUILIBRIUM_TOLERANCE * np.maximum(met_depth_mm, 1e-3)
     if unbalanced.any():
         # delta fell with depth so fast that no depth in [0, 2 a_met] balances: the feed force pulls the wall
