@@ -173,6 +173,9 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
 
     for folder in (area / "csv", area / "plots", area / "contour"):
         folder.mkdir(exist_ok=True)
+    if command == "demo":        # the shipped housing, into a folder
+        return ["demo", "--out", output_target(area / "csv", options.get("out", "fresh"), ("report.txt",),
+                                                folder=True)]
     args = [command, job]
     if command in ("compliance", "predict", "clamp", "tune", "section") and options.get("json"):
         args.append("--json")
@@ -249,7 +252,7 @@ def finite_numbers(value) -> bool:
 
 
 ERROR_LINE = re.compile(r"^error: [^:]+: [^ :][^:]*: \S")
-SAID = ("error: ", "warning: ", "  machined: ")
+SAID = ("error: ", "warning: ", "  machined: ", "deflect demo: ")
 
 
 def check_run(job_text: str, command: str, options: dict, area: Path) -> None:
@@ -317,6 +320,9 @@ NAMED = [  # (base, key path, value, command, options): the issue's hostile case
     ("ring", ("job", "title"), "plain", "compliance", {"patch": "1e300,1"}),
     ("ring", ("job", "title"), "plain", "compliance", {"patch": "1,1e300"}),
     ("ring", ("tool", 0, "bar", "overhang"), 42000000.0, "tune", {"json": True}),
+    ("sleeve", ("job", "title"), "plain", "demo", {"out": "fresh"}),
+    ("sleeve", ("job", "title"), "plain", "demo", {"out": "foreign file"}),
+    ("sleeve", ("job", "title"), "plain", "demo", {"out": "file in the way"}),
 ]
 
 def run_named(tmp_path, index: int) -> None:
