@@ -127,7 +127,8 @@ MATRIX_AXES = ["normal (into the material)", "circumferential", "along the bound
 
 def point_record(point) -> dict:
     return {"r": point.r_mm, "z": point.z_mm, "nr": point.nr, "nz": point.nz,
-            "compliance_mm_per_N": point.normal_mm_per_n,
+            "compliance_mm_per_N": point.normal_mm_per_n, "r_mm": point.r_mm, "z_mm": point.z_mm,
+            "along_boundary_mm": point.along_mm,
             "matrix_mm_per_N": point.matrix_mm_per_n.tolist(),
             "stiffness_N_per_mm": 1.0 / point.normal_mm_per_n if point.normal_mm_per_n > 0 else None,
             "highest_harmonic": point.harmonics}
@@ -140,14 +141,16 @@ def point_record(point) -> dict:
 @click.option("--patch", default=None, metavar="A,W",
               help="Contact patch: A along the section boundary, W around the circumference, in the job's units "
                    "[default: 2 mm by 2 mm, in an inch job too].")
-@click.option("--tol", "tolerance", default=1e-3, show_default=True, type=float,
-              help="Relative truncation tolerance of the Fourier-harmonic sum.")
+@click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
+              help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
+                   "tolerance).")
+@click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--plot", "plot_file", default=None,
               help="Without --at: draw the compliance map along the boundary into this figure file (.png, .pdf, "
                    ".svg ...).")
 @names_the_job
-def compliance(job_file, at, patch, tolerance, as_json, plot_file):
+def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file):
     """Compliance of the held part at boundary points: how far the wall gives per newton.
 
     A unit force presses into the material along the boundary normal, spread over the patch. Without
@@ -167,8 +170,10 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     # the patch is the tool's contact: 2 mm by 2 mm whatever the job's units (2 inches would be 25 times it)
     length_mm, width_mm = (DEFAULT_PATCH_MM if patch is None else
                            tuple(v * factor for v in parse_pair(patch, "--patch", "A,W")))
+    option = "--harmonic-tol" if old_tolerance is None else "--tol"
+    tolerance = tolerance if old_tolerance is None else old_tolerance
     if not (tolerance > 0 and tolerance < 0.5):
-        raise InputError("--tol", f"must lie between 0 and 0.5, got {tolerance:g}")
+        raise InputError(option, f"must lie between 0 and 0.5, got {tolerance:g}")
     points = [parse_pair(text, "--at", "R,Z") for text in at]
     with Outputs() as outputs:
         figure = outputs.file(plot_file, "--plot") if plot_file and not points else None
@@ -185,7 +190,7 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
         payload = {"points": [point_record(p) for p in results],
                    "matrix_axes": MATRIX_AXES,
                    "patch_mm": {"length": length_mm, "width": width_mm},
-                   "tolerance": tolerance}
+                   "harmonic_tolerance": tolerance}
         if figure:
             from deflect.output.figures import compliance_map_plot
             compliance_map_plot(job.section, results, job.title, figure)
@@ -208,8 +213,8 @@ def job_units(job_file: str) -> str:
 
 def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
-    toleranced features (empty without [tolerance])."""
-    from deflect.decisions.conformance import check_features
+    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings)."""
+    from deflect.decisions.conformance import verdict
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
@@ -228,13 +233,13 @@ def run_prediction(job_file: str, show_progress: bool):
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        return pred, (check_features(pred, process, tolerances) if tolerances else [])
+        return pred, verdict(job, process, pred, tolerances)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
 
 
-def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str = "--plot") -> None:
+def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str = "--figures") -> None:
     """The CSV files and figures of a prediction, into (temporary) folders; a file that cannot be written is an
     InputError naming the option that gave its folder."""
     if csv_dir:
@@ -253,11 +258,12 @@ def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
 @click.option("--csv", "csv_dir", default=None,
               help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
-@click.option("--plot", "plot_dir", default=None,
-              help="Draw the section, the deviation and the pass forces as PNG files into this folder.")
+@click.option("--figures", "plot_dir", default=None,
+              help="Draw the section, the material left and the pass forces as PNG files into this folder.")
+@click.option("--plot", "old_plot_dir", default=None, hidden=True)  # the earlier name
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
 @names_the_job
-def predict(job_file, as_json, csv_dir, plot_dir, quiet):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -272,15 +278,17 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
 
     with Outputs() as outputs:
         # the folders are checked before the prediction: a name taken by a file of the user's is refused at once
+        figures_option = "--figures" if plot_dir else "--plot"
+        plot_dir = plot_dir or old_plot_dir
         csv_temp = outputs.folder(csv_dir, "--csv", CSV_FILES) if csv_dir else None
-        plot_temp = outputs.folder(plot_dir, "--plot", PREDICT_FIGURES) if plot_dir else None
-        pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
-        write_outputs(pred, csv_temp, plot_temp)
+        plot_temp = outputs.folder(plot_dir, figures_option, PREDICT_FIGURES) if plot_dir else None
+        pred, judged = run_prediction(job_file, show_progress=not (quiet or as_json))
+        write_outputs(pred, csv_temp, plot_temp, plot_key=figures_option)
         written = outputs.commit()
     if as_json:
-        emit_json(prediction_payload(pred, features))
+        emit_json(prediction_payload(pred, judged.checks, judged.warnings))
     else:
-        out(units_note(job_units(job_file)) + predict_report(pred, features))
+        out(units_note(job_units(job_file)) + predict_report(pred, judged.checks, judged.warnings))
         for path in written:
             out(f"wrote {path}")
 
@@ -305,12 +313,12 @@ def demo(out_dir):
     with Outputs() as outputs:
         folder = outputs.folder(out_dir, "--out", names)
         click.echo(f"deflect demo: predicting {job_file}", err=True)
-        pred, features = run_prediction(job_file, show_progress=True)
-        report = predict_report(pred, features)
+        pred, judged = run_prediction(job_file, show_progress=True)
+        report = predict_report(pred, judged.checks, judged.warnings)
         try:
             (folder / "report.txt").write_text(report + "\n", encoding="utf-8")
-            (folder / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2),
-                                                    encoding="utf-8")
+            (folder / "prediction.json").write_text(
+                json.dumps(prediction_payload(pred, judged.checks, judged.warnings), indent=2), encoding="utf-8")
         except OSError as exc:
             raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
         write_outputs(pred, folder / "csv", folder / "figures", "--out", "--out")
@@ -369,7 +377,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
                                                   f"got {plot_at!r}")
                 index = nearest_point(study.given, surface, z * factor)
             if index is None:
-                raise InputError("--plot", "no OD or bore is finished in this setup outside the grip: nothing to draw")
+                raise InputError("--plot", "no OD or ID is finished in this setup outside the grip: nothing to draw")
             profile = released_profile(study.given, index)
             from deflect.output.figures import released_shape_plot
             released_shape_plot(profile, job.title, figure)
@@ -400,7 +408,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
 def tune(job_file, as_json, contour_dir, design, quiet):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
-    Tries feeds, spring passes, the finishing allowance, the job's other tools, a wear offset, a compensated
+    Tries feeds, spring cuts, the finishing allowance, the job's other tools, a wear offset, a compensated
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """

@@ -33,7 +33,7 @@ from contextlib import contextmanager
 from pathlib import Path
 
 import pytest
-from hypothesis import HealthCheck, example, given, settings
+from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
@@ -191,7 +191,7 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
         if options.get("csv"):
             args += ["--csv", output_target(area / "csv", options["csv"], CSV_FILES, folder=True)]
         if options.get("plot"):
-            args += ["--plot", output_target(area / "plots", options["plot"], PREDICT_FIGURES, folder=True)]
+            args += ["--figures", output_target(area / "plots", options["plot"], PREDICT_FIGURES, folder=True)]
     elif command == "clamp":
         if options.get("plot"):
             args += ["--plot", output_target(area, options["plot"], ("figure.png",), folder=False)]

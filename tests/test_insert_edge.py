@@ -101,7 +101,8 @@ def test_tune_splits_the_cut_instead_of_slowing_it(tmp_path):
     assert result["options"], result
     for option in result["options"]:
         depth = [c for c in option["changes"] if c["key"] == "depth"]
-        assert depth == [{"pass": "rough OD", "key": "depth", "from": None, "to": math.floor(usable_mm() * 10) / 10}]
+        assert depth == [{"pass": "rough OD", "key": "depth", "from": None, "to": math.floor(usable_mm() * 10) / 10,
+                          "unit": "mm"}]
         assert not [c for c in option["changes"] if c["key"] == "speed" and c["pass"] == "rough OD"]
         assert "rough OD: take the stock in cuts of at most" in option["in_words"]
         assert not [b for b in option["breaks"] if "takes up to" in b]

@@ -1,6 +1,6 @@
 """Outputs are written whole or not at all, and never over a file deflect did not write (issue 17, item 8).
 
-Every command that writes files (predict --csv / --plot, demo --out, compliance --plot, clamp --plot, tune
+Every command that writes files (predict --csv / --figures, demo --out, compliance --plot, clamp --plot, tune
 --contour) goes through `deflect.output.files.Outputs`: files are written to a hidden staging folder beside
 their place and moved there only when all of them are written; each folder keeps the list of the files deflect
 wrote in it (`files.MANIFEST`), and a file it does not list is never replaced. Before the fix `predict --csv D`
@@ -38,7 +38,7 @@ def staging_left(folder: Path) -> list[Path]:
 
 def test_predict_writes_its_files_and_lists_them(tmp_path, sleeve):
     out = tmp_path / "out"
-    code, stdout, err = run_cli(["predict", sleeve, "--csv", str(out / "csv"), "--plot", str(out / "fig"), "--quiet"])
+    code, stdout, err = run_cli(["predict", sleeve, "--csv", str(out / "csv"), "--figures", str(out / "fig"), "--quiet"])
     assert code == 0, err
     assert sorted(p.name for p in (out / "csv").iterdir()) == sorted([*CSV_FILES, MANIFEST])
     assert sorted(p.name for p in (out / "fig").iterdir()) == sorted([*PREDICT_FIGURES, MANIFEST])
@@ -82,13 +82,13 @@ def test_an_output_that_fails_part_way_leaves_nothing(tmp_path, sleeve):
 
 
 def test_a_figure_that_cannot_be_drawn_leaves_no_csv_either(tmp_path, sleeve, monkeypatch):
-    def broken(pred, folder, key="--plot"):
+    def broken(pred, folder, key="--figures"):
         raise OSError(28, "No space left on device")
 
     monkeypatch.setattr(figures, "predict_plots", broken)
-    code, _, err = run_cli(["predict", sleeve, "--csv", str(tmp_path / "csv"), "--plot", str(tmp_path / "fig"),
+    code, _, err = run_cli(["predict", sleeve, "--csv", str(tmp_path / "csv"), "--figures", str(tmp_path / "fig"),
                             "--quiet"])
-    assert code == 2 and "--plot: cannot write the figures (No space left on device)" in err
+    assert code == 2 and "--figures: cannot write the figures (No space left on device)" in err
     assert not (tmp_path / "csv").exists() and not (tmp_path / "fig").exists()
     assert not staging_left(tmp_path)
 

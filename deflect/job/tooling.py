@@ -125,8 +125,8 @@ def _bad_code(key: str, code: str, why: str) -> InputError:
     return InputError(
         key,
         f"{shown(code)} is not an ISO 1832 insert designation ({why}); expected the metric "
-        "form such as 'CNMG120408', 'DCMT11T304' or 'CNMG 12 04 08-PM', or the inch form "
-        "of ANSI B212.4 such as 'CNMG 432'",
+        "form such as 'CNMG120408', 'DCMT11T304' or 'CNMG 12 04 08-XX' (XX: a maker's chip-breaker code), "
+        "or the inch form of ANSI B212.4 such as 'CNMG 432'",
     )
 
 

@@ -3,10 +3,11 @@ stress the grip puts in the gripped ring.
 
 Takes forces [N], speeds [1/min], masses [kg] and radii; gives forces [N], torques and stresses [MPa]. Jaw
 chuck practice as quoted from VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern
-(Backenfutter)" in shared/REFERENCE.md section 8 [S]; `deflect.machining.grip` explains how they combine into
-the grip window. The ring under N equal jaws: thin-ring theory (bending energy, Castigliano), as in
-W. C. Young, R. G. Budynas, *Roark's Formulas for Stress and Strain*, 7th ed. (2002), Table 9.2 (ring under
-equal radial loads), and S. P. Timoshenko, *Strength of Materials*, part I, thin curved rings.
+(Backenfutter)" in chuck makers' operating manuals (seen second-hand, not in the guideline's own text);
+`deflect.machining.grip` explains how they combine into the grip window. The ring under N equal jaws: thin-ring
+theory (bending energy, Castigliano), as in W. C. Young, R. G. Budynas, *Roark's Formulas for Stress and
+Strain*, 7th ed. (2002), Table 9.2 (ring under equal radial loads), and S. P. Timoshenko, *Strength of
+Materials*, part I, thin curved rings.
 """
 
 from __future__ import annotations

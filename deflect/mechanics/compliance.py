@@ -52,6 +52,8 @@ class PointCompliance:
     nz: float
     matrix_mm_per_n: np.ndarray    # (3, 3): normal, circumferential, along the boundary (module docstring)
     harmonics: int                 # highest Fourier harmonic summed (over the points computed together)
+    along_mm: float | None = None  # where the point lies along the boundary, from the outline's first node
+                                   # counter-clockwise [mm] (None for a point given by coordinates alone)
 
     @property
     def normal_mm_per_n(self) -> float:
@@ -168,17 +170,20 @@ class WallModel:
                 normal = normals[i]
             point, normal = np.asarray(point, float), np.asarray(normal, float)
             placed.append((self.load_at(s, point, normal), point, normal))
-        return self.solve(placed)
+        return self.solve(placed, arclengths)
 
-    def solve(self, placed: list[tuple[ShellLoad, np.ndarray, np.ndarray]]) -> list[PointCompliance]:
-        """Compliance of (load, point, outward normal) triples, all summed over the harmonics together."""
+    def solve(self, placed: list[tuple[ShellLoad, np.ndarray, np.ndarray]],
+              arclengths: list[float] | None = None) -> list[PointCompliance]:
+        """Compliance of (load, point, outward normal) triples, all summed over the harmonics together;
+        arclengths: where each point lies along the boundary, when known."""
         loads = [load for load, _, _ in placed]
         # axes: into the material, and the CCW tangent (the outward normal turned left)
         directions = np.array([[-n, [-n[1], n[0]]] for _, _, n in placed])
         matrices, harmonics = harmonic_compliance(self.shell, loads, directions, tol=self.tolerance,
                                                   floor_mm_per_n=self.floor_mm_per_n)
         return [PointCompliance(r_mm=float(p[0]), z_mm=float(p[1]), nr=float(n[0]), nz=float(n[1]),
-                                matrix_mm_per_n=matrices[i], harmonics=int(harmonics))
+                                matrix_mm_per_n=matrices[i], harmonics=int(harmonics),
+                                along_mm=None if arclengths is None else float(arclengths[i]))
                 for i, (_, p, n) in enumerate(placed)]
 
     def at_points(self, points_rz: list[tuple[float, float]]) -> list[PointCompliance]:
@@ -201,7 +206,7 @@ class WallModel:
         """Compliance along the whole boundary (not on the axis, not where the patch does not fit its face)."""
         spacing = spacing_mm or max(self.patch.length_mm / 2.0, self.section.perimeter() / 300.0)
         samples = self.section.sample(spacing)
-        placed = []
+        placed, arclengths = [], []
         for s, segment in zip(samples.arclength, samples.segment):
             if self.section.on_axis(int(segment)):
                 continue
@@ -210,7 +215,8 @@ class WallModel:
                 placed.append((self.load_at(float(s), point, normal), point, normal))
             except InputError:
                 continue   # a face shorter than the patch (a thin rim face): no value there
+            arclengths.append(float(s))
         if not placed:
             raise InputError("--patch", f"a patch of {self.patch.length_mm:g} by {self.patch.width_mm:g} mm fits no "
                                         "face of the part; give a smaller patch")
-        return self.solve(placed)
+        return self.solve(placed, arclengths)
