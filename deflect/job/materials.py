@@ -101,7 +101,7 @@ def library_path() -> Path:
 # What solids that are turned can have (README, limits): outside these a number is a typo or a unit slip, and
 # the cutting and shell models would run into overflow (a modulus of 1e-300 MPa, a density of 1e300).
 PLAUSIBLE = {
-    "E": (100.0, 1.2e6, "MPa", "from soft plastics to diamond"),
+    "E": (100.0, 1e9, "MPa", "from soft plastics to a thousand times diamond, for studies of the rigid limit"),
     "density": (0.05, 25.0, "g/cm3", "from foams to the densest metals"),
     "yield_strength": (1.0, 10000.0, "MPa", "from soft plastics to the strongest steels"),
     "kc11": (10.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
