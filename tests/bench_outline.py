@@ -8,6 +8,9 @@ disturbed by a busy machine) and the peak resident memory of that process (`reso
 
     python tests/bench_outline.py                     # 5,000 / 10,000 / 20,000 / 40,000 nodes
     python tests/bench_outline.py 5000 20000          # chosen counts
+    DEFLECT_SOURCE=/path/to/other/checkout python tests/bench_outline.py 5000   # another version's figures
+
+Careful with an older version: before the R-trees, 20,000 nodes with [holding] took 18.8 GB.
 
 The work should grow about linearly with the nodes: every pairwise test of the outline (segments that may
 touch, rays across the wall, the grip's levels) goes through an R-tree of the segments' boxes.
@@ -17,9 +20,11 @@ from __future__ import annotations
 
 import json
 import math
+import os
 import resource
 import subprocess
 import sys
+import sysconfig
 import tempfile
 import time
 from pathlib import Path
@@ -47,7 +52,16 @@ def measured(args: list[str]) -> tuple[float, float, float, int]:
     """(wall s, CPU s, peak memory MB, exit code) of `deflect ARGS` in a fresh process."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
-    code = subprocess.run([sys.executable, "-c", RUN, *args], stdout=subprocess.DEVNULL).returncode
+    source = os.environ.get("DEFLECT_SOURCE")
+    if source:
+        # another version: without site's start-up (which would put this tree's editable install first), with the
+        # installed libraries on the path after that version's sources
+        env = {**os.environ, "PYTHONPATH": os.pathsep.join([source, sysconfig.get_paths()["purelib"]])}
+        command = [sys.executable, "-S", "-c", RUN, *args]
+    else:
+        env, command = None, [sys.executable, "-c", RUN, *args]
+    # run outside any source tree: `python -c` looks in the working folder first
+    code = subprocess.run(command, stdout=subprocess.DEVNULL, env=env, cwd=tempfile.gettempdir()).returncode
     wall = time.perf_counter() - start
     # ru_maxrss of RUSAGE_CHILDREN is the largest child so far: run each case in its own measuring process
     after = resource.getrusage(resource.RUSAGE_CHILDREN)
