@@ -7,6 +7,7 @@ with `warning:`; with `--json` stdout holds exactly one JSON object.
 from __future__ import annotations
 
 import functools
+import inspect
 import io
 import json
 import math
@@ -42,13 +43,16 @@ def out(text: str) -> None:
 
 
 def names_the_job(command):
-    """A command whose input errors name its job file: `error: FILE: KEY: ...` also for a bad option."""
+    """A command whose input errors name its input file (its first argument, a job or a drawing):
+    `error: FILE: KEY: ...` also for a bad option."""
+    first = next(iter(inspect.signature(command).parameters))
+
     @functools.wraps(command)
-    def run(job_file, *args, **kwargs):
+    def run(*args, **kwargs):
         try:
-            return command(job_file, *args, **kwargs)
+            return command(*args, **kwargs)
         except (InputError, ModelError) as exc:
-            exc.file = exc.file or job_file
+            exc.file = exc.file or (kwargs[first] if first in kwargs else args[0])
             raise
     return run
 
@@ -212,9 +216,11 @@ def job_units(job_file: str) -> str:
 
 
 def run_prediction(job_file: str, show_progress: bool):
-    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
-    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings)."""
+    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
+    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
+    findings and the job."""
     from deflect.decisions.conformance import verdict
+    from deflect.decisions.rules import check_rules
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
@@ -233,7 +239,7 @@ def run_prediction(job_file: str, show_progress: bool):
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        return pred, verdict(job, process, pred, tolerances)
+        return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -261,9 +267,11 @@ def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str
 @click.option("--figures", "plot_dir", default=None,
               help="Draw the section, the material left and the pass forces as PNG files into this folder.")
 @click.option("--plot", "old_plot_dir", default=None, hidden=True)  # the earlier name
+@click.option("--dxf", "dxf_file", default=None,
+              help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
 @names_the_job
-def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -274,6 +282,7 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
     from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tables import units_note
 
     with Outputs() as outputs:
@@ -282,13 +291,20 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
         plot_dir = plot_dir or old_plot_dir
         csv_temp = outputs.folder(csv_dir, "--csv", CSV_FILES) if csv_dir else None
         plot_temp = outputs.folder(plot_dir, figures_option, PREDICT_FIGURES) if plot_dir else None
-        pred, judged = run_prediction(job_file, show_progress=not (quiet or as_json))
+        dxf_temp = outputs.file(dxf_file, "--dxf") if dxf_file else None
+        pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
         write_outputs(pred, csv_temp, plot_temp, plot_key=figures_option)
+        if dxf_temp:
+            from deflect.output.dxf_files import prediction_dxf
+            try:
+                prediction_dxf(pred, job.section, dxf_temp)
+            except OSError as exc:
+                raise InputError("--dxf", f"cannot write {dxf_file} ({exc.strerror or exc})") from None
         written = outputs.commit()
     if as_json:
-        emit_json(prediction_payload(pred, judged.checks, judged.warnings))
+        emit_json({**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)})
     else:
-        out(units_note(job_units(job_file)) + predict_report(pred, judged.checks, judged.warnings))
+        out(units_note(job.units) + predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
             out(f"wrote {path}")
 
@@ -306,6 +322,7 @@ def demo(out_dir):
     from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.rules_report import rules_summary
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     names = ("report.txt", "prediction.json", *(f"csv/{n}" for n in CSV_FILES),
@@ -313,8 +330,8 @@ def demo(out_dir):
     with Outputs() as outputs:
         folder = outputs.folder(out_dir, "--out", names)
         click.echo(f"deflect demo: predicting {job_file}", err=True)
-        pred, judged = run_prediction(job_file, show_progress=True)
-        report = predict_report(pred, judged.checks, judged.warnings)
+        pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
+        report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
         try:
             (folder / "report.txt").write_text(report + "\n", encoding="utf-8")
             (folder / "prediction.json").write_text(
@@ -399,7 +416,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
 @click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--contour", "contour_dir", default=None,
-              help="Write the compensated finishing contour of each pass (CSV points and ISO 6983 moves) here.")
+              help="Write the compensated finishing contour of each pass (CSV points, ISO 6983 moves, DXF) here.")
 @click.option("--design", is_flag=True,
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
@@ -412,11 +429,13 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
+    from deflect.decisions.rules import check_rules
     from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
     from deflect.output.files import Outputs
+    from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
     job = read_job(job_file)
@@ -434,6 +453,7 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         if contour_temp:
             write_contours(job, result, contour_temp)
+        rules = check_rules(job, process)
         written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -441,9 +461,9 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     finally:
         outputs.discard()
     if as_json:
-        emit_json(tune_payload(result, surface_of, job.units, walls))
+        emit_json({**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)})
     else:
-        out(tune_report(result, surface_of, job.units, job.title, walls))
+        out(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
         for path in written:
             out(f"wrote {path}")
 
@@ -470,6 +490,9 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    if job.drawing is not None:   # the walls are redrawn on the outline read from the drawing
+        from deflect.job.drawing import outline_in
+        data["part"] = {"outline": outline_in(job.drawing, job.units)}
     recommended = result.options[0].changes if result.options else ()
     with click.progressbar(length=WALL_STEPS_SHOWN, label="trying wall thicknesses", file=sys.stderr,
                            show_eta=False, hidden=quiet) as bar:
@@ -478,12 +501,13 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
 
 
 def write_contours(job, result, folder: str) -> list:
-    """CSV and ISO 6983 files of every compensated pass of the best option that has one."""
+    """CSV, ISO 6983 and DXF files of every compensated pass of the best option that has one."""
     from pathlib import Path
 
     from deflect.decisions.tune import job_with
     from deflect.machining.targets import process_from_job
     from deflect.machining.toolpath import compensated_contour
+    from deflect.output.dxf_files import contour_dxf
     from deflect.output.programs import contour_csv, iso6983_block
 
     option = next((o for o in result.options if any(c.key == "compensate" for c in o.changes)), None)
@@ -502,9 +526,90 @@ def write_contours(job, result, folder: str) -> list:
                 path = into / f"{stem}-contour{suffix}"
                 path.write_text(text, encoding="utf-8")
                 written.append(path)
+            written.append(contour_dxf(rows, job.section, p.name, into / f"{stem}-contour.dxf"))
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
     return written
+
+
+@cli.command()
+@click.argument("job_file")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@names_the_job
+def rules(job_file, as_json):
+    """Design rules the part in JOB_FILE must meet: thinnest wall against the material's least, internal
+    corners sharper than the nose that finishes them (with the material the nose leaves), stretches the
+    finishing insert cannot reach, and what the drawing itself holds (splines, tiny segments, near-tangent
+    corners, a size that suggests the wrong unit)."""
+    from deflect.decisions.rules import check_rules
+    from deflect.job.reader import read_job
+    from deflect.machining.targets import process_from_job
+    from deflect.output.rules_report import rules_payload, rules_report
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    try:
+        process = process_from_job(job) if "pass" in job.tables else None
+        result = check_rules(job, process)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    if as_json:
+        emit_json(rules_payload(result))
+    else:
+        out(rules_report(result, job.title))
+
+
+@cli.command(name="import")
+@click.argument("drawing_file")
+@click.option("--units", type=click.Choice(["mm", "inch"]), default=None,
+              help="The drawing's unit, whatever its header says (default: its $INSUNITS; unitless: mm).")
+@click.option("--layer", default=None, help="Read only this layer (default: every layer).")
+@click.option("--axis", default=None, metavar="y=VALUE|x=VALUE",
+              help="The spin axis in drawing coordinates (default: a centre line, else y = 0).")
+@click.option("--material", default=None, help="A library material to write into [material].")
+@click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the job to this file (it must not exist yet) instead of printing it.")
+@names_the_job
+def import_drawing(drawing_file, units, layer, axis, material, out_file):
+    """Write a job whose [part] outline reproduces the DXF half-section in DRAWING_FILE (arcs as arcs).
+
+    Drawing x is read as z (along the spin axis) and y as r; a full profile mirrored about the axis gives
+    its half above it. Notes on what was joined, replaced or ignored go to stderr and into the job's header.
+    """
+    from pathlib import Path
+
+    from deflect.job.drawing import drawing_notes, drawing_section, read_drawing
+    from deflect.job.materials import material_from_job
+    from deflect.output.job_files import job_text
+
+    try:
+        drawing = read_drawing(drawing_file, units=units, layer=layer, axis=axis)
+        section = drawing_section(drawing, key="entities")
+    except InputError as exc:
+        exc.file = exc.file or drawing_file
+        raise
+    if material is not None:
+        try:
+            material_from_job({"name": material})
+        except InputError as exc:
+            raise InputError("--material", exc.message) from None
+    notes = drawing_notes(drawing, section)
+    warn(notes, drawing_file)
+    text = job_text(drawing, notes, material)
+    if out_file is None:
+        out(text.rstrip("\n"))
+        return
+    target = Path(out_file)
+    if target.exists():
+        raise InputError("--out", f"{out_file} exists already; choose another name (a job file is never overwritten)")
+    try:
+        temporary = target.with_name(target.name + ".part")
+        temporary.write_text(text, encoding="utf-8")
+        temporary.replace(target)
+    except OSError as exc:
+        raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
+    click.echo(f"wrote {out_file}", err=True)
 
 
 def main(argv: list[str] | None = None) -> None:

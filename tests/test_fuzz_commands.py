@@ -44,6 +44,7 @@ FUZZ_EXAMPLES = 25           # drawn cases in the default run, besides the named
 SLOW_EXAMPLES = 300
 MEMORY_LIMIT_BYTES = 3 * 1024 ** 3    # the radius typo once reached 18 GB, 20,000 nodes 18.8 GB
 CHILD_SECONDS = 120
+EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
 
 SLEEVE = {
     "job": {"title": "fuzz sleeve"},
@@ -176,8 +177,13 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
     if command == "demo":        # the shipped housing, into a folder
         return ["demo", "--out", output_target(area / "csv", options.get("out", "fresh"), ("report.txt",),
                                                 folder=True)]
+    if command == "import":      # the shipped housing's drawing, into a job file
+        target = area / "imported.toml"
+        if options.get("out") == "foreign file":
+            target.write_text("# the user's own job\n")
+        return ["import", str(EXAMPLES / "housing.dxf"), "--out", str(target)]
     args = [command, job]
-    if command in ("compliance", "predict", "clamp", "tune", "section") and options.get("json"):
+    if command in ("compliance", "predict", "clamp", "tune", "section", "rules") and options.get("json"):
         args.append("--json")
     if command == "compliance":
         if options.get("at"):
@@ -192,6 +198,8 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
             args += ["--csv", output_target(area / "csv", options["csv"], CSV_FILES, folder=True)]
         if options.get("plot"):
             args += ["--figures", output_target(area / "plots", options["plot"], PREDICT_FIGURES, folder=True)]
+        if options.get("dxf"):
+            args += ["--dxf", output_target(area / "plots", options["dxf"], ("drawing.png",), folder=False)]
     elif command == "clamp":
         if options.get("plot"):
             args += ["--plot", output_target(area, options["plot"], ("figure.png",), folder=False)]
@@ -208,8 +216,9 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
 OPTIONS = st.fixed_dictionaries({}, optional={
     "json": st.booleans(), "at": st.sampled_from(["20,8", "od,2", "1e300,0", "nan,1", "19.5", "id,1e9"]),
     "patch": st.sampled_from(["2,2", "0,1", "1e300,1", "-1,2", "a,b"]),
-    "plot": st.sampled_from(PLACES), "csv": st.sampled_from(PLACES), "contour": st.sampled_from(PLACES)})
-COMMANDS = st.sampled_from(["section", "compliance", "predict", "predict", "clamp", "tune"])
+    "plot": st.sampled_from(PLACES), "csv": st.sampled_from(PLACES), "contour": st.sampled_from(PLACES),
+    "dxf": st.sampled_from(PLACES)})
+COMMANDS = st.sampled_from(["section", "compliance", "predict", "predict", "clamp", "tune", "rules"])
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -252,7 +261,7 @@ def finite_numbers(value) -> bool:
 
 
 ERROR_LINE = re.compile(r"^error: [^:]+: [^ :][^:]*: \S")
-SAID = ("error: ", "warning: ", "  machined: ", "deflect demo: ")
+SAID = ("error: ", "warning: ", "  machined: ", "deflect demo: ", "wrote ")
 
 
 def check_run(job_text: str, command: str, options: dict, area: Path) -> None:
@@ -323,6 +332,10 @@ NAMED = [  # (base, key path, value, command, options): the issue's hostile case
     ("sleeve", ("job", "title"), "plain", "demo", {"out": "fresh"}),
     ("sleeve", ("job", "title"), "plain", "demo", {"out": "foreign file"}),
     ("sleeve", ("job", "title"), "plain", "demo", {"out": "file in the way"}),
+    ("sleeve", ("job", "title"), "plain", "import", {"out": "fresh"}),
+    ("sleeve", ("job", "title"), "plain", "import", {"out": "foreign file"}),
+    ("sleeve", ("job", "title"), "plain", "predict", {"dxf": "foreign file", "csv": "fresh"}),
+    ("sleeve", ("part", "outline", 1, 0), HUGE, "rules", {"json": True}),
 ]
 
 def run_named(tmp_path, index: int) -> None:

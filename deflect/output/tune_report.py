@@ -143,9 +143,10 @@ def wall_records(walls) -> list[dict]:
              "note": w.note} for w in walls]
 
 
-def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None) -> str:
+def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None,
+                rules_summary: str = "") -> str:
     current = result.current
-    lines = [f"Remedies: {title}", "",
+    lines = [f"Remedies: {title}", "", *([rules_summary, ""] if rules_summary else []),
              f"as programmed: cycle time {duration_text(current.cycle_time_s)}, most off the drawing "
              f"{1000 * current.max_deviation_mm:.1f} um a side, {'meets' if current.meets else 'does NOT meet'} "
              "the drawing", feature_table(current.checks) if current.checks else "nothing toleranced", ""]
