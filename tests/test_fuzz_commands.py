@@ -42,7 +42,7 @@ from test_simulate import run_cli  # noqa: E402
 CASE_SECONDS = 60            # the slowest honest case (tune on the sleeve) takes a few seconds here
 FUZZ_EXAMPLES = 25           # drawn cases in the default run, besides the named ones
 SLOW_EXAMPLES = 300
-MEMORY_LIMIT_BYTES = 3 * 1024 ** 3    # the radius typo once reached 18 GB, 20,000 nodes 18.8 GB
+MEMORY_LIMIT_BYTES = 2 * 1024 ** 3    # the radius typo once reached 18 GB, 10,000 nodes with [holding] 3.2 GB
 CHILD_SECONDS = 120
 EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
 
@@ -397,7 +397,7 @@ def dense_sleeve(nodes: int) -> dict:
 
 MEMORY_CASES = {
     "radius typed 42000000.0, with [holding]": (mutated(RING, ("part", "outline", 1, 0), 42000000.0), "section", 2),
-    "20,000 outline nodes, with [holding]": (dense_sleeve(20_000), "section", 0),
+    "10,000 outline nodes, with [holding]": (dense_sleeve(10_000), "section", 0),
 }
 
 
