@@ -219,11 +219,15 @@ def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
     verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
     findings and the job."""
+    from dataclasses import replace
+
     from deflect.decisions.conformance import verdict
     from deflect.decisions.rules import check_rules
+    from deflect.job.dynamics import dynamics_from_job
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
+    from deflect.machining.chatter import prediction_warnings
     from deflect.machining.simulate import simulate
     from deflect.machining.targets import process_from_job
 
@@ -232,13 +236,16 @@ def run_prediction(job_file: str, show_progress: bool):
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
         tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
-        warn(job.warnings + process.warnings, job_file)
+        dynamics = dynamics_from_job(job.tables)
+        warn(job.warnings + process.warnings + list(dynamics.warnings), job_file)
 
         def progress(pass_name, cut):
             if show_progress:
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
+        # the finishing passes' chatter, checked where each meets the most compliant wall
+        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics))
         return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -429,6 +436,7 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
+    from deflect.decisions.chatter_free import marked_for_chatter
     from deflect.decisions.rules import check_rules
     from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
@@ -449,6 +457,7 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
                                show_eta=False, hidden=quiet or as_json) as bar:
             result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+            result = marked_for_chatter(job, result)   # chatter: a limit with a given damping, else a note
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         if contour_temp:
@@ -464,6 +473,59 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         emit_json({**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)})
     else:
         out(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
+        for path in written:
+            out(f"wrote {path}")
+
+
+@cli.command()
+@click.argument("job_file")
+@click.option("--pass", "pass_name", default=None, metavar="NAME",
+              help="Check this pass only (any pass); by default every finishing pass (allowance 0).")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--figures", "figures_dir", default=None,
+              help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
+@names_the_job
+def chatter(job_file, pass_name, as_json, figures_dir):
+    """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
+
+    The wall's modes as held and as cut (the stock still ahead of the tool), the regenerative stability of each
+    pass at key stations with its worst station, the largest stable depth at its speed and the spindle-speed
+    windows where its depth is stable. Damping from [dynamics] (or a recalled default); a tap test's modes
+    replace the model's. Estimates: confirm with a tap test and a trial cut; the machine's limits come first.
+    """
+    from deflect.job.dynamics import dynamics_from_job
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.reader import read_job
+    from deflect.machining.chatter import chatter_study
+    from deflect.machining.targets import process_from_job
+    from deflect.output.chatter_report import chatter_payload, chatter_report
+    from deflect.output.files import Outputs
+
+    job = read_job(job_file)
+    outputs = Outputs()
+    try:
+        figures_temp = outputs.folder(figures_dir, "--figures") if figures_dir else None
+        dynamics = dynamics_from_job(job.tables)
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        warn(job.warnings + process.warnings, job_file)
+        study = chatter_study(job, process, dynamics, pass_name, with_lobes=figures_dir is not None)
+        if figures_temp:
+            from deflect.output.chatter_figures import chatter_figures
+            try:
+                chatter_figures(study, figures_temp)
+            except OSError as exc:
+                raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+        written = outputs.commit()
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    finally:
+        outputs.discard()
+    if as_json:
+        emit_json(chatter_payload(study))
+    else:
+        out(chatter_report(study))
         for path in written:
             out(f"wrote {path}")
 

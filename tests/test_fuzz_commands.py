@@ -183,7 +183,7 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
             target.write_text("# the user's own job\n")
         return ["import", str(EXAMPLES / "housing.dxf"), "--out", str(target)]
     args = [command, job]
-    if command in ("compliance", "predict", "clamp", "tune", "section", "rules") and options.get("json"):
+    if command in ("compliance", "predict", "clamp", "tune", "section", "rules", "chatter") and options.get("json"):
         args.append("--json")
     if command == "compliance":
         if options.get("at"):
@@ -200,6 +200,9 @@ def command_line(command: str, options: dict, job: str, area: Path) -> list[str]
             args += ["--figures", output_target(area / "plots", options["plot"], PREDICT_FIGURES, folder=True)]
         if options.get("dxf"):
             args += ["--dxf", output_target(area / "plots", options["dxf"], ("drawing.png",), folder=False)]
+    elif command == "chatter":
+        if options.get("figures"):
+            args += ["--figures", output_target(area / "plots", options["figures"], ("mode-shapes.png",), folder=True)]
     elif command == "clamp":
         if options.get("plot"):
             args += ["--plot", output_target(area, options["plot"], ("figure.png",), folder=False)]
@@ -217,8 +220,9 @@ OPTIONS = st.fixed_dictionaries({}, optional={
     "json": st.booleans(), "at": st.sampled_from(["20,8", "od,2", "1e300,0", "nan,1", "19.5", "id,1e9"]),
     "patch": st.sampled_from(["2,2", "0,1", "1e300,1", "-1,2", "a,b"]),
     "plot": st.sampled_from(PLACES), "csv": st.sampled_from(PLACES), "contour": st.sampled_from(PLACES),
-    "dxf": st.sampled_from(PLACES)})
+    "dxf": st.sampled_from(PLACES), "figures": st.sampled_from(PLACES)})
 COMMANDS = st.sampled_from(["section", "compliance", "predict", "predict", "clamp", "tune", "rules"])
+ALL_COMMANDS = st.sampled_from(["section", "compliance", "predict", "predict", "clamp", "tune", "rules", "chatter"])
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -336,6 +340,8 @@ NAMED = [  # (base, key path, value, command, options): the issue's hostile case
     ("sleeve", ("job", "title"), "plain", "import", {"out": "foreign file"}),
     ("sleeve", ("job", "title"), "plain", "predict", {"dxf": "foreign file", "csv": "fresh"}),
     ("sleeve", ("part", "outline", 1, 0), HUGE, "rules", {"json": True}),
+    ("sleeve", ("job", "title"), "plain", "chatter", {"figures": "foreign file"}),
+    ("sleeve", ("pass", 0, "speed"), 1e300, "chatter", {"json": True}),
 ]
 
 def run_named(tmp_path, index: int) -> None:
@@ -348,7 +354,7 @@ def test_the_issue_s_hostile_cases(tmp_path, index):
     run_named(tmp_path, index)
 
 
-def drawn_case(data) -> tuple[str, str, dict]:
+def drawn_case(data, commands=COMMANDS) -> tuple[str, str, dict]:
     base = BASES[data.draw(st.sampled_from(sorted(BASES)), label="base")]
     path = data.draw(st.sampled_from(paths_of(base)), label="key")
     value = data.draw(VALUES, label="value")
@@ -360,7 +366,7 @@ def drawn_case(data) -> tuple[str, str, dict]:
             target = target[step]
         if isinstance(target, dict):
             target.pop(path[-1], None)
-    return toml_text(tables), data.draw(COMMANDS, label="command"), data.draw(OPTIONS, label="options")
+    return toml_text(tables), data.draw(commands, label="command"), data.draw(OPTIONS, label="options")
 
 
 _COUNTER = iter(range(10 ** 9))
@@ -379,7 +385,7 @@ def test_hostile_jobs_and_outputs(tmp_path, data):
           suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(data=st.data())
 def test_many_hostile_jobs_and_outputs(tmp_path, data):
-    text, command, options = drawn_case(data)
+    text, command, options = drawn_case(data, ALL_COMMANDS)    # chatter too (several seconds a case)
     check_run(text, command, options, tmp_path / f"case-{next(_COUNTER)}")
 
 

@@ -33,7 +33,8 @@ MAX_NESTING = 8
 MAX_JOB_CHARS = 20_000_000
 
 # Tables a job may hold. The machining ones are read by the simulation; here they only pass through.
-KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding")
+KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding",
+                "dynamics")
 JOB_KEYS = ("title", "units")
 PART_KEYS = ("outline", "drawing", "layer", "axis")
 HELD_KEYS = ("r", "z")
@@ -104,6 +105,8 @@ def convert_machining_tables(data: dict, factor: float) -> dict:
                                for k, v in tolerance.items()}
     if "machine" in data:
         tables["machine"] = check_table(data["machine"], "machine")
+    if "dynamics" in data:   # damping ratios and frequencies: no lengths
+        tables["dynamics"] = check_table(data["dynamics"], "dynamics")
     return tables
 
 

@@ -80,8 +80,10 @@ class WallModel:
     def __init__(self, section: Section, held: list[HeldBox], E_mpa: float, nu: float,
                  patch: Patch = Patch(), tolerance: float = DEFAULT_TOLERANCE, strict_patch: bool = True,
                  element_mm: float | None = None):
-        """strict_patch: refuse a patch longer than the face it sits on (the command line's rule); the
-        machining simulation passes False, since a tool near the part's end bears on what face there is.
+        """strict_patch: refuse a patch longer than the face it sits on or wider than half the circumference
+        (the command line's rules: the user chose the patch); the machining simulation passes False, since a
+        tool near the part's end bears on what face there is, and near the axis on what circumference there
+        is (`half_angle_rad`).
         element_mm: meridian element length; by default `element_size_mm(section, patch)`."""
         check_patch(patch)
         if patch.length_mm > section.perimeter() / 2.0:
@@ -144,7 +146,7 @@ class WallModel:
 
     def load_at(self, arclength: float, point: np.ndarray, normal: np.ndarray) -> ShellLoad:
         """The unit load spread over the patch, as load points on the shell's mid-surface."""
-        if point[0] <= 0.0 or self.patch.width_mm / (2.0 * point[0]) > math.pi / 2.0:
+        if self.strict_patch and (point[0] <= 0.0 or self.patch.width_mm / (2.0 * point[0]) > math.pi / 2.0):
             raise InputError("--patch", f"the patch is {self.patch.width_mm:g} mm wide but the circumference at "
                                         f"r = {point[0]:.3g} mm is only {2 * math.pi * point[0]:.3g} mm; "
                                         "give a narrower patch or a point at a larger radius")
@@ -158,7 +160,18 @@ class WallModel:
         weights = gauss_weights * points[:, 0]
         element, xi, arm = self.geometry.attach(points, -normals)
         return ShellLoad(element=element, xi=xi, weight=weights / weights.sum(), arm_rz=arm,
-                         half_angle_rad=self.patch.width_mm / (2.0 * point[0]))
+                         half_angle_rad=self.half_angle_rad(float(point[0])))
+
+    def half_angle_rad(self, r_mm: float) -> float:
+        """The patch's half-width around the circumference at radius r_mm, as an angle: W / (2 r), but at most
+        a quarter turn (the command line refuses a wider patch, see `load_at`). Near the axis, where the
+        circumference 2 pi r is shorter than 2 W (r < W / pi), a tool's contact W wide covers the side of the
+        axis it bears on and no more: the patch shrinks with the circumference, to half of it (a flat contact
+        of width W at r subtends 2 atan(W / 2r), which tends to the same half turn as r -> 0). Equal to
+        W / (2 r) wherever the whole patch fits."""
+        if math.pi * r_mm <= self.patch.width_mm:
+            return math.pi / 2.0
+        return self.patch.width_mm / (2.0 * r_mm)
 
     def at_boundary(self, arclengths: list[float], normals: list | None = None) -> list[PointCompliance]:
         """Compliance at boundary points given by their arclength, loaded along the boundary's own inward

@@ -167,6 +167,7 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, wa
             lines.append(f"{rank}. {option_words(o, surface_of, units)}")
             if o.broken:
                 lines.append(f"   breaks: {'; '.join(o.broken)}")
+            lines += [f"   note: {note}" for note in o.notes]
     else:
         lines.append("no option could be predicted")
     if result.limiting:
@@ -197,7 +198,7 @@ def outcome_record(outcome: Outcome, units: str) -> dict:
             "max_deviation_mm": outcome.max_deviation_mm, "most_off_drawing_mm": outcome.max_deviation_mm,
             "least_margin_mm": outcome.least_margin_mm,
             "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
-            "breaks": outcome.broken,
+            "breaks": outcome.broken, "notes": list(outcome.notes),
             "features": [feature_record(c) for c in outcome.checks]}
 
 
