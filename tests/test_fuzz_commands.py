@@ -342,6 +342,7 @@ NAMED = [  # (base, key path, value, command, options): the issue's hostile case
     ("sleeve", ("part", "outline", 1, 0), HUGE, "rules", {"json": True}),
     ("sleeve", ("job", "title"), "plain", "chatter", {"figures": "foreign file"}),
     ("sleeve", ("pass", 0, "speed"), 1e300, "chatter", {"json": True}),
+    ("sleeve", ("pass", 0, "name"), " finish OD ", "tune", {"json": True}),    # tune once lost the pass
 ]
 
 def run_named(tmp_path, index: int) -> None:

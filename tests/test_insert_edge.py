@@ -81,7 +81,7 @@ def test_a_finishing_pass_meeting_a_roughing_chip_at_a_face_is_warned(tmp_path):
                        "speed": 200.0, "r": [21.0, 18.5]}]
     code, out, err = run_cli(["predict", str(write_job(tmp_path, "face", tables)), "--json"])
     assert code == 0, err
-    said = [w for w in json.loads(out)["warnings"] if "'face rim'" in w]
+    said = [w for w in json.loads(out)["warnings"] if "'face rim'" in w and "a finishing cut is for" in w]
     assert len(said) == 1 and "a finishing cut is for (no pass before it on this side" in said[0]
     taken = float(re.search(r"takes up to ([0-9.]+) mm, over the 2 mm", said[0]).group(1))
     assert 7.6 <= taken < 7.6 + 0.1        # the stock's 7.6 mm, a little more where the face meets the OD's corner

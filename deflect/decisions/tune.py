@@ -224,11 +224,12 @@ def job_with(job, changes: tuple[Change, ...]):
     tables = copy.deepcopy(job.tables)
     passes = tables["pass"]
     for change in changes:
+        # a pass is named as the reader keeps it: without the spaces around the name it was written with
         if change.key == "order":
-            by_name = {p["name"]: p for p in passes}
+            by_name = {p["name"].strip(): p for p in passes}
             passes = [by_name[name] for name in change.after]
             continue
-        table = next(p for p in passes if p["name"] == change.pass_name)
+        table = next(p for p in passes if p["name"].strip() == change.pass_name)
         if change.key == "compensate":
             table["compensate"] = [list(pair) for pair in change.after]
         else:
