@@ -6,6 +6,9 @@ with `warning:`; with `--json` stdout holds exactly one JSON object.
 
 from __future__ import annotations
 
+import functools
+import inspect
+import io
 import json
 import math
 import os
@@ -22,10 +25,40 @@ import click  # noqa: E402  (after the thread settings, before numpy is first im
 from deflect.errors import InputError, ModelError
 
 EXIT_BAD_INPUT = 2
+EXIT_CANNOT_WRITE = 1     # stdout could not be written: not the input's fault
+
+
+class StdoutGone(Exception):
+    """Standard output cannot be written (a full disk, a closed pipe)."""
+
+
+def out(text: str) -> None:
+    """Print a line to stdout, flushed at once so that a stdout that cannot be written is found here (and
+    reported as one line) rather than when Python exits."""
+    try:
+        click.echo(text)
+        sys.stdout.flush()
+    except OSError as exc:
+        raise StdoutGone(exc.strerror or str(exc)) from None
+
+
+def names_the_job(command):
+    """A command whose input errors name its input file (its first argument, a job or a drawing):
+    `error: FILE: KEY: ...` also for a bad option."""
+    first = next(iter(inspect.signature(command).parameters))
+
+    @functools.wraps(command)
+    def run(*args, **kwargs):
+        try:
+            return command(*args, **kwargs)
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or (kwargs[first] if first in kwargs else args[0])
+            raise
+    return run
 
 
 def emit_json(payload: dict) -> None:
-    click.echo(json.dumps(payload, indent=2))
+    out(json.dumps(payload, indent=2))
 
 
 def warn(lines: list[str], path: str) -> None:
@@ -58,13 +91,14 @@ def cli():
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@names_the_job
 def section(job_file, as_json):
     """Mass properties and thinnest wall of the finished part in JOB_FILE."""
     from deflect.geometry.section import mass_properties, min_wall
     from deflect.job.reader import read_job
-    from deflect.output.tables import section_table
+    from deflect.output.tables import section_table, units_note
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -88,9 +122,10 @@ def section(job_file, as_json):
     if as_json:
         emit_json(payload)
     else:
-        click.echo(section_table(job.title, payload))
+        out(units_note(job.units) + section_table(job.title, payload))
 
 
+DEFAULT_PATCH_MM = (2.0, 2.0)   # the contact patch of `compliance`: along the boundary, around [mm]
 MATRIX_AXES = ["normal (into the material)", "circumferential", "along the boundary"]
 
 
@@ -104,18 +139,21 @@ def point_record(point) -> dict:
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--at", "at", multiple=True, metavar="R,Z",
               help="A point on (or near) the section boundary, in the job's units; repeat for several.")
-@click.option("--patch", default="2,2", show_default=True, metavar="A,W",
-              help="Contact patch: A along the section boundary, W around the circumference (job's units).")
+@click.option("--patch", default=None, metavar="A,W",
+              help="Contact patch: A along the section boundary, W around the circumference, in the job's units "
+                   "[default: 2 mm by 2 mm, in an inch job too].")
 @click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
               help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
                    "tolerance).")
 @click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Without --at: draw the compliance map along the boundary into this PNG file.")
+@click.option("--plot", "plot_file", default=None,
+              help="Without --at: draw the compliance map along the boundary into this figure file (.png, .pdf, "
+                   ".svg ...).")
+@names_the_job
 def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file):
     """Compliance of the held part at boundary points: how far the wall gives per newton.
 
@@ -124,43 +162,57 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
     """
     from deflect.job.reader import MM_PER_INCH, read_job
     from deflect.mechanics.compliance import Patch, WallModel
+    from deflect.output.files import Outputs
     from deflect.output.tables import compliance_table
 
+    if plot_file:
+        from deflect.output.figures import check_figure_name
+        check_figure_name(plot_file, "--plot")
     job = read_job(job_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
-    length, width = parse_pair(patch, "--patch", "A,W")
+    # the patch is the tool's contact: 2 mm by 2 mm whatever the job's units (2 inches would be 25 times it)
+    length_mm, width_mm = (DEFAULT_PATCH_MM if patch is None else
+                           tuple(v * factor for v in parse_pair(patch, "--patch", "A,W")))
     option = "--harmonic-tol" if old_tolerance is None else "--tol"
     tolerance = tolerance if old_tolerance is None else old_tolerance
     if not (tolerance > 0 and tolerance < 0.5):
         raise InputError(option, f"must lie between 0 and 0.5, got {tolerance:g}")
     points = [parse_pair(text, "--at", "R,Z") for text in at]
-    try:
-        model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
-                          Patch(length * factor, width * factor), tolerance)
-        if points:
-            results = model.at_points([(r * factor, z * factor) for r, z in points])
-        else:
-            results = model.map()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    payload = {"points": [point_record(p) for p in results],
-               "matrix_axes": MATRIX_AXES,
-               "patch_mm": {"length": length * factor, "width": width * factor},
-               "harmonic_tolerance": tolerance}
-    if plot_file and not points:
-        from deflect.output.figures import compliance_map_plot
+    with Outputs() as outputs:
+        figure = outputs.file(plot_file, "--plot") if plot_file and not points else None
         try:
-            compliance_map_plot(job.section, results, job.title, plot_file)
-        except OSError as exc:
-            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+            model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
+                              Patch(length_mm, width_mm), tolerance)
+            if points:
+                results = model.at_points([(r * factor, z * factor) for r, z in points])
+            else:
+                results = model.map()
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or job_file
+            raise
+        payload = {"points": [point_record(p) for p in results],
+                   "matrix_axes": MATRIX_AXES,
+                   "patch_mm": {"length": length_mm, "width": width_mm},
+                   "harmonic_tolerance": tolerance}
+        if figure:
+            from deflect.output.figures import compliance_map_plot
+            compliance_map_plot(job.section, results, job.title, figure)
+        outputs.commit()
     if as_json:
         emit_json(payload)
     else:
-        click.echo(compliance_table(job.title, results, mapped=not points))
-        if plot_file and not points:
-            click.echo(f"compliance map drawn in {plot_file}")
+        out(compliance_table(job.title, results, mapped=not points, units=job.units))
+        if figure:
+            out(f"compliance map drawn in {plot_file}")
+
+
+def job_units(job_file: str) -> str:
+    """The units a job (already read and checked) is written in: "mm" or "inch"."""
+    import tomllib
+    from pathlib import Path
+
+    return tomllib.loads(Path(job_file).read_text(encoding="utf-8")).get("job", {}).get("units", "mm")
 
 
 CALIBRATION_HELP = ("A first article's calibration (as `deflect explain --save` writes it) to use instead of the "
@@ -189,7 +241,7 @@ def state_calibration(job, payload: dict | None = None) -> None:
     from deflect.output.explain_report import calibration_note, calibration_record
 
     if payload is None:
-        click.echo(calibration_note(job.calibration))
+        out(calibration_note(job.calibration))
     else:
         payload["calibration"] = calibration_record(job.calibration)
 
@@ -230,95 +282,122 @@ def run_prediction(job_file: str, show_progress: bool, calibration_file: str | N
         raise
 
 
-def write_outputs(pred, csv_dir, plot_dir) -> list:
-    written = []
+def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str = "--figures") -> None:
+    """The CSV files and figures of a prediction, into (temporary) folders; a file that cannot be written is an
+    InputError naming the option that gave its folder."""
     if csv_dir:
         from deflect.output.csv_files import write_csv
-        written += write_csv(pred, csv_dir)
+        write_csv(pred, csv_dir, csv_key)
     if plot_dir:
         from deflect.output.figures import predict_plots
-        written += predict_plots(pred, plot_dir)
-    return written
+        try:
+            predict_plots(pred, plot_dir, plot_key)
+        except OSError as exc:
+            raise InputError(plot_key, f"cannot write the figures ({exc.strerror or exc})") from None
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--csv", "csv_dir", default=None,
               help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
-@click.option("--figures", "plot_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--figures", "plot_dir", default=None,
               help="Draw the section, the material left and the pass forces as PNG files into this folder.")
-@click.option("--plot", "old_plot_dir", type=click.Path(file_okay=False), default=None, hidden=True)  # earlier name
-@click.option("--dxf", "dxf_file", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "old_plot_dir", default=None, hidden=True)  # the earlier name
+@click.option("--dxf", "dxf_file", default=None,
               help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+@names_the_job
 def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, calibration_file):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
     nominal with its range for the spread of the force constants, cycle time and peak power.
     """
+    from deflect.output.csv_files import FILES as CSV_FILES
+    from deflect.output.figures import PREDICT_FIGURES
+    from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
     from deflect.output.rules_report import rules_payload, rules_summary
+    from deflect.output.tables import units_note
 
-    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
-                                              calibration_file=calibration_file)
-    written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
-    if dxf_file:
-        from deflect.output.dxf_files import prediction_dxf
-        written.append(prediction_dxf(pred, job.section, dxf_file))
+    with Outputs() as outputs:
+        # the folders are checked before the prediction: a name taken by a file of the user's is refused at once
+        figures_option = "--figures" if plot_dir else "--plot"
+        plot_dir = plot_dir or old_plot_dir
+        csv_temp = outputs.folder(csv_dir, "--csv", CSV_FILES) if csv_dir else None
+        plot_temp = outputs.folder(plot_dir, figures_option, PREDICT_FIGURES) if plot_dir else None
+        dxf_temp = outputs.file(dxf_file, "--dxf") if dxf_file else None
+        pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
+                                                  calibration_file=calibration_file)
+        write_outputs(pred, csv_temp, plot_temp, plot_key=figures_option)
+        if dxf_temp:
+            from deflect.output.dxf_files import prediction_dxf
+            try:
+                prediction_dxf(pred, job.section, dxf_temp)
+            except OSError as exc:
+                raise InputError("--dxf", f"cannot write {dxf_file} ({exc.strerror or exc})") from None
+        written = outputs.commit()
     if as_json:
         payload = {**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)}
         state_calibration(job, payload)
         emit_json(payload)
     else:
         state_calibration(job)
-        click.echo(predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
+        out(units_note(job.units) + predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 @cli.command()
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="deflect-demo", show_default=True,
+@click.option("--out", "out_dir", default="deflect-demo", show_default=True,
               help="Folder for the demo's report, JSON, CSV files and figures.")
 def demo(out_dir):
     """Predict the shipped example: a thin-walled aluminium instrument housing (data/examples/housing.toml)."""
     from pathlib import Path
 
     from deflect.job.materials import library_path
+    from deflect.output.csv_files import FILES as CSV_FILES
+    from deflect.output.figures import PREDICT_FIGURES
+    from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
     from deflect.output.rules_report import rules_summary
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
-    click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
-    out = Path(out_dir)
-    report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-        (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, judged.checks, judged.warnings),
-                                                        indent=2))
-    except OSError as exc:
-        raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
-    written = write_outputs(pred, out / "csv", out / "figures")
-    click.echo(report)
-    click.echo(f"\nreport, JSON, CSV and figures written to {out.resolve()}:")
-    for path in [out / "report.txt", out / "prediction.json", *written]:
-        click.echo(f"  {path}")
+    names = ("report.txt", "prediction.json", *(f"csv/{n}" for n in CSV_FILES),
+             *(f"figures/{n}" for n in PREDICT_FIGURES))
+    with Outputs() as outputs:
+        folder = outputs.folder(out_dir, "--out", names)
+        click.echo(f"deflect demo: predicting {job_file}", err=True)
+        pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
+        report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
+        try:
+            (folder / "report.txt").write_text(report + "\n", encoding="utf-8")
+            (folder / "prediction.json").write_text(
+                json.dumps(prediction_payload(pred, judged.checks, judged.warnings), indent=2), encoding="utf-8")
+        except OSError as exc:
+            raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
+        write_outputs(pred, folder / "csv", folder / "figures", "--out", "--out")
+        written = outputs.commit()
+    out(report)
+    out(f"\nreport, JSON, CSV and figures written to {Path(out_dir).resolve()}:")
+    for path in written:
+        out(f"  {path}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Draw the released shape of one finished section around the circumference into this PNG file.")
+@click.option("--plot", "plot_file", default=None,
+              help="Draw the released shape of one finished section around the circumference into this figure "
+                   "file (.png, .pdf, .svg ...).")
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+@names_the_job
 def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
@@ -330,11 +409,18 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
     from deflect.job.reader import MM_PER_INCH
     from deflect.machining.grip import clamp_study, nearest_point, released_profile
     from deflect.output.clamp_report import clamp_payload, clamp_report
+    from deflect.output.files import Outputs
+    from deflect.output.tables import units_note
 
+    if plot_file:
+        from deflect.output.figures import check_figure_name
+        check_figure_name(plot_file, "--plot")
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
+    outputs = Outputs()
     try:
+        figure = outputs.file(plot_file, "--plot") if plot_file else None
         study = clamp_study(job)
         profile = None
         if plot_file:
@@ -353,36 +439,36 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
             if index is None:
                 raise InputError("--plot", "no OD or ID is finished in this setup outside the grip: nothing to draw")
             profile = released_profile(study.given, index)
+            from deflect.output.figures import released_shape_plot
+            released_shape_plot(profile, job.title, figure)
+        outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    if profile is not None:
-        from deflect.output.figures import released_shape_plot
-        try:
-            released_shape_plot(profile, job.title, plot_file)
-        except OSError as exc:
-            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+    finally:
+        outputs.discard()
     if as_json:
         payload = clamp_payload(study)
         state_calibration(job, payload)
         emit_json(payload)
     else:
         state_calibration(job)
-        click.echo(clamp_report(study))
+        out(units_note(job.units) + clamp_report(study))
         if profile is not None:
-            click.echo(f"released shape drawn in {plot_file}")
+            out(f"released shape drawn in {plot_file}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--contour", "contour_dir", default=None,
               help="Write the compensated finishing contour of each pass (CSV points, ISO 6983 moves, DXF) here.")
 @click.option("--design", is_flag=True,
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+@names_the_job
 def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
@@ -395,12 +481,15 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
     from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.targets import process_from_job
+    from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
+    outputs = Outputs()
     try:
+        contour_temp = outputs.folder(contour_dir, "--contour") if contour_dir else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         surface_of = {p.name: p.surface for p in process.passes}
@@ -410,29 +499,34 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
             result = marked_for_chatter(job, result)   # chatter: a limit with a given damping, else a note
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
-        written = write_contours(job, result, contour_dir) if contour_dir else []
+        if contour_temp:
+            write_contours(job, result, contour_temp)
         rules = check_rules(job, process)
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
+    finally:
+        outputs.discard()
     if as_json:
         payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
         state_calibration(job, payload)
         emit_json(payload)
     else:
         state_calibration(job)
-        click.echo(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
+        out(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--pass", "pass_name", default=None, metavar="NAME",
               help="Check this pass only (any pass); by default every finishing pass (allowance 0).")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--figures", "figures_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--figures", "figures_dir", default=None,
               help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
+@names_the_job
 def chatter(job_file, pass_name, as_json, figures_dir):
     """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
 
@@ -447,30 +541,35 @@ def chatter(job_file, pass_name, as_json, figures_dir):
     from deflect.machining.chatter import chatter_study
     from deflect.machining.targets import process_from_job
     from deflect.output.chatter_report import chatter_payload, chatter_report
+    from deflect.output.files import Outputs
 
     job = read_job(job_file)
+    outputs = Outputs()
     try:
+        figures_temp = outputs.folder(figures_dir, "--figures") if figures_dir else None
         dynamics = dynamics_from_job(job.tables)
         require_cutting_constants(job.material)
         process = process_from_job(job)
         warn(job.warnings + process.warnings, job_file)
         study = chatter_study(job, process, dynamics, pass_name, with_lobes=figures_dir is not None)
+        if figures_temp:
+            from deflect.output.chatter_figures import chatter_figures
+            try:
+                chatter_figures(study, figures_temp)
+            except OSError as exc:
+                raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    written = []
-    if figures_dir:
-        from deflect.output.chatter_figures import chatter_figures
-        try:
-            written = chatter_figures(study, figures_dir)
-        except OSError as exc:
-            raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+    finally:
+        outputs.discard()
     if as_json:
         emit_json(chatter_payload(study))
     else:
-        click.echo(chatter_report(study))
+        out(chatter_report(study))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 def short_of_the_end(bar, length: int):
@@ -521,28 +620,28 @@ def write_contours(job, result, folder: str) -> list:
     if option is None:
         raise InputError("--contour", "no option compensates a contour, so there is none to write")
     changed = process_from_job(job_with(job, option.changes))
-    out = Path(folder)
+    into = Path(folder)
     written = []
     try:
-        out.mkdir(parents=True, exist_ok=True)
         for p in changed.passes:
             if not any(c != p.size_error_mm for _, c in p.compensation):   # nothing programmed (a calibrated
                 continue                                                   # size error alone is not a program)
             rows = compensated_contour(job, changed, p)
             stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
             for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):
-                path = out / f"{stem}-contour{suffix}"
-                path.write_text(text)
+                path = into / f"{stem}-contour{suffix}"
+                path.write_text(text, encoding="utf-8")
                 written.append(path)
-            written.append(contour_dxf(rows, job.section, p.name, out / f"{stem}-contour.dxf"))
+            written.append(contour_dxf(rows, job.section, p.name, into / f"{stem}-contour.dxf"))
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
     return written
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@names_the_job
 def rules(job_file, as_json):
     """Design rules the part in JOB_FILE must meet: thinnest wall against the material's least, internal
     corners sharper than the nose that finishes them (with the material the nose leaves), stretches the
@@ -564,11 +663,11 @@ def rules(job_file, as_json):
     if as_json:
         emit_json(rules_payload(result))
     else:
-        click.echo(rules_report(result, job.title))
+        out(rules_report(result, job.title))
 
 
 @cli.command(name="import")
-@click.argument("drawing_file", type=click.Path(dir_okay=False))
+@click.argument("drawing_file")
 @click.option("--units", type=click.Choice(["mm", "inch"]), default=None,
               help="The drawing's unit, whatever its header says (default: its $INSUNITS; unitless: mm).")
 @click.option("--layer", default=None, help="Read only this layer (default: every layer).")
@@ -577,6 +676,7 @@ def rules(job_file, as_json):
 @click.option("--material", default=None, help="A library material to write into [material].")
 @click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None,
               help="Write the job to this file (it must not exist yet) instead of printing it.")
+@names_the_job
 def import_drawing(drawing_file, units, layer, axis, material, out_file):
     """Write a job whose [part] outline reproduces the DXF half-section in DRAWING_FILE (arcs as arcs).
 
@@ -604,34 +704,35 @@ def import_drawing(drawing_file, units, layer, axis, material, out_file):
     warn(notes, drawing_file)
     text = job_text(drawing, notes, material)
     if out_file is None:
-        click.echo(text, nl=False)
+        out(text.rstrip("\n"))
         return
-    out = Path(out_file)
-    if out.exists():
+    target = Path(out_file)
+    if target.exists():
         raise InputError("--out", f"{out_file} exists already; choose another name (a job file is never overwritten)")
     try:
-        temporary = out.with_name(out.name + ".part")
+        temporary = target.with_name(target.name + ".part")
         temporary.write_text(text, encoding="utf-8")
-        temporary.replace(out)
+        temporary.replace(target)
     except OSError as exc:
         raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
     click.echo(f"wrote {out_file}", err=True)
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
-@click.argument("measured_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
+@click.argument("measured_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--save", "save_file", type=click.Path(dir_okay=False), default=None,
+@click.option("--save", "save_file", default=None,
               help="Write the calibration (factors and size errors with their intervals, where they came from) "
                    "to this TOML file, for `predict`, `tune` and `clamp --calibration FILE` or [job] calibration.")
-@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--figures", "figure_dir", default=None,
               help="Draw the profiles and the mass split as a PNG file into this folder.")
 @click.option("--per-pass", is_flag=True, help="One force factor per finishing pass instead of per finishing tool.")
 @click.option("--search", is_flag=True,
               help="For the next part, run the whole remedy search of `deflect tune` with the calibrated constants "
                    "(its slowest step: tens of seconds) instead of the wear offsets alone.")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+@names_the_job
 def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, search, quiet):
     """A measured first article (MEASURED_FILE) of JOB_FILE: what caused its extra material, the force constants
     calibrated on it, and what to change for the next part.
@@ -645,17 +746,24 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
 
     from deflect.decisions.first_article import explain as explain_first_article
     from deflect.decisions.first_article import next_part
+    from deflect.job.calibration import calibration_toml
     from deflect.job.materials import require_cutting_constants
     from deflect.job.measured import read_measured
     from deflect.job.reader import read_job
     from deflect.machining.simulate import kept_workers
     from deflect.machining.targets import process_from_job
     from deflect.output.explain_report import explain_payload, explain_report
+    from deflect.output.figures import first_article_plot
+    from deflect.output.files import Outputs
 
     job = read_job(job_file, calibrated=False)
     warn(job.warnings, job_file)
     measured = read_measured(measured_file, job)
+    outputs = Outputs()
     try:
+        # the outputs are checked before the fit: a name taken by a file of the user's is refused at once
+        figures_temp = outputs.folder(figure_dir, "--figures", ("first-article.png",)) if figure_dir else None
+        save_temp = outputs.file(save_file, "--save") if save_file else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         warn(process.warnings, job_file)
@@ -667,60 +775,27 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
                                    show_eta=False, hidden=quiet or as_json or not search) as bar:
                 remedies = next_part(job, result.calibration, memo, search, short_of_the_end(bar, SEARCH_STEPS_SHOWN))
                 bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+        if figures_temp:
+            first_article_plot(result, figures_temp / "first-article.png")
+        if save_temp:
+            try:
+                save_temp.write_text(calibration_toml(result.calibration), encoding="utf-8")
+            except OSError as exc:
+                raise InputError("--save", f"cannot write {save_file} ({exc.strerror or exc})") from None
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    written = []
-    if figure_dir:
-        written.append(draw_first_article(result, figure_dir))
-    if save_file:
-        written.append(save_calibration(result.calibration, save_file))
+    finally:
+        outputs.discard()
     surface_of = {p.name: p.surface for p in process.passes}
     if as_json:
         emit_json(explain_payload(result, remedies, surface_of, job.units, search,
                                   str(save_file) if save_file else None))
     else:
-        click.echo(explain_report(result, remedies, surface_of, job.units, search))
+        out(explain_report(result, remedies, surface_of, job.units, search))
         for path in written:
-            click.echo(f"wrote {path}")
-
-
-def draw_first_article(result, folder: str):
-    from pathlib import Path
-
-    from deflect.output.figures import first_article_plot
-
-    out = Path(folder)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-        return first_article_plot(result, out / "first-article.png")
-    except OSError as exc:
-        raise InputError("--figures", f"cannot write into {folder}: {exc.strerror or exc}") from None
-
-
-def save_calibration(calibration, path_text: str):
-    """The calibration as TOML, written whole or not at all (a temporary file moved into place); a file that is
-    not a calibration this command wrote is never overwritten."""
-    import os
-    import tempfile
-    from pathlib import Path
-
-    from deflect.job.calibration import CALIBRATION_HEADER, calibration_toml
-
-    path = Path(path_text)
-    temporary = None
-    try:
-        if path.exists() and not path.read_text(encoding="utf-8", errors="replace").startswith(CALIBRATION_HEADER):
-            raise InputError("--save", f"{path} exists and is not a deflect calibration; give another file name")
-        handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=".deflect-", suffix=".toml")
-        with os.fdopen(handle, "w", encoding="utf-8") as stream:
-            stream.write(calibration_toml(calibration))
-        os.replace(temporary, path)
-    except OSError as exc:
-        if temporary is not None and os.path.exists(temporary):
-            os.remove(temporary)
-        raise InputError("--save", f"cannot write {path}: {exc.strerror or exc}") from None
-    return path
+            out(f"wrote {path}")
 
 
 def main(argv: list[str] | None = None) -> None:
@@ -742,3 +817,22 @@ def main(argv: list[str] | None = None) -> None:
     except click.ClickException as exc:
         click.echo(f"error: {exc.format_message()}", err=True)
         sys.exit(EXIT_BAD_INPUT)
+    except StdoutGone as exc:
+        silence_stdout()
+        click.echo(f"error: cannot write the output to stdout: {exc}", err=True)
+        sys.exit(EXIT_CANNOT_WRITE)
+
+
+def silence_stdout() -> None:
+    """Point stdout at the null device, so that Python's last flush on exit does not fail a second time with
+    its own message (what the Python documentation advises for a closed pipe)."""
+    try:
+        sys.stdout.flush()
+    except (OSError, ValueError):
+        pass
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, sys.stdout.fileno())
+        os.close(null)
+    except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
+        pass        # stdout is not a file (a test's captured stream): nothing is flushed at exit
