@@ -6,6 +6,9 @@ with `warning:`; with `--json` stdout holds exactly one JSON object.
 
 from __future__ import annotations
 
+import functools
+import inspect
+import io
 import json
 import math
 import os
@@ -24,12 +27,40 @@ from deflect.errors import InputError, ModelError
 EXIT_BAD_INPUT = 2
 HTML_HELP = ("Also write the report as one self-contained HTML file: key figures, every table and figure, the "
              "inputs and the cautions; it prints to clean A4 or Letter pages.")
-HTML_MARK = '<meta name="generator" content="deflect'      # in every HTML report deflect writes
-JOB_MARK = "written in by deflect"                          # in the header of every job --apply writes
+EXIT_CANNOT_WRITE = 1     # stdout could not be written: not the input's fault
+
+
+class StdoutGone(Exception):
+    """Standard output cannot be written (a full disk, a closed pipe)."""
+
+
+def out(text: str) -> None:
+    """Print a line to stdout, flushed at once so that a stdout that cannot be written is found here (and
+    reported as one line) rather than when Python exits."""
+    try:
+        click.echo(text)
+        sys.stdout.flush()
+    except OSError as exc:
+        raise StdoutGone(exc.strerror or str(exc)) from None
+
+
+def names_the_job(command):
+    """A command whose input errors name its input file (its first argument, a job or a drawing):
+    `error: FILE: KEY: ...` also for a bad option."""
+    first = next(iter(inspect.signature(command).parameters))
+
+    @functools.wraps(command)
+    def run(*args, **kwargs):
+        try:
+            return command(*args, **kwargs)
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or (kwargs[first] if first in kwargs else args[0])
+            raise
+    return run
 
 
 def emit_json(payload: dict) -> None:
-    click.echo(json.dumps(payload, indent=2))
+    out(json.dumps(payload, indent=2))
 
 
 def warn(lines: list[str], path: str) -> None:
@@ -62,13 +93,14 @@ def cli():
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@names_the_job
 def section(job_file, as_json):
     """Mass properties and thinnest wall of the finished part in JOB_FILE."""
     from deflect.geometry.section import mass_properties, min_wall
     from deflect.job.reader import read_job
-    from deflect.output.tables import section_table
+    from deflect.output.tables import section_table, units_note
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -92,9 +124,10 @@ def section(job_file, as_json):
     if as_json:
         emit_json(payload)
     else:
-        click.echo(section_table(job.title, payload))
+        out(units_note(job.units) + section_table(job.title, payload))
 
 
+DEFAULT_PATCH_MM = (2.0, 2.0)   # the contact patch of `compliance`: along the boundary, around [mm]
 MATRIX_AXES = ["normal (into the material)", "circumferential", "along the boundary"]
 
 
@@ -108,18 +141,21 @@ def point_record(point) -> dict:
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--at", "at", multiple=True, metavar="R,Z",
               help="A point on (or near) the section boundary, in the job's units; repeat for several.")
-@click.option("--patch", default="2,2", show_default=True, metavar="A,W",
-              help="Contact patch: A along the section boundary, W around the circumference (job's units).")
+@click.option("--patch", default=None, metavar="A,W",
+              help="Contact patch: A along the section boundary, W around the circumference, in the job's units "
+                   "[default: 2 mm by 2 mm, in an inch job too].")
 @click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
               help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
                    "tolerance).")
 @click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Without --at: draw the compliance map along the boundary into this PNG file.")
+@click.option("--plot", "plot_file", default=None,
+              help="Without --at: draw the compliance map along the boundary into this figure file (.png, .pdf, "
+                   ".svg ...).")
+@names_the_job
 def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file):
     """Compliance of the held part at boundary points: how far the wall gives per newton.
 
@@ -128,43 +164,57 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
     """
     from deflect.job.reader import MM_PER_INCH, read_job
     from deflect.mechanics.compliance import Patch, WallModel
+    from deflect.output.files import Outputs
     from deflect.output.tables import compliance_table
 
+    if plot_file:
+        from deflect.output.figures import check_figure_name
+        check_figure_name(plot_file, "--plot")
     job = read_job(job_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
-    length, width = parse_pair(patch, "--patch", "A,W")
+    # the patch is the tool's contact: 2 mm by 2 mm whatever the job's units (2 inches would be 25 times it)
+    length_mm, width_mm = (DEFAULT_PATCH_MM if patch is None else
+                           tuple(v * factor for v in parse_pair(patch, "--patch", "A,W")))
     option = "--harmonic-tol" if old_tolerance is None else "--tol"
     tolerance = tolerance if old_tolerance is None else old_tolerance
     if not (tolerance > 0 and tolerance < 0.5):
         raise InputError(option, f"must lie between 0 and 0.5, got {tolerance:g}")
     points = [parse_pair(text, "--at", "R,Z") for text in at]
-    try:
-        model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
-                          Patch(length * factor, width * factor), tolerance)
-        if points:
-            results = model.at_points([(r * factor, z * factor) for r, z in points])
-        else:
-            results = model.map()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    payload = {"points": [point_record(p) for p in results],
-               "matrix_axes": MATRIX_AXES,
-               "patch_mm": {"length": length * factor, "width": width * factor},
-               "harmonic_tolerance": tolerance}
-    if plot_file and not points:
-        from deflect.output.figures import compliance_map_plot
+    with Outputs() as outputs:
+        figure = outputs.file(plot_file, "--plot") if plot_file and not points else None
         try:
-            compliance_map_plot(job.section, results, job.title, plot_file)
-        except OSError as exc:
-            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
+            model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
+                              Patch(length_mm, width_mm), tolerance)
+            if points:
+                results = model.at_points([(r * factor, z * factor) for r, z in points])
+            else:
+                results = model.map()
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or job_file
+            raise
+        payload = {"points": [point_record(p) for p in results],
+                   "matrix_axes": MATRIX_AXES,
+                   "patch_mm": {"length": length_mm, "width": width_mm},
+                   "harmonic_tolerance": tolerance}
+        if figure:
+            from deflect.output.figures import compliance_map_plot
+            compliance_map_plot(job.section, results, job.title, figure)
+        outputs.commit()
     if as_json:
         emit_json(payload)
     else:
-        click.echo(compliance_table(job.title, results, mapped=not points))
-        if plot_file and not points:
-            click.echo(f"compliance map drawn in {plot_file}")
+        out(compliance_table(job.title, results, mapped=not points, units=job.units))
+        if figure:
+            out(f"compliance map drawn in {plot_file}")
+
+
+def job_units(job_file: str) -> str:
+    """The units a job (already read and checked) is written in: "mm" or "inch"."""
+    import tomllib
+    from pathlib import Path
+
+    return tomllib.loads(Path(job_file).read_text(encoding="utf-8")).get("job", {}).get("units", "mm")
 
 
 CALIBRATION_HELP = ("A first article's calibration (as `deflect explain --save` writes it) to use instead of the "
@@ -193,7 +243,7 @@ def state_calibration(job, payload: dict | None = None) -> None:
     from deflect.output.explain_report import calibration_note, calibration_record
 
     if payload is None:
-        click.echo(calibration_note(job.calibration))
+        out(calibration_note(job.calibration))
     else:
         payload["calibration"] = calibration_record(job.calibration)
 
@@ -234,105 +284,132 @@ def run_prediction(job_file: str, show_progress: bool, calibration_file: str | N
         raise
 
 
-def write_outputs(pred, csv_dir, plot_dir) -> list:
-    written = []
+def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str = "--figures") -> None:
+    """The CSV files and figures of a prediction, into (temporary) folders; a file that cannot be written is an
+    InputError naming the option that gave its folder."""
     if csv_dir:
         from deflect.output.csv_files import write_csv
-        written += write_csv(pred, csv_dir)
+        write_csv(pred, csv_dir, csv_key)
     if plot_dir:
         from deflect.output.figures import predict_plots
-        written += predict_plots(pred, plot_dir)
-    return written
+        try:
+            predict_plots(pred, plot_dir, plot_key)
+        except OSError as exc:
+            raise InputError(plot_key, f"cannot write the figures ({exc.strerror or exc})") from None
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--csv", "csv_dir", default=None,
               help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
-@click.option("--figures", "plot_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--figures", "plot_dir", default=None,
               help="Draw the section, the material left and the pass forces as PNG files into this folder.")
-@click.option("--plot", "old_plot_dir", type=click.Path(file_okay=False), default=None, hidden=True)  # earlier name
-@click.option("--dxf", "dxf_file", type=click.Path(dir_okay=False), default=None,
+@click.option("--plot", "old_plot_dir", default=None, hidden=True)  # the earlier name
+@click.option("--dxf", "dxf_file", default=None,
               help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@names_the_job
 def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, calibration_file, html_file):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
     nominal with its range for the spread of the force constants, cycle time and peak power.
     """
+    from deflect.output.csv_files import FILES as CSV_FILES
+    from deflect.output.figures import PREDICT_FIGURES
+    from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
     from deflect.output.rules_report import rules_payload, rules_summary
+    from deflect.output.tables import units_note
 
-    html_target(html_file)
-    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
-                                              calibration_file=calibration_file)
-    written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
-    if dxf_file:
-        from deflect.output.dxf_files import prediction_dxf
-        written.append(prediction_dxf(pred, job.section, dxf_file))
-    if html_file:
-        from deflect.output.html_chapters import predict_chapter
-        written.append(write_html(html_file, pred.title, "machining prediction", [job_file],
-                                  [predict_chapter(pred, judged.checks, judged.warnings, rules)]))
+    with Outputs() as outputs:
+        # the folders are checked before the prediction: a name taken by a file of the user's is refused at once
+        figures_option = "--figures" if plot_dir else "--plot"
+        plot_dir = plot_dir or old_plot_dir
+        csv_temp = outputs.folder(csv_dir, "--csv", CSV_FILES) if csv_dir else None
+        plot_temp = outputs.folder(plot_dir, figures_option, PREDICT_FIGURES) if plot_dir else None
+        dxf_temp = outputs.file(dxf_file, "--dxf") if dxf_file else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
+                                                  calibration_file=calibration_file)
+        write_outputs(pred, csv_temp, plot_temp, plot_key=figures_option)
+        if dxf_temp:
+            from deflect.output.dxf_files import prediction_dxf
+            try:
+                prediction_dxf(pred, job.section, dxf_temp)
+            except OSError as exc:
+                raise InputError("--dxf", f"cannot write {dxf_file} ({exc.strerror or exc})") from None
+        if html_temp:
+            from deflect.output.html_chapters import predict_chapter
+            write_html(html_temp, pred.title, "machining prediction", [job_file],
+                       [predict_chapter(pred, judged.checks, judged.warnings, rules)])
+        written = outputs.commit()
     if as_json:
         payload = {**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)}
         state_calibration(job, payload)
         emit_json(payload)
     else:
         state_calibration(job)
-        click.echo(predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
+        out(units_note(job.units) + predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 @cli.command()
-@click.option("--out", "out_dir", type=click.Path(file_okay=False), default="deflect-demo", show_default=True,
-              help="Folder for the demo's report, JSON, CSV files and figures.")
+@click.option("--out", "out_dir", default="deflect-demo", show_default=True,
+              help="Folder for the demo's report (text and HTML), JSON, CSV files and figures.")
 def demo(out_dir):
     """Predict the shipped example: a thin-walled aluminium instrument housing (data/examples/housing.toml)."""
     from pathlib import Path
 
     from deflect.job.materials import library_path
+    from deflect.output.csv_files import FILES as CSV_FILES
+    from deflect.output.figures import PREDICT_FIGURES
+    from deflect.output.files import Outputs
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
     from deflect.output.rules_report import rules_summary
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
-    click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
-    out = Path(out_dir)
-    report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-        (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, judged.checks, judged.warnings),
-                                                        indent=2))
-    except OSError as exc:
-        raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
-    written = write_outputs(pred, out / "csv", out / "figures")
-    from deflect.output.html_chapters import predict_chapter
-    written.append(write_html(out / "report.html", pred.title, "machining prediction", [job_file],
-                              [predict_chapter(pred, judged.checks, judged.warnings, rules)], key="--out"))
-    click.echo(report)
-    click.echo(f"\nreport, JSON, CSV and figures written to {out.resolve()}:")
-    for path in [out / "report.txt", out / "prediction.json", *written]:
-        click.echo(f"  {path}")
+    names = ("report.txt", "report.html", "prediction.json", *(f"csv/{n}" for n in CSV_FILES),
+             *(f"figures/{n}" for n in PREDICT_FIGURES))
+    with Outputs() as outputs:
+        folder = outputs.folder(out_dir, "--out", names)
+        click.echo(f"deflect demo: predicting {job_file}", err=True)
+        pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
+        report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
+        try:
+            (folder / "report.txt").write_text(report + "\n", encoding="utf-8")
+            (folder / "prediction.json").write_text(
+                json.dumps(prediction_payload(pred, judged.checks, judged.warnings), indent=2), encoding="utf-8")
+        except OSError as exc:
+            raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
+        write_outputs(pred, folder / "csv", folder / "figures", "--out", "--out")
+        from deflect.output.html_chapters import predict_chapter
+        write_html(folder / "report.html", pred.title, "machining prediction", [job_file],
+                   [predict_chapter(pred, judged.checks, judged.warnings, rules)], key="--out")
+        written = outputs.commit()
+    out(report)
+    out(f"\nreport, JSON, CSV and figures written to {Path(out_dir).resolve()}:")
+    for path in written:
+        out(f"  {path}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Draw the released shape of one finished section around the circumference into this PNG file.")
+@click.option("--plot", "plot_file", default=None,
+              help="Draw the released shape of one finished section around the circumference into this figure "
+                   "file (.png, .pdf, .svg ...).")
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@names_the_job
 def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
@@ -344,12 +421,19 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
     from deflect.job.reader import MM_PER_INCH
     from deflect.machining.grip import clamp_study, nearest_point, released_profile
     from deflect.output.clamp_report import clamp_payload, clamp_report
+    from deflect.output.files import Outputs
+    from deflect.output.tables import units_note
 
-    html_target(html_file)
+    if plot_file:
+        from deflect.output.figures import check_figure_name
+        check_figure_name(plot_file, "--plot")
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
+    outputs = Outputs()
     try:
+        figure = outputs.file(plot_file, "--plot") if plot_file else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         study = clamp_study(job)
         profile = None
         if plot_file:
@@ -368,45 +452,45 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
             if index is None:
                 raise InputError("--plot", "no OD or ID is finished in this setup outside the grip: nothing to draw")
             profile = released_profile(study.given, index)
+            from deflect.output.figures import released_shape_plot
+            released_shape_plot(profile, job.title, figure)
+        if html_temp:
+            write_html(html_temp, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
+        outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    if profile is not None:
-        from deflect.output.figures import released_shape_plot
-        try:
-            released_shape_plot(profile, job.title, plot_file)
-        except OSError as exc:
-            raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
-    if html_file:
-        write_clamp_html(html_file, job_file, study)
+    finally:
+        outputs.discard()
     if as_json:
         payload = clamp_payload(study)
         state_calibration(job, payload)
         emit_json(payload)
     else:
         state_calibration(job)
-        click.echo(clamp_report(study))
+        out(units_note(job.units) + clamp_report(study))
         if profile is not None:
-            click.echo(f"released shape drawn in {plot_file}")
+            out(f"released shape drawn in {plot_file}")
         if html_file:
-            click.echo(f"wrote {html_file}")
+            out(f"wrote {html_file}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--contour", "contour_dir", default=None,
               help="Write the compensated finishing contour of each pass (CSV points, ISO 6983 moves, DXF) here.")
 @click.option("--design", is_flag=True,
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
 @click.option("--apply", "apply_number", type=int, default=None, metavar="N",
               help="Write option N's changes into a copy of the job (--out), comments and layout kept.")
-@click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None, metavar="NEW.toml",
+@click.option("--out", "out_file", default=None, metavar="NEW.toml",
               help="The job file --apply writes (a new file; the job itself is never changed).")
+@names_the_job
 def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_file, apply_number, out_file):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
@@ -417,53 +501,60 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_f
     from deflect.decisions.rules import check_rules
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.targets import process_from_job
+    from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
-    html_target(html_file)
     check_apply(job_file, apply_number, out_file)
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
+    outputs = Outputs()
     try:
+        contour_temp = outputs.folder(contour_dir, "--contour") if contour_dir else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        out_temp = outputs.file(out_file, "--out") if out_file else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         surface_of = {p.name: p.surface for p in process.passes}
         result = searched_with_progress(job, hidden=quiet or as_json)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
-        written = write_contours(job, result, contour_dir) if contour_dir else []
+        if contour_temp:
+            write_contours(job, result, contour_temp)
         rules = check_rules(job, process)
-        applied = (apply_option(job_file, job, result, apply_number, out_file, calibration_file) if apply_number
-                   else None)
+        if out_temp:
+            apply_option(job_file, job, result, apply_number, out_file, out_temp, calibration_file)
+        if html_temp:
+            from deflect.output.html_chapters import tune_chapter
+            write_html(html_temp, job.title, "remedies", [job_file],
+                       [tune_chapter(result, surface_of, job.units, walls, rules)])
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    if html_file:
-        from deflect.output.html_chapters import tune_chapter
-        written.append(write_html(html_file, job.title, "remedies", [job_file],
-                                  [tune_chapter(result, surface_of, job.units, walls, rules)]))
-    if applied:
-        written.append(applied)
+    finally:
+        outputs.discard()
     if as_json:
         payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
-        if applied:
-            payload["applied"] = {"rank": apply_number, "file": str(applied)}
+        if out_file:
+            payload["applied"] = {"rank": apply_number, "file": str(out_file)}
         state_calibration(job, payload)
         emit_json(payload)
     else:
         state_calibration(job)
-        click.echo(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
+        out(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--pass", "pass_name", default=None, metavar="NAME",
               help="Check this pass only (any pass); by default every finishing pass (allowance 0).")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--figures", "figures_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--figures", "figures_dir", default=None,
               help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@names_the_job
 def chatter(job_file, pass_name, as_json, figures_dir, html_file):
     """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
 
@@ -478,35 +569,40 @@ def chatter(job_file, pass_name, as_json, figures_dir, html_file):
     from deflect.machining.chatter import chatter_study
     from deflect.machining.targets import process_from_job
     from deflect.output.chatter_report import chatter_payload, chatter_report
+    from deflect.output.files import Outputs
 
-    html_target(html_file)
     job = read_job(job_file)
+    outputs = Outputs()
     try:
+        figures_temp = outputs.folder(figures_dir, "--figures") if figures_dir else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         dynamics = dynamics_from_job(job.tables)
         require_cutting_constants(job.material)
         process = process_from_job(job)
         warn(job.warnings + process.warnings, job_file)
         study = chatter_study(job, process, dynamics, pass_name,
                               with_lobes=figures_dir is not None or html_file is not None)
+        if figures_temp:
+            from deflect.output.chatter_figures import chatter_figures
+            try:
+                chatter_figures(study, figures_temp)
+            except OSError as exc:
+                raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+        if html_temp:
+            from deflect.output.html_chapters import chatter_chapter
+            write_html(html_temp, study.title, "chatter check", [job_file], [chatter_chapter(study)])
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    written = []
-    if figures_dir:
-        from deflect.output.chatter_figures import chatter_figures
-        try:
-            written = chatter_figures(study, figures_dir)
-        except OSError as exc:
-            raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
-    if html_file:
-        from deflect.output.html_chapters import chatter_chapter
-        written.append(write_html(html_file, study.title, "chatter check", [job_file], [chatter_chapter(study)]))
+    finally:
+        outputs.discard()
     if as_json:
         emit_json(chatter_payload(study))
     else:
-        click.echo(chatter_report(study))
+        out(chatter_report(study))
         for path in written:
-            click.echo(f"wrote {path}")
+            out(f"wrote {path}")
 
 
 def searched_with_progress(job, hidden: bool):
@@ -571,29 +667,29 @@ def write_contours(job, result, folder: str) -> list:
     if option is None:
         raise InputError("--contour", "no option compensates a contour, so there is none to write")
     changed = process_from_job(job_with(job, option.changes))
-    out = Path(folder)
+    into = Path(folder)
     written = []
     try:
-        out.mkdir(parents=True, exist_ok=True)
         for p in changed.passes:
             if not any(c != p.size_error_mm for _, c in p.compensation):   # nothing programmed (a calibrated
                 continue                                                   # size error alone is not a program)
             rows = compensated_contour(job, changed, p)
             stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
             for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):
-                path = out / f"{stem}-contour{suffix}"
-                path.write_text(text)
+                path = into / f"{stem}-contour{suffix}"
+                path.write_text(text, encoding="utf-8")
                 written.append(path)
-            written.append(contour_dxf(rows, job.section, p.name, out / f"{stem}-contour.dxf"))
+            written.append(contour_dxf(rows, job.section, p.name, into / f"{stem}-contour.dxf"))
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
     return written
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@names_the_job
 def rules(job_file, as_json, html_file):
     """Design rules the part in JOB_FILE must meet: thinnest wall against the material's least, internal
     corners sharper than the nose that finishes them (with the material the nose leaves), stretches the
@@ -602,30 +698,33 @@ def rules(job_file, as_json, html_file):
     from deflect.decisions.rules import check_rules
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
+    from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_report
 
-    html_target(html_file)
     job = read_job(job_file)
     warn(job.warnings, job_file)
-    try:
-        process = process_from_job(job) if "pass" in job.tables else None
-        result = check_rules(job, process)
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    if html_file:
-        from deflect.output.html_chapters import rules_chapter
-        write_html(html_file, job.title, "design rules", [job_file], [rules_chapter(result)])
+    with Outputs() as outputs:
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        try:
+            process = process_from_job(job) if "pass" in job.tables else None
+            result = check_rules(job, process)
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or job_file
+            raise
+        if html_temp:
+            from deflect.output.html_chapters import rules_chapter
+            write_html(html_temp, job.title, "design rules", [job_file], [rules_chapter(result)])
+        written = outputs.commit()
     if as_json:
         emit_json(rules_payload(result))
     else:
-        click.echo(rules_report(result, job.title))
-        if html_file:
-            click.echo(f"wrote {html_file}")
+        out(rules_report(result, job.title))
+        for path in written:
+            out(f"wrote {path}")
 
 
 @cli.command(name="import")
-@click.argument("drawing_file", type=click.Path(dir_okay=False))
+@click.argument("drawing_file")
 @click.option("--units", type=click.Choice(["mm", "inch"]), default=None,
               help="The drawing's unit, whatever its header says (default: its $INSUNITS; unitless: mm).")
 @click.option("--layer", default=None, help="Read only this layer (default: every layer).")
@@ -634,6 +733,7 @@ def rules(job_file, as_json, html_file):
 @click.option("--material", default=None, help="A library material to write into [material].")
 @click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None,
               help="Write the job to this file (it must not exist yet) instead of printing it.")
+@names_the_job
 def import_drawing(drawing_file, units, layer, axis, material, out_file):
     """Write a job whose [part] outline reproduces the DXF half-section in DRAWING_FILE (arcs as arcs).
 
@@ -661,35 +761,36 @@ def import_drawing(drawing_file, units, layer, axis, material, out_file):
     warn(notes, drawing_file)
     text = job_text(drawing, notes, material)
     if out_file is None:
-        click.echo(text, nl=False)
+        out(text.rstrip("\n"))
         return
-    out = Path(out_file)
-    if out.exists():
+    target = Path(out_file)
+    if target.exists():
         raise InputError("--out", f"{out_file} exists already; choose another name (a job file is never overwritten)")
     try:
-        temporary = out.with_name(out.name + ".part")
+        temporary = target.with_name(target.name + ".part")
         temporary.write_text(text, encoding="utf-8")
-        temporary.replace(out)
+        temporary.replace(target)
     except OSError as exc:
         raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
     click.echo(f"wrote {out_file}", err=True)
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
-@click.argument("measured_file", type=click.Path(dir_okay=False))
+@click.argument("job_file")
+@click.argument("measured_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
-@click.option("--save", "save_file", type=click.Path(dir_okay=False), default=None,
+@click.option("--save", "save_file", default=None,
               help="Write the calibration (factors and size errors with their intervals, where they came from) "
                    "to this TOML file, for `predict`, `tune` and `clamp --calibration FILE` or [job] calibration.")
-@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+@click.option("--figures", "figure_dir", default=None,
               help="Draw the profiles and the mass split as a PNG file into this folder.")
 @click.option("--per-pass", is_flag=True, help="One force factor per finishing pass instead of per finishing tool.")
 @click.option("--search", is_flag=True,
               help="For the next part, run the whole remedy search of `deflect tune` with the calibrated constants "
                    "(its slowest step: tens of seconds) instead of the wear offsets alone.")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@names_the_job
 def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, search, quiet, html_file):
     """A measured first article (MEASURED_FILE) of JOB_FILE: what caused its extra material, the force constants
     calibrated on it, and what to change for the next part.
@@ -703,18 +804,25 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
 
     from deflect.decisions.first_article import explain as explain_first_article
     from deflect.decisions.first_article import next_part
+    from deflect.job.calibration import calibration_toml
     from deflect.job.materials import require_cutting_constants
     from deflect.job.measured import read_measured
     from deflect.job.reader import read_job
     from deflect.machining.simulate import kept_workers
     from deflect.machining.targets import process_from_job
     from deflect.output.explain_report import explain_payload, explain_report
+    from deflect.output.figures import first_article_plot
+    from deflect.output.files import Outputs
 
-    html_target(html_file)
     job = read_job(job_file, calibrated=False)
     warn(job.warnings, job_file)
     measured = read_measured(measured_file, job)
+    outputs = Outputs()
     try:
+        # the outputs are checked before the fit: a name taken by a file of the user's is refused at once
+        figures_temp = outputs.folder(figure_dir, "--figures", ("first-article.png",)) if figure_dir else None
+        save_temp = outputs.file(save_file, "--save") if save_file else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         warn(process.warnings, job_file)
@@ -726,91 +834,51 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
                                    show_eta=False, hidden=quiet or as_json or not search) as bar:
                 remedies = next_part(job, result.calibration, memo, search, short_of_the_end(bar, SEARCH_STEPS_SHOWN))
                 bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+        if figures_temp:
+            first_article_plot(result, figures_temp / "first-article.png")
+        if save_temp:
+            try:
+                save_temp.write_text(calibration_toml(result.calibration), encoding="utf-8")
+            except OSError as exc:
+                raise InputError("--save", f"cannot write {save_file} ({exc.strerror or exc})") from None
+        surface_of = {p.name: p.surface for p in process.passes}
+        if html_temp:
+            from deflect.output.html_chapters import explain_chapter
+            write_html(html_temp, result.title, "first article explained", [job_file, measured_file],
+                       [explain_chapter(result, remedies, surface_of, job.units, search)])
+        written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    written = []
-    if figure_dir:
-        written.append(draw_first_article(result, figure_dir))
-    if save_file:
-        written.append(save_calibration(result.calibration, save_file))
-    surface_of = {p.name: p.surface for p in process.passes}
-    if html_file:
-        from deflect.output.html_chapters import explain_chapter
-        written.append(write_html(html_file, result.title, "first article explained", [job_file, measured_file],
-                                  [explain_chapter(result, remedies, surface_of, job.units, search)]))
+    finally:
+        outputs.discard()
     if as_json:
         emit_json(explain_payload(result, remedies, surface_of, job.units, search,
                                   str(save_file) if save_file else None))
     else:
-        click.echo(explain_report(result, remedies, surface_of, job.units, search))
+        out(explain_report(result, remedies, surface_of, job.units, search))
         for path in written:
-            click.echo(f"wrote {path}")
-
-
-def draw_first_article(result, folder: str):
-    from pathlib import Path
-
-    from deflect.output.figures import first_article_plot
-
-    out = Path(folder)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-        return first_article_plot(result, out / "first-article.png")
-    except OSError as exc:
-        raise InputError("--figures", f"cannot write into {folder}: {exc.strerror or exc}") from None
-
-
-def save_calibration(calibration, path_text: str):
-    """The calibration as TOML, written whole or not at all (a temporary file moved into place); a file that is
-    not a calibration this command wrote is never overwritten."""
-    import os
-    import tempfile
-    from pathlib import Path
-
-    from deflect.job.calibration import CALIBRATION_HEADER, calibration_toml
-
-    path = Path(path_text)
-    temporary = None
-    try:
-        if path.exists() and not path.read_text(encoding="utf-8", errors="replace").startswith(CALIBRATION_HEADER):
-            raise InputError("--save", f"{path} exists and is not a deflect calibration; give another file name")
-        handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=".deflect-", suffix=".toml")
-        with os.fdopen(handle, "w", encoding="utf-8") as stream:
-            stream.write(calibration_toml(calibration))
-        os.replace(temporary, path)
-    except OSError as exc:
-        if temporary is not None and os.path.exists(temporary):
-            os.remove(temporary)
-        raise InputError("--save", f"cannot write {path}: {exc.strerror or exc}") from None
-    return path
+            out(f"wrote {path}")
 
 
 # ---------------------------------------------------------------------------------------------------
 # the HTML report, a remedy written into a job
 
-
-
-def html_target(html_file) -> None:
-    """Before any work: the HTML file can be written (an error naming --html otherwise)."""
-    if html_file:
-        from deflect.output.atomic import check_target
-        check_target(html_file, "--html", HTML_MARK)
-
-
-def write_html(html_file, title: str, what: str, job_files: list, chapters: list, notes=(), remarks=(),
-               key: str = "--html"):
-    """The chapters as one HTML report, written whole (`deflect.output.html_report`)."""
+def write_html(path, title: str, what: str, job_files: list, chapters: list, notes=(), remarks=(),
+               key: str = "--html") -> None:
+    """The chapters as one HTML report (`deflect.output.html_report`), written to `path`: the staging place
+    `Outputs.file` gave for the option `key`, moved into place with the command's other files."""
     from pathlib import Path
 
     from deflect import __version__
-    from deflect.output.atomic import check_target, write_whole
     from deflect.output.html_report import JobSource, Report, render, report_date
 
-    check_target(html_file, key, HTML_MARK)
     jobs = tuple(JobSource(Path(f).name, Path(f).read_text(encoding="utf-8", errors="replace")) for f in job_files)
     report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), tuple(notes), tuple(remarks))
-    return write_whole(html_file, render(report), key)
+    try:
+        Path(path).write_text(render(report), encoding="utf-8")
+    except OSError as exc:
+        raise InputError(key, f"cannot write the report ({exc.strerror or exc})") from None
 
 
 def clamp_chapter_of(study):
@@ -820,10 +888,6 @@ def clamp_chapter_of(study):
 
     index = study.given.worst
     return clamp_chapter(study, released_profile(study.given, index) if index is not None else None)
-
-
-def write_clamp_html(html_file, job_file: str, study):
-    return write_html(html_file, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
 
 
 def explained(job_file: str, measured_file: str):
@@ -868,11 +932,9 @@ def chatter_of(job):
 
 
 def check_apply(job_file: str, number, out_file) -> None:
-    """Before the search: --apply and --out come together, N counts from 1, the new job can be written and is
-    not the job itself."""
+    """Before the search: --apply and --out come together, N counts from 1, the new job is not the job itself
+    (whether it can be written, `Outputs.file` checks)."""
     from pathlib import Path
-
-    from deflect.output.atomic import check_target
 
     if number is None and out_file is None:
         return
@@ -884,16 +946,14 @@ def check_apply(job_file: str, number, out_file) -> None:
         raise InputError("--apply", f"options are numbered from 1 as the table ranks them, got {number}")
     if Path(out_file).resolve() == Path(job_file).resolve():
         raise InputError("--out", "is the job file itself; write the changed job to a new file")
-    check_target(out_file, "--out", JOB_MARK)
 
 
-def apply_option(job_file: str, job, result, number: int, out_file, calibration_file=None):
+def apply_option(job_file: str, job, result, number: int, out_file, path, calibration_file=None) -> None:
     """Write option `number`'s changes into a copy of the job file (`deflect.output.remedy_job`), with the
-    calibration given on the command line, if any, named in it."""
+    calibration given on the command line, if any, named in it: to `path`, the staging place of `out_file`."""
     from pathlib import Path
 
     from deflect import __version__
-    from deflect.output.atomic import write_whole
     from deflect.output.html_report import report_date
     from deflect.output.remedy_job import job_text_with, written_header
     from deflect.output.tune_report import change_record
@@ -910,29 +970,52 @@ def apply_option(job_file: str, job, result, number: int, out_file, calibration_
     text = job_text_with(Path(job_file).read_text(encoding="utf-8"),
                          [change_record(c, job.units) for c in option.changes], label, job.units,
                          Path(job_file).parent, Path(out_file).parent, calibration)
-    return write_whole(out_file, written_header(label, Path(job_file).name, __version__, report_date()) + text,
-                       "--out")
+    try:
+        Path(path).write_text(written_header(label, Path(job_file).name, __version__, report_date()) + text,
+                              encoding="utf-8")
+    except OSError as exc:
+        raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
 
 
 @cli.command()
-@click.argument("job_file", type=click.Path(dir_okay=False))
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), required=True,
+@click.argument("job_file")
+@click.option("--html", "html_file", required=True,
               help="The HTML file to write: one self-contained page that prints to clean A4 or Letter pages.")
 @click.option("--json", "as_json", is_flag=True,
               help="Also print one JSON object: each part's JSON under its command's name (predict, rules, clamp, "
                    "chatter, tune).")
-@click.option("--measured", "measured_file", type=click.Path(dir_okay=False), default=None,
+@click.option("--measured", "measured_file", default=None,
               help="A measured first article of the job (as `deflect explain` reads it): its explanation is added.")
 @click.option("--quiet", is_flag=True, help="No progress on stderr.")
+@names_the_job
 def report(job_file, html_file, measured_file, as_json, quiet):
     """One report of JOB_FILE to hand over, as a single HTML file.
 
     The prediction and the design rules; with [holding], the work holding; with [dynamics], the chatter check;
     with [tolerance], the remedies ranked by cycle time; with --measured, the first article explained (the other
-    parts keep the job's constants as given; the first article's part gives them calibrated). Key figures and cautions first, then the inputs, every
-    table and figure of those commands, and the job file as given; the tool's version and the date. No scripts
-    and nothing fetched: it reads and prints anywhere.
+    parts keep the job's constants as given; the first article's part gives them calibrated). Key figures and
+    cautions first, then the inputs, every table and figure of those commands, and the job file as given; the
+    tool's version and the date. No scripts and nothing fetched: it reads and prints anywhere.
     """
+    from deflect.output.files import Outputs
+
+    outputs = Outputs()
+    html_temp = outputs.file(html_file, "--html")       # checked before any work
+    try:
+        chapters, payload, remarks = report_parts(job_file, measured_file, quiet or as_json)
+        sources = [job_file, measured_file] if measured_file else [job_file]
+        write_html(html_temp, payload["title"], "report", sources, chapters, remarks=remarks)
+        outputs.commit()
+    finally:
+        outputs.discard()
+    if as_json:
+        emit_json(payload)
+    else:
+        out(f"wrote {html_file}: " + ", ".join(chapter.title.lower() for chapter in chapters))
+
+
+def report_parts(job_file: str, measured_file: str | None, quiet: bool):
+    """The chapters, the JSON and the remarks of `deflect report` (its docstring)."""
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.grip import clamp_study
     from deflect.machining.targets import process_from_job
@@ -943,8 +1026,7 @@ def report(job_file, html_file, measured_file, as_json, quiet):
     from deflect.output.rules_report import rules_payload
     from deflect.output.tune_report import tune_payload
 
-    html_target(html_file)
-    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not quiet)
     chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
                "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
@@ -973,7 +1055,7 @@ def report(job_file, html_file, measured_file, as_json, quiet):
         if "tolerance" in job.tables:
             require_cutting_constants(job.material)
             surface_of = {p.name: p.surface for p in process_from_job(job).passes}
-            result = searched_with_progress(job, hidden=quiet or as_json)
+            result = searched_with_progress(job, hidden=quiet)
             chapters.append(tune_chapter(result, surface_of, job.units))
             payload["tune"] = tune_payload(result, surface_of, job.units)
         else:
@@ -981,20 +1063,15 @@ def report(job_file, html_file, measured_file, as_json, quiet):
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
-    sources = [job_file, measured_file] if measured_file else [job_file]
-    written = write_html(html_file, pred.title, "report", sources, chapters, remarks=remarks)
-    if as_json:
-        emit_json(payload)
-    else:
-        click.echo(f"wrote {written}: " + ", ".join(chapter.title.lower() for chapter in chapters))
+    return chapters, payload, remarks
 
 
 @cli.command()
-@click.argument("job_a", type=click.Path(dir_okay=False))
-@click.argument("job_b", type=click.Path(dir_okay=False))
+@click.argument("job_a")
+@click.argument("job_b")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
-@click.option("--html", "html_file", type=click.Path(dir_okay=False), default=None, help=HTML_HELP)
-@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None,
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@click.option("--calibration", "calibration_file", default=None,
               help="Read JOB_B with this first article's calibration (as `deflect explain --save` writes it): a job "
                    "against the same job calibrated.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
@@ -1012,30 +1089,32 @@ def compare(job_a, job_b, as_json, html_file, calibration_file, quiet):
     from deflect.decisions.compare import compare as compare_jobs
     from deflect.job.reader import read_job
     from deflect.output.compare_report import compare_payload, compare_report, part_words
+    from deflect.output.files import Outputs
 
-    html_target(html_file)
-    read_job(job_a)                       # both read and checked before either is predicted
-    read_calibrated_job(job_b, calibration_file)
-    sides = []
-    for job_file, calibration in ((job_a, None), (job_b, calibration_file)):
-        if not quiet and not as_json:
-            click.echo(f"predicting {job_file}", err=True)
-        pred, judged, _, job = run_prediction(job_file, show_progress=False, calibration_file=calibration)
-        sides.append(Compared(Path(job_file).name, pred, judged.checks, job.calibration))
-    comparison = compare_jobs(*sides)
-    written = None
-    if html_file:
-        from deflect.output.html_chapters import compare_chapter
-        a, b = comparison.a.prediction, comparison.b.prediction
-        title = a.title if a.title == b.title else f"{a.title} against {b.title}"
-        written = write_html(html_file, title, "comparison of two jobs", [job_a, job_b],
-                             [compare_chapter(comparison)], (part_words(comparison),))
+    with Outputs() as outputs:
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        read_job(job_a)                       # both read and checked before either is predicted
+        read_calibrated_job(job_b, calibration_file)
+        sides = []
+        for job_file, calibration in ((job_a, None), (job_b, calibration_file)):
+            if not quiet and not as_json:
+                click.echo(f"predicting {job_file}", err=True)
+            pred, judged, _, job = run_prediction(job_file, show_progress=False, calibration_file=calibration)
+            sides.append(Compared(Path(job_file).name, pred, judged.checks, job.calibration))
+        comparison = compare_jobs(*sides)
+        if html_temp:
+            from deflect.output.html_chapters import compare_chapter
+            a, b = comparison.a.prediction, comparison.b.prediction
+            title = a.title if a.title == b.title else f"{a.title} against {b.title}"
+            write_html(html_temp, title, "comparison of two jobs", [job_a, job_b], [compare_chapter(comparison)],
+                       (part_words(comparison),))
+        written = outputs.commit()
     if as_json:
         emit_json(compare_payload(comparison))
     else:
-        click.echo(compare_report(comparison))
-        if written:
-            click.echo(f"wrote {written}")
+        out(compare_report(comparison))
+        for path in written:
+            out(f"wrote {path}")
 
 
 def main(argv: list[str] | None = None) -> None:
@@ -1057,3 +1136,22 @@ def main(argv: list[str] | None = None) -> None:
     except click.ClickException as exc:
         click.echo(f"error: {exc.format_message()}", err=True)
         sys.exit(EXIT_BAD_INPUT)
+    except StdoutGone as exc:
+        silence_stdout()
+        click.echo(f"error: cannot write the output to stdout: {exc}", err=True)
+        sys.exit(EXIT_CANNOT_WRITE)
+
+
+def silence_stdout() -> None:
+    """Point stdout at the null device, so that Python's last flush on exit does not fail a second time with
+    its own message (what the Python documentation advises for a closed pipe)."""
+    try:
+        sys.stdout.flush()
+    except (OSError, ValueError):
+        pass
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, sys.stdout.fileno())
+        os.close(null)
+    except (OSError, ValueError, AttributeError, io.UnsupportedOperation):
+        pass        # stdout is not a file (a test's captured stream): nothing is flushed at exit

@@ -6,6 +6,8 @@
 terms (an unheld part, a wall consumed by a pass); also exit code 2.
 """
 
+from contextlib import contextmanager
+
 
 class InputError(Exception):
     """A problem in the user's input, tied to one key of the job file.
@@ -48,3 +50,32 @@ class ModelError(Exception):
         where = f"{self.file}: " if self.file else ""
         key = f"{self.key}: " if self.key else ""
         return f"error: {where}{key}{self.message}"
+
+
+@contextmanager
+def keyed(key: str):
+    """Inside it, an InputError or ModelError raised without a key gets this one: the key of what was being
+    worked on (a pass, the holding), so that its line reads `error: FILE: KEY: ...` like every other."""
+    try:
+        yield
+    except (InputError, ModelError) as exc:
+        if not exc.key:
+            exc.key = key
+        raise
+
+
+SHOWN_CHARS = 40     # a value quoted in a message is cut to about this many characters
+
+
+def shown(value) -> str:
+    """A value from the job as a message quotes it: its repr, but a 400-digit integer or a long list cut short
+    (the line must stay one readable line)."""
+    try:
+        text = repr(value)
+    except RecursionError:          # a list nested deeper than Python's repr goes
+        return "a value nested too deeply to show"
+    if len(text) <= SHOWN_CHARS:
+        return text
+    if isinstance(value, int) and not isinstance(value, bool):
+        return f"an integer of {len(str(abs(value)))} digits"
+    return text[:SHOWN_CHARS - 5] + " ..." + text[-1]

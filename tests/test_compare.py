@@ -129,7 +129,7 @@ def test_a_job_that_does_not_read_is_named(tmp_path, which):
     code, out, err = run_deflect(["compare", *jobs, "--html", tmp_path / "c.html"])
     assert code == 2
     assert err.startswith(f"error: {bad}: ") and "not valid TOML" in err and "predicting" not in err, err
-    assert files_in(tmp_path) == ["broken.toml"]
+    assert files_in(tmp_path) == ["broken.toml"]          # no report, no staging folder left
 
 
 def test_a_missing_job_is_named(tmp_path):
@@ -138,9 +138,11 @@ def test_a_missing_job_is_named(tmp_path):
 
 
 def test_an_html_file_that_cannot_be_written_is_refused_first(tmp_path):
-    code, out, err = run_deflect(["compare", DEMO_JOB, DEMO_JOB, "--html", tmp_path / "no" / "c.html"])
-    assert code == 2 and err.startswith("error: --html: ") and "does not exist" in err, err
-    assert "predicting" not in err and files_in(tmp_path) == []
+    users = tmp_path / "c.html"
+    users.write_text("my notes")
+    code, out, err = run_deflect(["compare", DEMO_JOB, DEMO_JOB, "--html", users])
+    assert code == 2 and err.startswith("error: --html: ") and "deflect did not write it" in err, err
+    assert "predicting" not in err and files_in(tmp_path) == ["c.html"] and users.read_text() == "my notes"
 
 
 def test_a_job_against_the_same_job_calibrated(tmp_path):

@@ -553,12 +553,12 @@ def test_calibration_file_round_trip_and_refusals(noisy_run, folder, sleeve):
     broken.write_text(saved.read_text().replace("identified = true", "identified = 3", 1))
     code, _, err = run_cli(["predict", str(job_path), "--calibration", str(broken), "--quiet"])
     assert code == 2 and err.startswith(f"error: {broken}: calibration.factor[0].identified: ")
-    # --save never overwrites a file that is not a calibration
+    # --save never overwrites a file that deflect did not write
     other = folder / "notes.toml"
     other.write_text("my notes\n")
     measured = write_measured(folder, "for-save", {"measured": {"mass": 13.3}})
     code, _, err = run_cli(["explain", str(job_path), str(measured), "--save", str(other)])
-    assert code == 2 and "not a deflect calibration" in err and other.read_text() == "my notes\n"
+    assert code == 2 and "deflect did not write it" in err and other.read_text() == "my notes\n"
 
 
 def test_calibrated_size_error_is_not_in_the_program_a_tune_option_writes(sleeve, memo):

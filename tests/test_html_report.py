@@ -5,8 +5,8 @@ A hand-made Prediction (tests/test_report_predict.py) is laid out by `html_chapt
 template engine that wrote it), and checked against the terminal report's blocks: every table of the terminal
 report is a table of the page, cell for cell; the key figures equal the JSON's values to their printed
 digits; every figure is an SVG inside the page; there is no script, no stylesheet or image fetched from
-elsewhere; a user's text (title, pass name) is escaped and drawn literally. The atomic output helper and the
-echo of the job's inputs are checked here too. The browser's own checks are in tests/test_report_browser.py.
+elsewhere; a user's text (title, pass name) is escaped and drawn literally. The echo of the job's inputs, and
+the commands' refusal of an HTML file they may not write, are checked here too. The browser's own checks are in tests/test_report_browser.py.
 """
 
 from __future__ import annotations
@@ -24,8 +24,6 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from browser import json_value, shown_number  # noqa: E402
 from test_report_predict import hand_made_prediction  # noqa: E402
 
-from deflect.errors import InputError  # noqa: E402
-from deflect.output import atomic  # noqa: E402
 from deflect.output.html_chapters import predict_chapter  # noqa: E402
 from deflect.output.html_report import JobSource, Report, input_tables, render, report_date, value_text  # noqa: E402
 from deflect.output.predict_json import prediction_payload  # noqa: E402
@@ -197,49 +195,6 @@ def test_report_date_follows_source_date_epoch(monkeypatch):
 
 
 # ---------------------------------------------------------------------------------------------------
-# output files: whole or not at all, never over a user's file
-
-MARK = "<!-- made by deflect -->"
-
-
-def test_check_target_refuses_what_it_must(tmp_path):
-    with pytest.raises(InputError, match="does not exist") as caught:
-        atomic.check_target(tmp_path / "missing" / "r.html", "--html", MARK)
-    assert caught.value.key == "--html"
-    with pytest.raises(InputError, match="is a folder"):
-        atomic.check_target(tmp_path, "--html", MARK)
-    users = tmp_path / "notes.html"
-    users.write_text("my own notes")
-    with pytest.raises(InputError, match="deflect did not write it"):
-        atomic.check_target(users, "--html", MARK)
-    assert users.read_text() == "my own notes"
-    ours = tmp_path / "old.html"
-    ours.write_text(f"<html>{MARK}</html>")
-    assert atomic.check_target(ours, "--html", MARK) == ours
-
-
-def test_write_whole_leaves_nothing_half_written(tmp_path, monkeypatch):
-    target = tmp_path / "r.html"
-    target.write_text(f"old {MARK}")
-
-    def refuse(*_):
-        raise OSError(28, "No space left on device")
-
-    monkeypatch.setattr(atomic.os, "replace", refuse)
-    with pytest.raises(InputError, match="No space left") as caught:
-        atomic.write_whole(target, "new text", "--html")
-    assert caught.value.key == "--html"
-    assert target.read_text() == f"old {MARK}"
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["r.html"]    # no temporary file left
-
-
-def test_write_whole_writes_an_ordinary_file(tmp_path):
-    target = atomic.write_whole(tmp_path / "r.html", "text", "--html")
-    assert target.read_text() == "text"
-    assert target.stat().st_mode & 0o777 == 0o666 & ~atomic._umask()     # as any new file, not private
-
-
-# ---------------------------------------------------------------------------------------------------
 # the commands refuse an HTML file they cannot write, before any work
 
 @pytest.mark.parametrize("command", ["predict", "report", "clamp", "tune", "rules", "chatter", "explain"])
@@ -249,8 +204,9 @@ def test_an_html_file_that_cannot_be_written_is_refused_before_any_work(tmp_path
     users = tmp_path / "notes.html"
     users.write_text("my notes")
     jobs = [DEMO_JOB, DEMO_MEASURED] if command == "explain" else [EXAMPLES / "ring.toml"]
-    for target, words in ((tmp_path / "missing" / "r.html", "does not exist"), (users, "deflect did not write it")):
+    for target, words in ((users / "r.html", "is a file, not a folder"), (users, "deflect did not write it"),
+                          (tmp_path, "is a folder")):
         code, out, err = run_deflect([command, *jobs, "--html", target])
-        assert code == 2 and err.startswith("error: --html: ") and words in err, err
+        assert code == 2 and err.startswith("error: ") and "--html: " in err and words in err, err
         assert "machined:" not in err and "Traceback" not in err
     assert users.read_text() == "my notes" and sorted(p.name for p in tmp_path.iterdir()) == ["notes.html"]

@@ -210,7 +210,7 @@ def files_in(folder: Path) -> list[str]:
 def assert_refused(args: list, key: str, words: str, folder: Path, before: list[str]) -> None:
     code, out, err = run_deflect(args)
     assert code == 2, err
-    assert err.startswith("error:") and key in err and words in err, err
+    assert err.startswith("error:") and f"{key}: " in err and words in err, err
     assert "Traceback" not in err and len(err.strip().splitlines()) == 1
     assert files_in(folder) == before, "nothing written"
 
@@ -220,15 +220,15 @@ def assert_refused(args: list, key: str, words: str, folder: Path, before: list[
     (["--apply", "1"], "--apply", "--out NEW.toml"),
     (["--out", "NEW"], "--out", "--apply N"),
     (["--apply", "1", "--out", "JOB"], "--out", "the job file itself"),
-    (["--apply", "1", "--out", "MISSING/new.toml"], "--out", "does not exist"),
-    (["--apply", "1", "--out", "FOLDER"], "--out", "is a directory"),
+    (["--apply", "1", "--out", "UNDER_A_FILE/new.toml"], "--out", "is a file, not a folder"),
+    (["--apply", "1", "--out", "FOLDER"], "--out", "is a folder"),
     (["--apply", "1", "--out", "USERS"], "--out", "deflect did not write it"),
 ])
 def test_bad_apply_is_refused_before_the_search(sleeve_job, tmp_path, extra, key, words):
     folder = tmp_path
     (folder / "a-folder").mkdir()
     (folder / "users.toml").write_text("# my own notes\n")
-    names = {"NEW": folder / "new.toml", "JOB": sleeve_job, "MISSING/new.toml": folder / "missing" / "new.toml",
+    names = {"NEW": folder / "new.toml", "JOB": sleeve_job, "UNDER_A_FILE/new.toml": folder / "users.toml" / "new.toml",
              "FOLDER": folder / "a-folder", "USERS": folder / "users.toml"}
     args = ["tune", sleeve_job, "--quiet"] + [names.get(a, a) for a in extra]
     assert_refused(args, key, words, folder, files_in(folder))

@@ -43,6 +43,7 @@ import numpy as np
 from deflect.decisions.conformance import FeatureCheck, Verdict, finishing_passes, size_extremes, verdict, wall_profile
 from deflect.errors import InputError, ModelError
 from deflect.job.fits import Tolerances, tolerance_from_table
+from deflect.machining.insert_edge import edge_problems, split_depth_mm
 from deflect.machining.results import Prediction
 from deflect.machining.simulate import kept_workers, simulate, straight_points
 from deflect.machining.targets import process_from_job
@@ -67,7 +68,7 @@ SPEED_ROUNDS = 3                # lowered and checked again at most this often
 @dataclass(frozen=True)
 class Change:
     pass_name: str
-    key: str                     # feed | allowance | spring | tool | offset | compensate | order
+    key: str                     # feed | allowance | spring | tool | offset | compensate | order | speed | depth
     before: object
     after: object
 
@@ -203,6 +204,7 @@ def broken_limits(pred: Prediction, process, checks: list[FeatureCheck]) -> list
             broken.append(f"{p.name}: the tool rubs where the wall gives way")
     if pred.peak_power_kw > process.machine.power_kw:
         broken.append(f"peak power {pred.peak_power_kw:.1f} kW over the machine's {process.machine.power_kw:g} kW")
+    broken += [problem.text() for problem in edge_problems(process, pred.passes)]
     return broken
 
 
@@ -222,11 +224,12 @@ def job_with(job, changes: tuple[Change, ...]):
     tables = copy.deepcopy(job.tables)
     passes = tables["pass"]
     for change in changes:
+        # a pass is named as the reader keeps it: without the spaces around the name it was written with
         if change.key == "order":
-            by_name = {p["name"]: p for p in passes}
+            by_name = {p["name"].strip(): p for p in passes}
             passes = [by_name[name] for name in change.after]
             continue
-        table = next(p for p in passes if p["name"] == change.pass_name)
+        table = next(p for p in passes if p["name"].strip() == change.pass_name)
         if change.key == "compensate":
             table["compensate"] = [list(pair) for pair in change.after]
         else:
@@ -549,17 +552,39 @@ def search_remedies(job, progress, memo: dict) -> TuneResult:
     given = Search(job=job, tolerances=tolerances, memo=memo, progress=progress)
     current = given.evaluate((), with_ranges=True)
     if current is None:
-        process_from_job(job)          # raises the job's own error, if that is what failed
-        raise ModelError("the job as given cannot be predicted")
+        # the job's own error, keyed, is what the user needs: predict it again and let it say what failed
+        simulate(job, process_from_job(job), memo=given.memo, with_ranges=False)
+        raise ModelError("the job as given cannot be predicted", key="pass")
+    # a cut deeper than its insert takes is split into more cuts in every option (`split_to_edge`)
+    split = split_to_edge(given, current)
+    edged = given if not split else Search(job=job_with(job, split), tolerances=tolerances, memo=given.memo,
+                                           progress=progress)
+    edged_now = edged.evaluate(()) if split else current
+    if edged_now is None:           # the split plan cannot be predicted (too many cuts, say): search the plan given
+        split, edged, edged_now = (), given, current
     # a pass that asks more power than the machine has runs slower in every option
-    slower = slowed_to_power(given, current)
-    search = given if not slower else Search(job=job_with(job, slower), tolerances=tolerances, memo=given.memo,
-                                              progress=progress)
-    result = searched(search, current, tolerances, as_is=bool(slower))
-    if slower:
-        result = replace(result, options=[replace(o, changes=slower + o.changes) for o in result.options],
-                         evaluations=result.evaluations + len(given.seen))
+    slower = slowed_to_power(edged, edged_now)
+    fixed = split + slower
+    search = given if not fixed else Search(job=job_with(job, fixed), tolerances=tolerances, memo=given.memo,
+                                             progress=progress)
+    result = searched(search, current, tolerances, as_is=bool(fixed))
+    if fixed:
+        result = replace(result, options=[replace(o, changes=fixed + o.changes) for o in result.options],
+                         evaluations=result.evaluations + len(given.seen) + (len(edged.seen) if split else 0))
     return result
+
+
+def split_to_edge(search: Search, current: Outcome) -> tuple[Change, ...]:
+    """`depth` set on every pass that has a cut deeper than its insert's usable edge, or a finishing cut deeper
+    than its allowance implies (`deflect.machining.insert_edge`), so that it takes its stock in more cuts (what a
+    machinist does, rather than slow such a cut down); () when every cut fits."""
+    if current is None:
+        return ()
+    depth: dict[str, float] = {}
+    for problem in edge_problems(search.process, current.prediction.passes):
+        depth[problem.pass_name] = min(depth.get(problem.pass_name, math.inf), split_depth_mm(problem))
+    return tuple(Change(p.name, "depth", p.depth_mm, depth[p.name]) for p in search.process.passes
+                 if p.name in depth and (p.depth_mm is None or depth[p.name] < p.depth_mm))
 
 
 def slowed_to_power(search: Search, current: Outcome) -> tuple[Change, ...]:

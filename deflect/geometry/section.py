@@ -31,13 +31,15 @@ from __future__ import annotations
 import bisect
 import math
 import numbers
+import sys
 from dataclasses import dataclass, replace
 from functools import cached_property
 
 import numpy as np
+import shapely
 from scipy.optimize import minimize_scalar
 
-from deflect.errors import InputError, ModelError
+from deflect.errors import InputError, ModelError, shown
 
 Point = tuple[float, float]  # (r, z) in mm
 
@@ -47,6 +49,22 @@ Point = tuple[float, float]  # (r, z) in mm
 # so that cutting to chords instead of arcs does not show in a deviation reported in um.
 POLYGON_CHORD_MM = 1e-5
 _REL_TOL = 1e-9
+# ... but never below what rounding leaves of a coordinate this far from the origin: a few units in the last
+# place of the largest coordinate (an outline drawn at z = 9000 still tells r 19 from r 19.00001).
+_ROUNDING_ULPS = 8.0
+
+# Limits of what the tool turns (README, "Limits the tool enforces"); each is an `error:` when crossed.
+# Every coordinate within 10 m of the origin: the largest vertical turning lathes swing about 10 m (common
+# practice), so a larger number is a typo or a unit slip (42000000.0 for 42.0); it also keeps the squares and
+# cross products of the geometry far from overflow.
+MAX_COORDINATE_MM = 10_000.0
+# A part at least 10 um across: the smallest turned parts (watch pivots) are about ten times that.
+MIN_PART_MM = 0.01
+# An arc of a radius above 1 km is a straight line to well under a micrometre over 10 m: draw a line.
+MAX_ARC_RADIUS_MM = 1_000_000.0
+# The outline's items: a drawing exported with fine splines has thousands; every check of the outline scales
+# about linearly in their number (tests/bench_outline.py measures 5,000 to 40,000 nodes).
+MAX_OUTLINE_ITEMS = 100_000
 # A corner turning less than this [rad] is straight (or smooth), and one turning back within this is a cusp.
 _ANGLE_TOL = 1e-9
 # Gauss-Legendre order on every segment. Arc integrands are trigonometric polynomials of degree <= 5
@@ -69,7 +87,6 @@ _WALL_REFINED_SEGMENTS = 8
 # head-on; kept clear of the usual 30 and 45 degree chamfers so that rounding cannot flip the answer.
 _WALL_MAX_INCIDENCE_DEG = 20.0   # a 0.3 mm fillet on a 1 mm rim then reads >= 0.98 of the wall
 _WALL_XATOL = 1e-11
-_RAYS_PER_BATCH = 256  # rays intersected with all segments at once (bounds the size of the work arrays)
 
 # unit_size_warning: a turned part smaller or larger than this [mm] was probably drawn in the other unit.
 SMALLEST_PLAUSIBLE_MM = 2.5
@@ -112,6 +129,15 @@ def _unit(a: Point) -> Point:
 def _left(a: Point) -> Point:
     """`a` turned a quarter turn counter-clockwise."""
     return (-a[1], a[0])
+
+
+def length_tolerance(r_min: float, r_max: float, z_min: float, z_max: float) -> float:
+    """Lengths below this [mm] count as zero for a part within these bounds: _REL_TOL of the part's size (far
+    below any drawing tolerance), but never below the rounding of its coordinates (_ROUNDING_ULPS units in the
+    last place of the largest): the part's size sets it, not how far the part lies from the origin."""
+    size = max(r_max - r_min, z_max - z_min)
+    reach = max(abs(r_min), abs(r_max), abs(z_min), abs(z_max))
+    return max(_REL_TOL * size, _ROUNDING_ULPS * sys.float_info.epsilon * reach)
 
 
 def _fmt(p: Point) -> str:
@@ -308,7 +334,8 @@ class Section:
 
     @cached_property
     def _tol(self) -> float:
-        return _REL_TOL * max(abs(v) for v in self.bounds())
+        """Lengths below this [mm] count as zero (`length_tolerance` of the section's bounds)."""
+        return length_tolerance(*self.bounds())
 
     def on_axis(self, index: int) -> bool:
         """Whether segment `index` is a line lying on the spin axis: a cut through the solid, not a surface."""
@@ -437,18 +464,25 @@ class _Owner:
 
 def _number(value, key: str, what: str) -> float:
     if isinstance(value, bool) or not isinstance(value, numbers.Real):
-        raise InputError(key, f"{what} must be a number, got {value!r}")
-    x = float(value)
+        raise InputError(key, f"{what} must be a number, got {shown(value)}")
+    try:
+        x = float(value)
+    except OverflowError:           # a TOML integer has no size limit
+        x = math.inf
     if not math.isfinite(x):
-        raise InputError(key, f"{what} must be a finite number, got {value!r}")
+        raise InputError(key, f"{what} must be a finite number, got {shown(value)}")
     return x
 
 
 def _point(value, key: str, what: str) -> Point:
     if not isinstance(value, (list, tuple)) or len(value) != 2:
-        raise InputError(key, f"{what} must be [r, z] (two numbers in mm), got {value!r}")
+        raise InputError(key, f"{what} must be [r, z] (two numbers in mm), got {shown(value)}")
     r = _number(value[0], key, f"r of {what}")
     z = _number(value[1], key, f"z of {what}")
+    if max(abs(r), abs(z)) > MAX_COORDINATE_MM:
+        raise InputError(key, f"({r:g}, {z:g}) lies more than {MAX_COORDINATE_MM / 1000:g} m ({MAX_COORDINATE_MM:g} mm) "
+                              "from the origin, beyond what any lathe turns (a typo or a unit slip?); deflect "
+                              f"takes coordinates within {MAX_COORDINATE_MM:g} mm of r = 0, z = 0")
     if r < 0.0:
         raise InputError(key, f"r = {r:g} is below the spin axis; a half-section lies at r >= 0 "
                               "(r is the radius, not the diameter)")
@@ -457,11 +491,14 @@ def _point(value, key: str, what: str) -> Point:
 
 def _parse_node(item, key: str, index: int) -> _Node:
     if len(item) not in (2, 3):
-        raise InputError(key, f"a node is [r, z] or [r, z, f] (f = fillet radius); got {len(item)} values: {item!r}")
+        raise InputError(key, f"a node is [r, z] or [r, z, f] (f = fillet radius); got {len(item)} values: {shown(item)}")
     point = _point(list(item[:2]), key, "the node")
     fillet = _number(item[2], key, "the fillet radius f") if len(item) == 3 else 0.0
     if fillet < 0.0:
         raise InputError(key, f"the fillet radius f = {fillet:g} is negative; give f >= 0 (0 for a sharp corner)")
+    if fillet > MAX_COORDINATE_MM:
+        raise InputError(key, f"the fillet radius f = {fillet:g} mm is larger than any turned part "
+                              f"(at most {MAX_COORDINATE_MM:g} mm)")
     return _Node(point, fillet, index)
 
 
@@ -478,13 +515,19 @@ def _parse_arc(item: dict, key: str, index: int) -> _Node:
     if radius == 0.0:
         raise InputError(key, "the arc's radius is 0; give R > 0 to turn left (counter-clockwise) "
                               "or R < 0 to turn right, or use a node [r, z] for a straight line")
+    if abs(radius) > MAX_ARC_RADIUS_MM:
+        raise InputError(key, f"the arc's radius {abs(radius):g} mm is over {MAX_ARC_RADIUS_MM / 1e6:g} km: over "
+                              "a part it is a straight line to well under a micrometre; use a node [r, z]")
     return _Node(point, 0.0, index, radius, index)
 
 
 def _parse_items(outline, key: str) -> list[_Node]:
     if not isinstance(outline, (list, tuple)):
         raise InputError(key, "the outline must be a list of nodes [r, z], [r, z, f] and arcs "
-                              f"{{ to = [r, z], radius = R }}; got {type(outline).__name__} {outline!r}")
+                              f"{{ to = [r, z], radius = R }}; got {type(outline).__name__} {shown(outline)}")
+    if len(outline) > MAX_OUTLINE_ITEMS:
+        raise InputError(key, f"the outline has {len(outline)} items; deflect takes at most {MAX_OUTLINE_ITEMS} "
+                              "(simplify the drawing's splines, e.g. to a chord error of 1 um, before export)")
     nodes = []
     for i, item in enumerate(outline):
         k = f"{key}[{i}]"
@@ -497,8 +540,21 @@ def _parse_items(outline, key: str) -> list[_Node]:
             nodes.append(_parse_node(item, k, i))
         else:
             raise InputError(k, "expected a node [r, z], [r, z, f] or an arc { to = [r, z], radius = R }; "
-                                f"got {item!r}")
+                                f"got {shown(item)}")
     return nodes
+
+
+def _outline_tolerance(nodes: list[_Node], key: str) -> float:
+    """The length tolerance of the outline's nodes (`length_tolerance`); InputError for a part smaller than
+    MIN_PART_MM across (which no lathe turns, and where rounding would decide what touches)."""
+    if len(nodes) < 3:
+        return 0.0          # too few nodes for a section: said as such by the caller
+    r, z = np.array([node.point for node in nodes]).T
+    size = max(float(np.ptp(r)), float(np.ptp(z)))
+    if size < MIN_PART_MM:
+        raise InputError(key, f"the outline's nodes span only {size:.3g} mm; a turned part is at least "
+                              f"{MIN_PART_MM:g} mm across (is the drawing in metres?)")
+    return length_tolerance(float(r.min()), float(r.max()), float(z.min()), float(z.max()))
 
 
 def _close(nodes: list[_Node], key: str, tol: float) -> list[_Node]:
@@ -758,26 +814,34 @@ def _neighbours_meet(a: Segment, b: Segment, tol: float) -> Point | None:
     return None
 
 
+def _near_pairs(boxes: np.ndarray, tol: float) -> np.ndarray:
+    """(P, 2) index pairs i < j, in order, of the boxes (r_min, r_max, z_min, z_max) that come within tol of
+    each other. An R-tree of the boxes finds them (shapely's STRtree: Sort-Tile-Recursive packing, S. T.
+    Leutenegger, M. A. Lopez, J. Edgington, "STR: a simple and efficient algorithm for R-tree packing", 1997), so
+    the work grows with the outline's length and the pairs found, not with the square of its segments."""
+    half = 0.5 * tol
+    geometries = shapely.box(boxes[:, 0] - half, boxes[:, 2] - half, boxes[:, 1] + half, boxes[:, 3] + half)
+    first, second = shapely.STRtree(geometries).query(geometries)   # boxes whose envelopes meet
+    keep = first < second
+    pairs = np.column_stack([first[keep], second[keep]])
+    return pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
+
+
 def _check_simple(segments: list[Segment], owners: list[_Owner], key: str, tol: float) -> None:
     m = len(segments)
     boxes = np.array([_bbox(seg) for seg in segments])
-    near = ((boxes[:, None, 0] <= boxes[None, :, 1] + tol) & (boxes[None, :, 0] <= boxes[:, None, 1] + tol)
-            & (boxes[:, None, 2] <= boxes[None, :, 3] + tol) & (boxes[None, :, 2] <= boxes[:, None, 3] + tol))
-    for i in range(m):
-        for j in range(i + 1, m):
-            if not near[i, j]:
-                continue
-            if j == i + 1:
-                p = _neighbours_meet(segments[i], segments[j], tol)
-            elif i == 0 and j == m - 1:
-                p = _neighbours_meet(segments[j], segments[i], tol)
-            else:
-                p = _segments_meet(segments[i], segments[j], tol)
-            if p is not None:
-                a, b = owners[i], owners[j]
-                raise InputError(f"{key}[{max(a.item, b.item)}]",
-                                 f"the outline crosses, touches or runs back over itself: {a.text} and {b.text} "
-                                 f"meet at {_fmt(p)}; list the nodes in order once round the section")
+    for i, j in _near_pairs(boxes, tol).tolist():
+        if j == i + 1:
+            p = _neighbours_meet(segments[i], segments[j], tol)
+        elif i == 0 and j == m - 1:
+            p = _neighbours_meet(segments[j], segments[i], tol)
+        else:
+            p = _segments_meet(segments[i], segments[j], tol)
+        if p is not None:
+            a, b = owners[i], owners[j]
+            raise InputError(f"{key}[{max(a.item, b.item)}]",
+                             f"the outline crosses, touches or runs back over itself: {a.text} and {b.text} "
+                             f"meet at {_fmt(p)}; list the nodes in order once round the section")
 
 
 def section_from_outline(outline: list, key: str = "part.outline") -> Section:
@@ -786,7 +850,7 @@ def section_from_outline(outline: list, key: str = "part.outline") -> Section:
     Raises `InputError` with the key of the offending item (e.g. ``part.outline[4]``) for any problem.
     """
     nodes = _parse_items(outline, key)
-    tol = _REL_TOL * max((max(abs(v) for v in node.point) for node in nodes), default=0.0)
+    tol = _outline_tolerance(nodes, key)
     nodes = _close(nodes, key, tol)
     if len(nodes) < 3:
         raise InputError(key, f"the outline has {len(nodes)} distinct node(s); a closed half-section needs at "
@@ -794,7 +858,10 @@ def section_from_outline(outline: list, key: str = "part.outline") -> Section:
     edges, owners = _edges(nodes, key, tol)
     segments, owners = _apply_fillets(nodes, edges, owners, key, tol)
     for seg, owner in zip(segments, owners):
-        r_min = _bbox(seg)[0]
+        r_min, r_max, z_min, z_max = _bbox(seg)
+        if max(r_max, abs(z_min), abs(z_max)) > MAX_COORDINATE_MM:
+            raise InputError(f"{key}[{owner.item}]", f"{owner.text} bulges more than {MAX_COORDINATE_MM:g} mm from "
+                                                     "the origin, beyond what any lathe turns; check its radius")
         if r_min < -tol:
             raise InputError(f"{key}[{owner.item}]", f"{owner.text} bulges to r = {r_min:.6g}, below the spin axis; "
                                                      "give the radius the other sign or make it larger")
@@ -915,7 +982,8 @@ def mass_properties(section: Section, density_g_cm3: float) -> MassProperties:
 
 @dataclass(frozen=True, eq=False)
 class _RayTargets:
-    """The surface segments packed into arrays, to intersect many rays with all of them at once."""
+    """The surface segments packed into arrays, with an R-tree of their boxes, to intersect many rays with the
+    segments each ray can reach (never rays x segments, which grows with the square of a dense outline)."""
 
     line_start: np.ndarray   # (L, 2)
     line_vector: np.ndarray  # (L, 2) end - start
@@ -925,11 +993,15 @@ class _RayTargets:
     arc_start: np.ndarray    # (K, 2) start - centre
     arc_sweep: np.ndarray    # (K,)
     arc_turn: np.ndarray     # (K,) +1 counter-clockwise, -1 clockwise
+    tree: shapely.STRtree    # boxes of the lines (0 .. L-1), then of the arcs (L .. L+K-1)
+    reach_mm: float          # longer than any ray through the section
 
     @classmethod
-    def of(cls, surfaces: list[Segment]) -> _RayTargets:
+    def of(cls, surfaces: list[Segment], reach_mm: float, tol: float) -> _RayTargets:
         lines = [seg for seg in surfaces if isinstance(seg, Line)]
         arcs = [seg for seg in surfaces if isinstance(seg, Arc)]
+        boxes = np.array([_bbox(seg) for seg in lines + arcs], float).reshape(-1, 4)
+        tree = shapely.STRtree(shapely.box(boxes[:, 0] - tol, boxes[:, 2] - tol, boxes[:, 1] + tol, boxes[:, 3] + tol))
         return cls(line_start=np.array([seg.start for seg in lines], float).reshape(-1, 2),
                    line_vector=np.array([_sub(seg.end, seg.start) for seg in lines], float).reshape(-1, 2),
                    line_normal=np.array([seg.normal_at(0.0) for seg in lines], float).reshape(-1, 2),
@@ -937,58 +1009,85 @@ class _RayTargets:
                    arc_radius=np.array([seg.radius for seg in arcs], float),
                    arc_start=np.array([_sub(seg.start, seg.center) for seg in arcs], float).reshape(-1, 2),
                    arc_sweep=np.array([seg.sweep for seg in arcs], float),
-                   arc_turn=np.array([seg._direction() for seg in arcs], float))
+                   arc_turn=np.array([seg._direction() for seg in arcs], float),
+                   tree=tree, reach_mm=reach_mm)
 
     def first_hits(self, origins: np.ndarray, dirs: np.ndarray, s_min: float) -> tuple[np.ndarray, np.ndarray]:
         """Distance (N,) along each ray (unit dirs) to the first surface it meets beyond s_min (inf if
         none), and the unit outward normal (N, 2) of that surface there."""
         distance = np.full(len(origins), np.inf)
         normal = np.zeros((len(origins), 2))
-        for rows in np.array_split(np.arange(len(origins)), max(1, len(origins) // _RAYS_PER_BATCH)):
-            o, d = origins[rows, None, :], dirs[rows, None, :]
-            candidates = [self._line_hits(o, d, s_min), *self._arc_hits(o, d, s_min)]
-            s = np.concatenate([c[0] for c in candidates], axis=1)
-            n = np.concatenate([c[1] for c in candidates], axis=1)
-            if s.shape[1] == 0:
-                continue
-            first = np.argmin(s, axis=1)
-            distance[rows] = s[np.arange(len(rows)), first]
-            normal[rows] = n[np.arange(len(rows)), first]
+        if len(origins) == 0:
+            return distance, normal
+        rays = shapely.linestrings(np.stack([origins, origins + self.reach_mm * dirs], axis=1))
+        ray, target = self.tree.query(rays, predicate="intersects")
+        n_lines = len(self.line_start)
+        is_line = target < n_lines
+        candidates = [self._line_hits(origins, dirs, ray[is_line], target[is_line], s_min),
+                      *self._arc_hits(origins, dirs, ray[~is_line], target[~is_line] - n_lines, s_min)]
+        rays_of = np.concatenate([c[0] for c in candidates])
+        s = np.concatenate([c[1] for c in candidates])
+        n = np.concatenate([c[2] for c in candidates]).reshape(-1, 2)
+        hit = np.isfinite(s)
+        rays_of, s, n = rays_of[hit], s[hit], n[hit]
+        first = np.lexsort((s, rays_of))                       # by ray, nearest first
+        lead = first[np.r_[True, rays_of[first][1:] != rays_of[first][:-1]]] if len(first) else first
+        distance[rays_of[lead]] = s[lead]
+        normal[rays_of[lead]] = n[lead]
         return distance, normal
 
-    def _line_hits(self, o, d, s_min):
-        """(rays, lines) distances (inf for a miss) and normals: solve o + s d = start + u (end - start)."""
-        e = self.line_vector[None]
-        w = self.line_start[None] - o
+    def _line_hits(self, origins, dirs, ray, line, s_min):
+        """(rays, distances (inf for a miss), normals) of (ray, line) pairs: o + s d = start + u (end - start)."""
+        o, d = origins[ray], dirs[ray]
+        e = self.line_vector[line]
+        w = self.line_start[line] - o
         denom = _cross_rows(d, e)
         with np.errstate(divide="ignore", invalid="ignore"):
             s = _cross_rows(w, e) / denom
             u = _cross_rows(w, d) / denom
-        length = np.hypot(e[..., 0], e[..., 1])
+        length = np.hypot(e[:, 0], e[:, 1])
         hit = (np.abs(denom) > 1e-14 * length) & (u >= -_REL_TOL) & (u <= 1.0 + _REL_TOL) & (s > s_min)
-        return np.where(hit, s, np.inf), np.broadcast_to(self.line_normal[None], s.shape + (2,))
+        return ray, np.where(hit, s, np.inf), self.line_normal[line]
 
-    def _arc_hits(self, o, d, s_min):
-        """Both roots of |o + s d - centre| = radius, each as (rays, arcs) distances and normals."""
-        w = o - self.arc_centre[None]
-        b = np.sum(d * w, axis=2)
-        disc = b * b - (np.sum(w * w, axis=2) - self.arc_radius[None] ** 2)
+    def _arc_hits(self, origins, dirs, ray, arc, s_min):
+        """Both roots of |o + s d - centre| = radius for (ray, arc) pairs, each as (rays, distances, normals)."""
+        o, d = origins[ray], dirs[ray]
+        w = o - self.arc_centre[arc]
+        b = np.sum(d * w, axis=1)
+        disc = b * b - (np.sum(w * w, axis=1) - self.arc_radius[arc] ** 2)
         root = np.sqrt(np.maximum(disc, 0.0))
+        start, sweep, turn = self.arc_start[arc], self.arc_sweep[arc], self.arc_turn[arc]
         out = []
         for s in (-b - root, -b + root):
-            radial = w + s[..., None] * d  # hit point - centre
-            angle = self.arc_turn * np.arctan2(_cross_rows(self.arc_start[None], radial),
-                                               np.sum(self.arc_start[None] * radial, axis=2))
-            angle = np.where(angle < 0.5 * (self.arc_sweep - 2.0 * math.pi), angle + 2.0 * math.pi, angle)
-            t = angle / self.arc_sweep
+            radial = w + s[:, None] * d  # hit point - centre
+            angle = turn * np.arctan2(_cross_rows(start, radial), np.sum(start * radial, axis=1))
+            angle = np.where(angle < 0.5 * (sweep - 2.0 * math.pi), angle + 2.0 * math.pi, angle)
+            t = angle / sweep
             hit = (disc >= 0.0) & (t >= -_REL_TOL) & (t <= 1.0 + _REL_TOL) & (s > s_min)
             # outward normal: away from the centre on a counter-clockwise arc, towards it on a clockwise one
-            out.append((np.where(hit, s, np.inf), radial * (self.arc_turn / self.arc_radius)[None, :, None]))
+            out.append((ray, np.where(hit, s, np.inf), radial * (turn / self.arc_radius[arc])[:, None]))
         return out
 
 
 def _cross_rows(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     return a[..., 0] * b[..., 1] - a[..., 1] * b[..., 0]
+
+
+def _points_and_inward(section: Section, seg_ids: np.ndarray, params: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Points (N, 2) at (segment, parameter) and the unit inward normals (N, 2) there, the segments taken in
+    runs of the same index (so the work is one numpy call per run, not per point)."""
+    origins = np.empty((len(params), 2))
+    inward = np.empty((len(params), 2))
+    order = np.argsort(seg_ids, kind="stable")
+    ids = seg_ids[order]
+    starts = np.flatnonzero(np.r_[True, ids[1:] != ids[:-1]])
+    for first, last in zip(starts, np.r_[starts[1:], len(ids)]):
+        rows = order[first:last]
+        seg = section.segments[int(ids[first])]
+        origins[rows] = seg.points_at(params[rows])
+        tangents = seg.tangents_at(params[rows])
+        inward[rows] = np.column_stack([-tangents[:, 1], tangents[:, 0]])  # tangent turned left, into the material
+    return origins, inward
 
 
 def _walls(section: Section, surfaces: _RayTargets, seg_ids: np.ndarray,
@@ -999,14 +1098,7 @@ def _walls(section: Section, surfaces: _RayTargets, seg_ids: np.ndarray,
     A ray that reaches the spin axis goes on in the mirrored half of the section (the solid continues
     through the axis): its r-direction is reflected there.
     """
-    origins = np.empty((len(params), 2))
-    inward = np.empty((len(params), 2))
-    for i in np.unique(seg_ids):
-        at = seg_ids == i
-        seg = section.segments[i]
-        origins[at] = seg.points_at(params[at])
-        tangents = seg.tangents_at(params[at])
-        inward[at] = np.column_stack([-tangents[:, 1], tangents[:, 0]])  # tangent turned left, into the material
+    origins, inward = _points_and_inward(section, seg_ids, params)
     s_min = 10.0 * section._tol
     hit, normal = surfaces.first_hits(origins, inward, s_min)
     facing = np.einsum("ij,ij->i", inward, normal)
@@ -1048,7 +1140,9 @@ def thinnest_wall(section: Section) -> WallReading:
     """
     tol = section._tol
     surface_ids = [i for i, seg in enumerate(section.segments) if not _on_axis(seg, tol)]
-    surfaces = _RayTargets.of([section.segments[i] for i in surface_ids])
+    r_min, r_max, z_min, z_max = section.bounds()
+    reach = 2.0 * math.hypot(2.0 * r_max, z_max - z_min) + 1.0     # across the solid, mirrored half included
+    surfaces = _RayTargets.of([section.segments[i] for i in surface_ids], reach, tol)
     spacing = section.perimeter() / _WALL_RAYS
     grids = {i: np.linspace(_WALL_END_OFFSET, 1.0 - _WALL_END_OFFSET,
                             max(_WALL_RAYS_PER_SEGMENT, math.ceil(section._lengths[i] / spacing)) + 1)
@@ -1068,13 +1162,15 @@ def thinnest_wall(section: Section) -> WallReading:
 
     sampled = np.where((facing >= least_facing) & np.isfinite(hit), hit, no_wall)
     if not (sampled < no_wall).any():
-        raise ModelError("could not measure the wall: no ray from the boundary met the opposite side")
+        raise ModelError("could not measure the wall: no ray from the boundary met the opposite side",
+                         key="part.outline")
 
     def wall_at(i: int, t: float) -> float:
         return float(walls(np.array([i]), np.array([t]))[0])
 
-    # refine around the thinnest ray of each of the thinnest few segments
-    per_segment = sorted((sampled[seg_ids == i].min(), i) for i in surface_ids)
+    # refine around the thinnest ray of each of the thinnest few segments (seg_ids come in runs, segment by segment)
+    run_starts = np.flatnonzero(np.r_[True, seg_ids[1:] != seg_ids[:-1]])
+    per_segment = sorted(zip(np.minimum.reduceat(sampled, run_starts).tolist(), seg_ids[run_starts].tolist()))
     first = int(np.argmin(sampled))
     thinnest = (float(sampled[first]), int(seg_ids[first]), float(params[first]))
     for _, i in per_segment[:_WALL_REFINED_SEGMENTS]:

@@ -27,7 +27,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.job.checks import check_keys, check_table, number
 
 # ISO 286-1:2010, Table 1: standard tolerance values, um, per nominal size range in mm ("over ... up to and
@@ -186,7 +186,7 @@ def parse_fit(code: str, key: str = "tolerance") -> Fit:
     """The `Fit` of a code such as "g6", "js7" or "H7"; `InputError(key, ...)` if it cannot be read, its letter
     is not held here, or its grade lies outside IT1 to IT18."""
     if not isinstance(code, str):
-        raise InputError(key, f"must be a fit code in quotes, got {code!r}; {FIT_FORM}")
+        raise InputError(key, f"must be a fit code in quotes, got {shown(code)}; {FIT_FORM}")
     match = _FIT.fullmatch(code.strip())
     if match is None:
         raise InputError(key, f"cannot read fit code {code!r}; {FIT_FORM}")
@@ -336,7 +336,7 @@ def _diameter_tolerance(value, surface: str, key: str) -> Fit | DiameterLimits |
         return _explicit_limits(value, where)
     if not isinstance(value, str):
         raise InputError(where, f'must be a fit code such as "{example}" or explicit limits '
-                                f"{{ plus = 0.0, minus = -0.04 }} in mm on the diameter, got {value!r}")
+                                f"{{ plus = 0.0, minus = -0.04 }} in mm on the diameter, got {shown(value)}")
     fit = parse_fit(value, where)
     if fit.is_hole != (surface == "id"):
         given, wanted = ("a hole", "an outside diameter and takes a shaft class (lower case)") if fit.is_hole \

@@ -24,10 +24,11 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
+import shapely
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.geometry.boxes import HeldBox
-from deflect.geometry.section import Section
+from deflect.geometry.section import Arc, Section
 from deflect.job.checks import check_keys, check_range, check_table, number
 
 HOLDING_KEYS = ("kind", "jaws", "grip", "z", "width", "force", "friction", "jaw_mass", "jaw_radius", "safety")
@@ -43,6 +44,7 @@ CONTACT_GAP_MM = 0.02         # a jaw bears on the largest OD (smallest bore) in
 HELD_BAND_MM = 0.5            # the held box for the cutting stiffness reaches this far either side of the
                               # gripped surface (it catches the wall fibres that end on the gripped surface)
 CONTACT_SAMPLES = 64          # boundary samples along the contact (load points of the grip)
+SHORTEST_CONTACT_MM = 0.1     # no jaw or collet grips over less (README, limits)
 SURFACE_SAMPLES = 400         # boundary samples along the whole perimeter for the finished surfaces
 
 
@@ -118,7 +120,7 @@ def _positive(table: dict, name: str, what: str) -> float:
 def _choice(table: dict, name: str, allowed: tuple[str, ...], default: str) -> str:
     value = table.get(name, default)
     if value not in allowed:
-        raise InputError(f"holding.{name}", f"must be one of {', '.join(repr(a) for a in allowed)}, got {value!r}")
+        raise InputError(f"holding.{name}", f"must be one of {', '.join(repr(a) for a in allowed)}, got {shown(value)}")
     return value
 
 
@@ -132,7 +134,7 @@ def _jaw_count(table: dict, kind: str, notes: list[str]) -> int:
         return DEFAULT_JAWS
     value = table["jaws"]
     if isinstance(value, bool) or not isinstance(value, int):
-        raise InputError("holding.jaws", f"must be a whole number of jaws, e.g. 3, got {value!r}")
+        raise InputError("holding.jaws", f"must be a whole number of jaws, e.g. 3, got {shown(value)}")
     if value < 2:
         raise InputError("holding.jaws", f"must be 2 or more, got {value}; a chuck grips with 2, 3, 4 or 6 jaws "
                                          "(for a grip all round use kind = \"collet\")")
@@ -143,8 +145,9 @@ def _z_range(table: dict) -> tuple[float, float]:
     if "z" not in table:
         raise InputError("holding.z", "missing; give the axial extent of the contact on the part, z = [low, high]")
     low, high = check_range(table["z"], "holding.z")
-    if not high > low:
-        raise InputError("holding.z", f"[{low:g}, {high:g}] has no length; the grip must bear over some z")
+    if not high - low >= SHORTEST_CONTACT_MM:
+        raise InputError("holding.z", f"[{low:g}, {high:g}] is {high - low:.3g} mm long; a grip bears over at least "
+                                      f"{SHORTEST_CONTACT_MM:g} mm of the part (a jaw's or a collet's length)")
     return low, high
 
 
@@ -222,54 +225,85 @@ def _jaw_mass(table: dict, notes: list[str]) -> tuple[float | None, float | None
 # ---------------------------------------------------------------------------------------------------
 # the section's OD and bore
 
-def _crossings(polygon_rz: np.ndarray, z: np.ndarray) -> np.ndarray:
-    """(k, E) radius where each polygon edge crosses the level z_i (half-open in z), NaN where it does not."""
+def _crossings(polygon_rz: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Where polygon edges cross the levels z_i (half-open in z): (level index, radius) of every crossing.
+    An R-tree of the edges finds the edges that can reach each level, so the work grows with the crossings,
+    not with levels x edges (a drawing's dense spline has thousands of both)."""
     a, b = polygon_rz, np.roll(polygon_rz, -1, axis=0)
-    z = z[:, None]
-    straddles = (a[:, 1] > z) != (b[:, 1] > z)
+    r_low, r_high = float(polygon_rz[:, 0].min()) - 1.0, float(polygon_rz[:, 0].max()) + 1.0
+    levels = shapely.linestrings(np.stack([np.column_stack([np.full(len(z), r_low), z]),
+                                           np.column_stack([np.full(len(z), r_high), z])], axis=1))
+    level, edge = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1))).query(levels, predicate="intersects")
+    a, b, at = a[edge], b[edge], z[level]
+    straddles = (a[:, 1] > at) != (b[:, 1] > at)
     with np.errstate(divide="ignore", invalid="ignore"):
-        r = a[:, 0] + (z - a[:, 1]) * (b[:, 0] - a[:, 0]) / (b[:, 1] - a[:, 1])
-    return np.where(straddles, r, np.nan)
+        r = a[:, 0] + (at - a[:, 1]) * (b[:, 0] - a[:, 0]) / (b[:, 1] - a[:, 1])
+    return level[straddles], r[straddles]
 
 
 def _radial_wall(polygon_rz: np.ndarray, points_rz: np.ndarray, outward_r: np.ndarray) -> np.ndarray:
     """Radial length of the material behind each point (k,) at its z: from the point along -outward_r to the
     next crossing of the boundary [mm]."""
-    cross = _crossings(polygon_rz, points_rz[:, 1])
-    r = points_rz[:, :1]
-    sign = np.sign(outward_r)[:, None]
-    depth = sign * (r - cross)
-    behind = np.where(depth > 1e-3, depth, np.inf)  # crossings inside the material (past the chords' error)
-    return np.min(behind, axis=1)
+    level, cross = _crossings(polygon_rz, points_rz[:, 1])
+    depth = np.sign(outward_r)[level] * (points_rz[level, 0] - cross)
+    behind = np.full(len(points_rz), np.inf)
+    inside = depth > 1e-3       # crossings inside the material (past the chords' error)
+    np.minimum.at(behind, level[inside], depth[inside])
+    return behind
 
 
-def _midpoint_samples(section: Section, spacing_mm: float):
-    """Points at the middles of equal pieces (at most spacing_mm long) of every segment, never at a corner
-    (where the side a point faces, and the levels' crossings, would be ambiguous): points (k, 2), unit outward
-    normals (k, 2), piece lengths (k,) [mm], segment index (k,)."""
+def _pieces(seg, spacing_mm: float, window_z: tuple[float, float] | None, window_spacing_mm: float):
+    """Parameter intervals of a segment and the most piece length in each: spacing_mm, but window_spacing_mm on
+    the stretches that reach into the window's z range. The segment is cut into pieces about spacing_mm long
+    (each a chord within its sagitta of the arc); those whose z range meets the window are sampled finely. So
+    only the window is sampled finely, and a short grip on a long surface costs few samples."""
+    if window_z is None:
+        return [(0.0, 1.0, spacing_mm)]
+    low, high = window_z
+    count = max(1, math.ceil(seg.length() / spacing_mm))
+    t = np.linspace(0.0, 1.0, count + 1)
+    z = seg.points_at(t)[:, 1]
+    sagitta = (seg.length() / count) ** 2 / (8.0 * seg.radius) if isinstance(seg, Arc) else 0.0
+    reach = ((np.minimum(z[:-1], z[1:]) - sagitta <= high) & (np.maximum(z[:-1], z[1:]) + sagitta >= low))
+    return [(float(t[k]), float(t[k + 1]), window_spacing_mm if reach[k] else spacing_mm) for k in range(count)]
+
+
+def _midpoint_samples(section: Section, spacing_mm: float, window_z: tuple[float, float] | None = None,
+                      window_spacing_mm: float | None = None):
+    """Points at the middles of equal pieces (at most spacing_mm long; window_spacing_mm within the z range
+    window_z) of every segment, never at a corner (where the side a point faces, and the levels' crossings,
+    would be ambiguous): points (k, 2), unit outward normals (k, 2), piece lengths (k,) [mm], segment index (k,)."""
     points, normals, lengths, segment = [], [], [], []
     for i, seg in enumerate(section.segments):
-        n = max(1, math.ceil(seg.length() / spacing_mm))
-        t = (np.arange(n) + 0.5) / n
-        tangents = seg.tangents_at(t)
-        points.append(seg.points_at(t))
-        normals.append(np.column_stack([tangents[:, 1], -tangents[:, 0]]))
-        lengths.append(np.full(n, seg.length() / n))
-        segment.append(np.full(n, i))
+        for t0, t1, most_mm in _pieces(seg, spacing_mm, window_z, window_spacing_mm or spacing_mm):
+            length = seg.length() * (t1 - t0)
+            if length <= 0.0:
+                continue
+            n = max(1, math.ceil(length / most_mm))
+            t = t0 + (t1 - t0) * (np.arange(n) + 0.5) / n
+            tangents = seg.tangents_at(t)
+            points.append(seg.points_at(t))
+            normals.append(np.column_stack([tangents[:, 1], -tangents[:, 0]]))
+            lengths.append(np.full(n, length / n))
+            segment.append(np.full(n, i))
     return np.concatenate(points), np.concatenate(normals), np.concatenate(lengths), np.concatenate(segment)
 
 
-def surface_points(section: Section, surface: str, spacing_mm: float | None = None) -> SurfacePoints:
+def surface_points(section: Section, surface: str, spacing_mm: float | None = None,
+                   window_z: tuple[float, float] | None = None, window_spacing_mm: float | None = None) -> SurfacePoints:
     """Boundary samples of the section's OD (outermost at their z, facing outwards within 45 deg) or bore
-    (innermost at their z, facing the axis, not on the axis)."""
-    points, normals, ds, segment = _midpoint_samples(section, spacing_mm or section.perimeter() / SURFACE_SAMPLES)
+    (innermost at their z, facing the axis, not on the axis): every spacing_mm (default: the perimeter /
+    SURFACE_SAMPLES), every window_spacing_mm within the z range window_z."""
+    points, normals, ds, segment = _midpoint_samples(section, spacing_mm or section.perimeter() / SURFACE_SAMPLES,
+                                                     window_z, window_spacing_mm)
     polygon = section.polygon(1e-4)
     sign = 1.0 if surface == "od" else -1.0
     facing = (sign * normals[:, 0] > SIDE_COS) & ~np.array([section.on_axis(int(i)) for i in segment])
     points, normals, ds = points[facing], normals[facing], ds[facing]
     # the extreme crossing of each sample's level; a facing sample's own edge (or chord) crosses it
-    cross = np.column_stack([_crossings(polygon, points[:, 1]), points[:, 0]])
-    extreme = np.nanmax(cross, axis=1) if surface == "od" else np.nanmin(cross, axis=1)
+    level, cross = _crossings(polygon, points[:, 1])
+    extreme = points[:, 0].copy()
+    (np.maximum if surface == "od" else np.minimum).at(extreme, level, cross)
     keep = sign * (points[:, 0] - extreme) > -1e-3
     points, normals = points[keep], normals[keep]
     return SurfacePoints(surface=surface, points_rz=points, normals=normals, ds_mm=ds[keep],
@@ -282,8 +316,8 @@ def contact_of(section: Section, holding: Holding) -> Contact:
     pressure). InputError (holding.z) when the z range holds no boundary of the gripped side, (holding.width)
     when the jaws would not fit round the gripped circumference."""
     low, high = holding.z_mm
-    spacing = min((high - low) / CONTACT_SAMPLES, section.perimeter() / SURFACE_SAMPLES)
-    side = surface_points(section, holding.grip, spacing)
+    spacing = section.perimeter() / SURFACE_SAMPLES
+    side = surface_points(section, holding.grip, spacing, holding.z_mm, min(spacing, (high - low) / CONTACT_SAMPLES))
     z = side.points_rz[:, 1]
     inside = (z >= low - 1e-9) & (z <= high + 1e-9)
     name = "OD" if holding.grip == "od" else "ID"

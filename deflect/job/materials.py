@@ -20,7 +20,7 @@ import tomllib
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.job.checks import check_keys, number
 
 KIENZLE_KEYS = ("kc11", "mc", "kf11", "mf", "kp11", "mp")
@@ -40,6 +40,7 @@ _FIELD_OF_KEY = {
     "E": "E_mpa",
     "nu": "nu",
     "density": "density_g_cm3",
+    "yield_strength": "yield_strength_mpa",
     "kc11": "kc11",
     "mc": "mc",
     "kf11": "kf11",
@@ -63,12 +64,15 @@ class Material:
 
     ``kc11 .. mp`` are None when no Kienzle constants were given; `sources`
     maps each job-file key (``E``, ``kc11``, ...) to where its value came from.
+    ``yield_strength_mpa`` is the 0.2 % proof stress Rp0.2 (None when not given):
+    a grip that would bend the wall past it is refused.
     """
 
     name: str
     E_mpa: float
     nu: float
     density_g_cm3: float
+    yield_strength_mpa: float | None = None
     kc11: float | None = None
     mc: float | None = None
     kf11: float | None = None
@@ -96,11 +100,29 @@ def library_path() -> Path:
     return installed if installed.is_file() else package.parent / "data" / "materials.toml"
 
 
+# What solids that are turned can have (README, limits): outside these a number is a typo or a unit slip, and
+# the cutting and shell models would run into overflow (a modulus of 1e-300 MPa, a density of 1e300).
+PLAUSIBLE = {
+    "E": (100.0, 1e9, "MPa", "from soft plastics to a thousand times diamond, for studies of the rigid limit"),
+    "density": (0.05, 25.0, "g/cm3", "from foams to the densest metals"),
+    "yield_strength": (1.0, 10000.0, "MPa", "from soft plastics to the strongest steels"),
+    "kc11": (10.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
+    "kf11": (1.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
+    "kp11": (1.0, 100000.0, "N/mm2", "specific forces of turned materials are tens to a few thousand"),
+    "ref_speed": (1.0, 10000.0, "m/min", "cutting speeds"),
+    "min_wall_mm": (0.001, 10000.0, "mm", "a wall of a turned part"),
+}
+
+
 def _check_range(name: str, value: float, key: str) -> None:
     """Physical range of each material value; `name` is the job-file key."""
-    if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11", "min_wall_mm"):
+    if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11", "yield_strength", "min_wall_mm"):
         if value <= 0.0:
             raise InputError(key, f"must be > 0, got {value:g}")
+        low, high, unit, why = PLAUSIBLE[name]
+        if not low <= value <= high:
+            raise InputError(key, f"{value:g} {unit} lies outside {low:g} to {high:g} {unit} ({why}); check the "
+                                  "number and its unit")
     elif name == "nu":
         if not -1.0 < value < 0.5:
             raise InputError(key, f"Poisson's ratio must lie in (-1, 0.5), got {value:g}")
@@ -230,7 +252,7 @@ def material_from_job(table, key: str = "material") -> Material:
     if "name" in table:
         name = table["name"]
         if not isinstance(name, str):
-            raise InputError(f"{key}.name", f"must be a text string, got {name!r}")
+            raise InputError(f"{key}.name", f"must be a text string, got {shown(name)}")
         library = load_library()
         base = library.get(name.strip().lower())
         if base is None:

@@ -14,14 +14,14 @@ table is not an error: a small lathe's limits are assumed and a warning says so.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import shapely
 from shapely.geometry import Point, Polygon
 
-from deflect.errors import InputError
-from deflect.geometry.section import POLYGON_CHORD_MM, section_from_outline
+from deflect.errors import InputError, shown
+from deflect.geometry.section import MAX_COORDINATE_MM, POLYGON_CHORD_MM, section_from_outline
 from deflect.job.checks import check_keys, check_table, is_number, required_number
 from deflect.job.tooling import Tool, tool_from_job
 
@@ -32,6 +32,17 @@ SURFACES = ("od", "id", "face")   # the side a pass cuts from: outside, bore, fa
 PASS_KEYS = ("name", "surface", "tool", "allowance", "feed", "speed", "z", "r", "depth", "spring", "offset",
              "compensate")
 MOST_COMPENSATION_MM = 0.5      # a programmed correction of push-off is micrometres to tenths, never more
+# Limits of the simulation (README, "Limits the tool enforces"):
+APPROACH_MM = 5.0               # a pass's extent is cut back to this beyond the stock and the part: the usual
+                                # clearance a program starts the tool at (1-5 mm, common practice); beyond it the
+                                # tool feeds through air, which the simulation would have to walk 0.1 mm at a time
+MAX_SPRING_CUTS = 10            # spring cuts a pass may ask for (one or two take what the wall gave back, common
+                                # practice; more take nothing more)
+MAX_SPEED_M_MIN = 10_000.0      # cutting speed: aluminium is turned at up to a few thousand m/min
+MIN_SPEED_M_MIN = 1.0           # ... and no edge cuts below a metre a minute
+MIN_FEED_MM = 0.001             # feed: a micrometre a revolution is finer than any turning finish needs
+MAX_RPM = 200_000.0             # spindle speed: the fastest precision spindles turn at about a tenth of it
+MIN_RPM = 1.0
 PASS_REQUIRED = ("name", "surface", "tool", "allowance", "feed", "speed")
 MACHINE_KEYS = ("max_rpm", "power_kw")
 
@@ -104,6 +115,13 @@ def _positive(table: dict, name: str, key: str, what: str) -> float:
     return value
 
 
+def _within(value: float, most: float, key: str, what: str) -> float:
+    """The value, if its size is at most `most`; else InputError (what no lathe does, README limits)."""
+    if abs(value) > most:
+        raise InputError(key, f"{value:g} is more than {most:g}, beyond what any lathe does; give {what}")
+    return value
+
+
 def _z_span(table: dict, key: str) -> tuple[float, float]:
     """A stock's z = [z0, z1] with z0 < z1."""
     value = table.get("z")
@@ -122,7 +140,18 @@ def _z_span(table: dict, key: str) -> tuple[float, float]:
 # stock
 
 def _stock_from_job(tables: dict) -> tuple[np.ndarray, str]:
-    """The blank's counter-clockwise polygon and the key it was given under."""
+    """The blank's counter-clockwise polygon and the key it was given under, within the coordinates the part
+    may have (`section.MAX_COORDINATE_MM`)."""
+    stock_rz, key = _stock_polygon(tables)
+    reach = float(np.abs(stock_rz).max())
+    if reach > MAX_COORDINATE_MM:
+        raise InputError(key, f"the blank reaches {reach:g} mm from the origin, beyond what any lathe turns (a typo "
+                              f"or a unit slip?); deflect takes coordinates within {MAX_COORDINATE_MM:g} mm")
+    return stock_rz, key
+
+
+def _stock_polygon(tables: dict) -> tuple[np.ndarray, str]:
+    """The blank as given: its counter-clockwise polygon and the key it was given under."""
     if "stock" not in tables:
         raise InputError("stock", "missing; give the blank as [stock] with outline = [[r, z], ...], "
                                   "bar = { diameter, z = [z0, z1] } or tube = { od, id, z = [z0, z1] }")
@@ -200,7 +229,7 @@ def _extent(table: dict, surface: str, key: str) -> tuple[float, float]:
                                           "(start -> end is the feed direction)")
     value = table[name]
     if not (isinstance(value, list) and len(value) == 2 and all(is_number(v) for v in value)):
-        raise InputError(f"{key}.{name}", f"must be two numbers [start, end] in mm, got {value!r}")
+        raise InputError(f"{key}.{name}", f"must be two numbers [start, end] in mm, got {shown(value)}")
     start, end = float(value[0]), float(value[1])
     if start == end:
         raise InputError(f"{key}.{name}", f"start and end are both {start:g}; a pass needs a length to feed along")
@@ -220,14 +249,15 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
         raise InputError(f"{key}.name", "must be a non-empty text such as \"finish OD\"")
     surface = table["surface"]
     if surface not in SURFACES:
-        raise InputError(f"{key}.surface", f'must be "od", "id" or "face", got {surface!r}')
+        raise InputError(f"{key}.surface", f'must be "od", "id" or "face", got {shown(surface)}')
     tool = table["tool"]
     if not isinstance(tool, str):
-        raise InputError(f"{key}.tool", f"must be the name of a [[tool]] in quotes, got {tool!r}")
+        raise InputError(f"{key}.tool", f"must be the name of a [[tool]] in quotes, got {shown(tool)}")
     if tool not in tools:
         defined = f"defined tools: {', '.join(tools)}" if tools else "no [[tool]] is defined"
         raise InputError(f"{key}.tool", f"no tool named {tool!r}; {defined}")
-    allowance = required_number(table, "allowance", key, "the stock the pass leaves over the finished contour, mm")
+    allowance = _within(required_number(table, "allowance", key, "the stock the pass leaves over the finished contour, mm"),
+                        MAX_COORDINATE_MM, f"{key}.allowance", "the stock the pass leaves in mm")
     if allowance < 0.0:
         raise InputError(f"{key}.allowance", f"must not be negative, got {allowance:g}; "
                                              "to cut below the finished contour use offset")
@@ -235,26 +265,37 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
     if feed <= 0.0:
         raise InputError(f"{key}.feed", f"must be more than 0 mm/rev, got {feed:g} (zero feed: the tool "
                                         "would never advance); give e.g. feed = 0.1")
+    if feed < MIN_FEED_MM:
+        raise InputError(f"{key}.feed", f"{feed:g} mm/rev is finer than any turning feed (at least {MIN_FEED_MM:g} "
+                                        "mm/rev); give e.g. feed = 0.1")
     nose_mm = tools[tool].nose_radius_mm
     if feed >= 2.0 * nose_mm:
         # the nose-radius chip (and the cusp it leaves) needs the feed inside the nose: f < 2 r
         raise InputError(f"{key}.feed", f"{feed:g} mm/rev is not smaller than twice the nose radius of {tool!r} "
                                         f"({nose_mm:g} mm): the nose would not reach the last cut's surface; "
                                         f"give a feed below {2.0 * nose_mm:g}")
-    speed = _positive(table, "speed", key, "the cutting speed in m/min, e.g. speed = 200.0")
+    speed = _within(_positive(table, "speed", key, "the cutting speed in m/min, e.g. speed = 200.0"), MAX_SPEED_M_MIN,
+                    f"{key}.speed", "the cutting speed in m/min, e.g. speed = 200.0")
+    if speed < MIN_SPEED_M_MIN:
+        raise InputError(f"{key}.speed", f"{speed:g} m/min is slower than any edge cuts (at least "
+                                         f"{MIN_SPEED_M_MIN:g} m/min); give e.g. speed = 200.0")
     start, end = _extent(table, surface, key)
     depth = None
     if "depth" in table:
-        depth = required_number(table, "depth", key, "the most depth per cut, mm")
+        depth = _within(required_number(table, "depth", key, "the most depth per cut, mm"), MAX_COORDINATE_MM,
+                        f"{key}.depth", "the most depth per cut in mm")
         if depth <= 0.0:
             raise InputError(f"{key}.depth", f"must be more than 0 mm, got {depth:g}; "
                                              "leave depth out to take the stock in one cut")
     spring = table.get("spring", 0)
     if isinstance(spring, bool) or not isinstance(spring, int) or spring < 0:
         raise InputError(f"{key}.spring", f"must be a whole number 0 or more (extra cuts over the same target), "
-                                          f"got {spring!r}")
-    offset = required_number(table, "offset", key, "the wear offset along the outward normal, mm") \
-        if "offset" in table else 0.0
+                                          f"got {shown(spring)}")
+    if spring > MAX_SPRING_CUTS:
+        raise InputError(f"{key}.spring", f"{shown(spring)} spring cuts: deflect simulates at most {MAX_SPRING_CUTS} "
+                                          "(one or two take what the wall gave back; more take nothing more)")
+    offset = _within(required_number(table, "offset", key, "the wear offset along the outward normal, mm"), MAX_COORDINATE_MM,
+                     f"{key}.offset", "the wear offset in mm") if "offset" in table else 0.0
     compensation = _compensation(table["compensate"], surface, f"{key}.compensate") if "compensate" in table else ()
     return Pass(name=name.strip(), surface=surface, tool=tool, allowance_mm=allowance, feed_mm=feed,
                 speed_m_min=speed, start_mm=start, end_mm=end, depth_mm=depth, spring=spring, offset_mm=offset,
@@ -296,6 +337,21 @@ def _check_extent(p: Pass, stock_rz: np.ndarray, nominal_rz: np.ndarray) -> None
                                                 f"over {what}")
 
 
+def _clipped(p: Pass, stock_rz: np.ndarray, nominal_rz: np.ndarray, warnings: list[str]) -> Pass:
+    """The pass with its extent cut back to APPROACH_MM beyond the stock and the part (a warning says so): past
+    them the tool only feeds through air, and an extent of a million mm would be walked 0.1 mm at a time."""
+    (stock_lo, stock_hi), (part_lo, part_hi) = _span(stock_rz, p.surface), _span(nominal_rz, p.surface)
+    lo, hi = min(stock_lo, part_lo) - APPROACH_MM, max(stock_hi, part_hi) + APPROACH_MM
+    start, end = min(max(p.start_mm, lo), hi), min(max(p.end_mm, lo), hi)
+    if (start, end) == (p.start_mm, p.end_mm):
+        return p
+    axis = _extent_name(p.surface)
+    warnings.append(f"{p.key}.{axis}: [{p.start_mm:g}, {p.end_mm:g}] runs more than {APPROACH_MM:g} mm beyond the "
+                    f"stock and the part; simulated from {start:g} to {end:g} (the cycle time leaves out the rest, "
+                    "fed through air)")
+    return replace(p, start_mm=start, end_mm=end)
+
+
 # ---------------------------------------------------------------------------------------------------
 # machine
 
@@ -310,6 +366,11 @@ def _machine_from_job(tables: dict, warnings: list[str]) -> Machine:
     for name in MACHINE_KEYS:
         if name in table:
             values[name] = _positive(table, name, "machine", f"the lathe's {name} in {MACHINE_UNITS[name]}")
+            if name == "max_rpm":
+                _within(values[name], MAX_RPM, "machine.max_rpm", "the lathe's spindle limit in /min")
+                if values[name] < MIN_RPM:
+                    raise InputError("machine.max_rpm", f"{values[name]:g} /min: a spindle turns at least "
+                                                        f"{MIN_RPM:g} /min; give the lathe's spindle limit")
         else:
             values[name] = DEFAULT_MACHINE[name]
             warnings.append(f"machine.{name}: not given; assumed {DEFAULT_MACHINE[name]:g} {MACHINE_UNITS[name]}")
@@ -331,6 +392,7 @@ def read_process(job) -> Process:
         raise InputError("pass", "missing; a machining job needs at least one [[pass]] with name, surface, tool, "
                                  "allowance, feed, speed and its extent")
     passes: list[Pass] = []
+    warnings: list[str] = []
     for i, table in enumerate(tables["pass"]):
         p = _pass_from_job(table, i, tools)
         clash = next((q for q in passes if q.name == p.name), None)
@@ -338,8 +400,7 @@ def read_process(job) -> Process:
             raise InputError(f"{p.key}.name", f"{p.name!r} already names {clash.key}; give each pass its own name "
                                               "(the report and the remedies refer to passes by name)")
         _check_extent(p, stock_rz, nominal_rz)
-        passes.append(p)
-    warnings: list[str] = []
+        passes.append(_clipped(p, stock_rz, nominal_rz, warnings))
     machine = _machine_from_job(tables, warnings)
     tolerance = dict(check_table(tables.get("tolerance", {}), "tolerance"))
     calibration = getattr(job, "calibration", None)     # a Job has one (None without); a bare section may not

@@ -16,7 +16,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from deflect.errors import InputError
+from deflect.errors import InputError, shown
 from deflect.geometry.boxes import HeldBox
 from deflect.geometry.section import Section, section_from_outline, unit_size_warning
 from deflect.job.calibration import Calibration, read_calibration, with_calibration
@@ -142,7 +142,7 @@ def parse_job(data: dict, path: str, calibrated: bool = True) -> Job:
         raise InputError("job.title", "must be text in quotes")
     units = job_table.get("units", "mm")
     if units not in ("mm", "inch"):
-        raise InputError("job.units", f'must be "mm" or "inch", got {units!r}')
+        raise InputError("job.units", f'must be "mm" or "inch", got {shown(units)}')
     factor = MM_PER_INCH if units == "inch" else 1.0
 
     if "material" not in data:
@@ -217,7 +217,7 @@ def read_job(path: str | Path, calibrated: bool = True) -> Job:
     """Read and check a job file; every problem is an InputError naming this file. calibrated False leaves
     out its `[job] calibration`."""
     path = str(path)
-    data = read_toml(path)
+    data = read_toml(path, "job file")
     try:
         return parse_job(data, path, calibrated)
     except InputError as exc:

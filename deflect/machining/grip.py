@@ -51,14 +51,14 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from deflect.errors import InputError
+from deflect.errors import InputError, keyed
 from deflect.geometry.section import POLYGON_CHORD_MM
 from deflect.job.calibration import grip_factor_of
 from deflect.job.fits import tolerance_from_table
 from deflect.job.holding import Contact, Holding, contact_of, holding_from_table, surface_points
 from deflect.machining.simulate import CYLINDER_COS, laid_out, met_depth
 from deflect.mechanics.chuck import centrifugal_force_n, friction_demand_n, grip_in_cut_n, least_static_grip_n
-from deflect.mechanics.clamping import GripModel, Squeeze
+from deflect.mechanics.clamping import GripModel, Squeeze, check_squeeze_is_elastic, grip_strength_warning
 from deflect.mechanics.cutting import cutting_forces, spindle_speed_rpm
 
 HOLD_STATION_MM = 0.5        # station spacing along a cut for the grip it needs (the force changes slowly)
@@ -105,8 +105,10 @@ def cut_loads(job, process, spacing_mm: float = HOLD_STATION_MM, memo: dict | No
         into = {"od": 1.0, "id": -1.0, "face": 0.0}[p.surface]   # the chip lies outside the target along r
         pieces = []
         for path, current in zip(paths[i], parts[i]):
-            depth = np.atleast_1d(met_depth(current, path, p))
-            forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min, force_scale=p.force_factor)
+            with keyed(p.key):
+                depth = np.atleast_1d(met_depth(current, path, p))
+                forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min,
+                                         force_scale=p.force_factor)
             r = path.points_rz[:, 0] + 0.5 * into * depth
             rpm = np.atleast_1d(spindle_speed_rpm(p.speed_m_min, 2.0 * np.maximum(r, 0.0), process.machine.max_rpm))
             axial = forces.passive_n if p.surface == "face" else forces.feed_n
@@ -340,9 +342,11 @@ class _Setup:
         limits = form_limits(self.tolerance, surfaces)
         most, limiting, limited_by = _most_grip(squeeze, limits, centrifugal, holding.grip)
         demand = hold_demand(self.loads if loads is None else loads, holding, contact)
+        size_change = -2.0 * in_cut * squeeze.mean_mm_per_n * surfaces.normals[:, 0]
+        roundness = in_cut * squeeze.roundness_mm_per_n
+        check_squeeze_is_elastic(holding, contact, float(np.max(0.5 * np.abs(size_change) + roundness, initial=0.0)))
         return Clamped(holding=holding, contact=contact, surfaces=surfaces, squeeze=squeeze, grip_in_cut_n=in_cut,
-                       size_change_mm=-2.0 * in_cut * squeeze.mean_mm_per_n * surfaces.normals[:, 0],
-                       roundness_mm=in_cut * squeeze.roundness_mm_per_n, limits=limits, demand=demand,
+                       size_change_mm=size_change, roundness_mm=roundness, limits=limits, demand=demand,
                        most_for_roundness_n=most, limiting=limiting, limited_by=limited_by)
 
 
@@ -530,6 +534,9 @@ def clamp_study(job) -> ClampStudy:
                                     "jaw_mass, jaw_radius and safety")
     holding = holding_from_table(job.tables["holding"])
     notes = list(holding.notes)
+    strength = grip_strength_warning(job, holding)
+    if strength:
+        notes.append(strength)
     process = None
     if job.tables.get("pass"):
         process = process_from_job(job)

@@ -35,7 +35,7 @@ from shapely.geometry import LineString, Polygon
 from shapely.geometry.polygon import orient
 from shapely.ops import nearest_points
 
-from deflect.errors import ModelError
+from deflect.errors import InputError, ModelError
 from deflect.geometry.section import POLYGON_CHORD_MM, Section
 from deflect.job.process import SURFACES, Pass
 from deflect.job.tooling import Tool
@@ -62,6 +62,10 @@ _REL_TOL = 1e-9
 _CORNER_RAD = 1e-6
 # Most entries of the (slabs x edges) and (rays x edges) work arrays handled at once.
 _WORK_ENTRIES = 2_000_000
+# Most cuts one pass makes (roughing steps, the finishing cut and its spring cuts): each cut costs shell models of
+# its own (a tenth of a second or so), and a real roughing pass takes its stock in a few dozen cuts at most
+# (40 mm of radial stock at 1 mm a cut); `depth = 1e-9` would otherwise ask for billions (README, limits).
+MAX_CUTS_PER_PASS = 100
 
 
 @dataclass(frozen=True, eq=False)
@@ -163,6 +167,8 @@ def _quad_segs(distance_mm: float) -> int:
     if abs(distance_mm) <= BUFFER_CHORD_MM:
         return _MIN_QUAD_SEGS
     half_angle = math.acos(1.0 - BUFFER_CHORD_MM / abs(distance_mm))
+    if half_angle == 0.0:          # an offset so large that the chord error rounds away: the finest allowed
+        return _MAX_QUAD_SEGS
     return int(min(_MAX_QUAD_SEGS, max(_MIN_QUAD_SEGS, math.ceil(math.pi / (4.0 * half_angle)))))
 
 
@@ -486,6 +492,11 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
             along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
             deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
             n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
+            if n_cuts + p.spring > MAX_CUTS_PER_PASS:
+                raise InputError(f"{p.key}.depth", f"{p.depth_mm:g} mm a cut takes the {deepest:.4g} mm of stock in "
+                                                   f"{n_cuts:.3g} cuts; deflect simulates at most {MAX_CUTS_PER_PASS} "
+                                                   f"cuts a pass: give a depth of at least "
+                                                   f"{deepest / (MAX_CUTS_PER_PASS - p.spring):.3g} mm")
             for k in range(1, n_cuts):
                 shift = (n_cuts - k) * deepest / n_cuts * in_feed
                 # a bore's roughing steps move towards the axis: a floor run to the centre slides past it

@@ -41,10 +41,10 @@ from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
 from threadpoolctl import threadpool_limits
 
-from deflect.errors import InputError, ModelError
+from deflect.errors import InputError, ModelError, keyed
 from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_properties
 from deflect.job.calibration import grip_factor_of
-from deflect.job.holding import holding_from_table
+from deflect.job.holding import contact_of, holding_from_table
 from deflect.job.process import Pass, Process
 from deflect.machining.inprocess import (
     CutPath,
@@ -55,11 +55,12 @@ from deflect.machining.inprocess import (
     polygon_mass,
     remove,
 )
+from deflect.machining.insert_edge import edge_problems, edge_warnings
 from deflect.machining.leftover import corners_left, covered, finishing_targets, reach_left
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
 from deflect.machining.toolshape import tool_shape
 from deflect.mechanics.chuck import centrifugal_force_n, grip_in_cut_n
-from deflect.mechanics.clamping import released_deviation
+from deflect.mechanics.clamping import check_squeeze_is_elastic, grip_strength_warning, released_deviation
 from deflect.mechanics.compliance import Patch, WallModel
 from deflect.mechanics.cutting import cutting_forces, cutting_time_s, spindle_speed_rpm
 
@@ -88,6 +89,10 @@ ROOT_TOLERANCE = 1e-13          # relative residual the root search stops at
 FACING_DEG = 30.0               # a finished point faces the cut surface within this angle of its station's normal
 CYLINDER_COS = 0.999            # a finished od or bore point counts as cylindrical within 2.6 degrees of radial
 EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
+MAX_CUTS_PER_JOB = 200          # cuts of all passes together (README, limits): each costs shell models (150 cuts
+                                # of the demo housing took 70 s of CPU here); a real job has a few dozen
+MAX_STATIONS_PER_JOB = 2_000_000   # tool positions of all cuts together (one every 0.1 mm; README, limits): the
+                                   # station tables of 2 million take about 1 GB
 
 
 @dataclass(frozen=True)
@@ -258,19 +263,31 @@ def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: 
     point tool, the drawn contour itself). Kept in memo by the part before the pass, the pass's geometry and
     its tool's shape (feed and speed do not change where a pass cuts)."""
     paths, parts, current = {}, {}, process.stock_rz
+    cuts_so_far = stations_so_far = 0
     for i, p in enumerate(process.passes):
         tool = process.tools[p.tool] if tool_shapes else None
         shape = tool_shape(tool, p.surface) if tool is not None else None
         name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
                 p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring, shape)
         if name not in memo:
-            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm, tool), []
-            after = current
-            for path in cuts:
-                befores.append(after)
-                after = cut_to_target(after, path, p)
+            with keyed(p.key):
+                cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm, tool), []
+                after = current
+                for path in cuts:
+                    befores.append(after)
+                    after = cut_to_target(after, path, p)
             memo[name] = (cuts, befores, after)
         paths[i], parts[i], current = memo[name]
+        cuts_so_far += len(paths[i])
+        stations_so_far += sum(len(path.points_rz) for path in paths[i])
+        if cuts_so_far > MAX_CUTS_PER_JOB:
+            raise InputError(f"{p.key}.depth", f"with this pass the job makes {cuts_so_far} cuts; deflect simulates at "
+                                               f"most {MAX_CUTS_PER_JOB} a job: take the stock in fewer, deeper cuts")
+        if stations_so_far > MAX_STATIONS_PER_JOB:
+            raise InputError(f"{p.key}.{'r' if p.surface == 'face' else 'z'}",
+                             f"with this pass the job's cuts add up to {stations_so_far:,} tool positions (one every "
+                             f"{spacing_mm:g} mm); deflect simulates at most {MAX_STATIONS_PER_JOB:,}: use fewer cuts "
+                             "or shorter extents")
     return paths, parts
 
 
@@ -309,7 +326,8 @@ def compliance_along_cuts(job, process: Process, paths: dict, parts: dict, setti
             current = parts[i][j]
             placed = ("keys", current.tobytes(), path.points_rz.tobytes(), p.surface, settings)
             if placed not in memo:
-                met = met_depth(current, path, p)
+                with keyed(p.key):
+                    met = met_depth(current, path, p)
                 if not (met > 0.0).any() and cut_before is not None and cut_before[0] is path:
                     # a spring cut meets only the micrometres the cut before left, not there on the part cut
                     # exactly to the target: its keys go where that cut cut (its compliance is the finished
@@ -433,6 +451,9 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
     depth = bracketed_root(lambda a: a + push_off(a)[0] - met_depth_mm, np.zeros_like(met_depth_mm),
                            2.0 * met_depth_mm, ROOT_TOLERANCE * np.maximum(met_depth_mm, 1e-3))
     delta, forces = push_off(depth)
+    if not (np.isfinite(depth).all() and np.isfinite(delta).all()):
+        raise ModelError(f"pass '{p.name}': the push-off cannot be balanced with the chip (the set-up gives way "
+                         "without bound); check the tool's bar and the material's modulus", key=p.key)
     unbalanced = np.abs(depth + delta - met_depth_mm) > EQUILIBRIUM_TOLERANCE * np.maximum(met_depth_mm, 1e-3)
     if unbalanced.any():
         # delta fell with depth so fast that no depth in [0, 2 a_met] balances: the feed force pulls the wall
@@ -509,16 +530,17 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
         for j, path in enumerate(plan[i]):
             # the spread runs reuse the nominal run's met depth: the part differs only by the earlier passes'
             # push-off (micrometres on tenths), which moves this cut's push-off far less than the spread does
-            if ("met", i, j) not in plan:
-                met_name = ("met", current.tobytes(), path.points_rz.tobytes(), p.surface)
-                if met_name not in memo:
-                    memo[met_name] = met_depth(current, path, p)
-                plan[("met", i, j)] = memo[met_name]
-            met = plan[("met", i, j)]
-            name = ("cut", current.tobytes(), path.points_rz.tobytes(), replace(p, key=""), j, force_scale,
-                    plan[(i, j)].tobytes(), met.tobytes(), job.material)
-            if name not in memo:
-                memo[name] = run_cut(job, process, p, path, current, plan[(i, j)], met, force_scale, j)
+            with keyed(p.key):
+                if ("met", i, j) not in plan:
+                    met_name = ("met", current.tobytes(), path.points_rz.tobytes(), p.surface)
+                    if met_name not in memo:
+                        memo[met_name] = met_depth(current, path, p)
+                    plan[("met", i, j)] = memo[met_name]
+                met = plan[("met", i, j)]
+                name = ("cut", current.tobytes(), path.points_rz.tobytes(), replace(p, key=""), j, force_scale,
+                        plan[(i, j)].tobytes(), met.tobytes(), job.material)
+                if name not in memo:
+                    memo[name] = run_cut(job, process, p, path, current, plan[(i, j)], met, force_scale, j)
             table, current = memo[name]
             tables.append(table)
             if progress:
@@ -566,6 +588,8 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     released[machined] = squeeze * per_newton.mean_mm
     for name, field_name in FORM_FIELDS.items():
         form[name][machined] = squeeze * getattr(per_newton, field_name)
+    check_squeeze_is_elastic(holding, contact_of(job.section, holding),
+                             float(np.max(np.abs(released) + form["roundness_mm"])))
     return released, form, per_newton.lobes
 
 
@@ -600,7 +624,8 @@ def faces_cut_below(process: Process, per_pass: list[list[StationTable]], raw: D
 
 
 def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
-    return float(sum(cutting_time_s(t.r_mm, t.z_mm, p.feed_mm, p.speed_m_min, max_rpm) for t in tables))
+    with keyed(p.key):
+        return float(sum(cutting_time_s(t.r_mm, t.z_mm, p.feed_mm, p.speed_m_min, max_rpm) for t in tables))
 
 
 def finished_by(deviation, process: Process, per_pass: list[list[StationTable]]) -> tuple[list[str], list[str]]:
@@ -713,6 +738,9 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     memo: key-station compliances shared between variants of one job (see `plan_compliance`).
     with_ranges: False skips the runs at 1 -/+ spread (every range then equals its value), for searches."""
     material = job.material
+    # a grip that would crush the part is refused before any work; one that may mark it is a warning
+    grip_warning = grip_strength_warning(job, holding_from_table(job.tables["holding"])) \
+        if "holding" in job.tables else None
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
     memo = {} if memo is None else memo
     plan = plan_compliance(job, process, settings, nominal_rz, memo)
@@ -763,9 +791,10 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
         by_surface["reach"] = float(sum(piece.mass_g for piece in reach))
     checks = surface_checks(deviation, material.density_g_cm3)
     peak_power = max((p.peak_power_kw for p in passes), default=0.0)
-    warnings = list(process.warnings)
+    warnings = list(process.warnings) + ([grip_warning] if grip_warning else [])
     if peak_power > process.machine.power_kw:
         warnings.append(f"peak cutting power {peak_power:.2f} kW exceeds the machine's {process.machine.power_kw:g} kW")
+    warnings += edge_warnings(edge_problems(process, passes))
     warnings += faces_cut_below(process, per_pass, raw, names)
     rubbing = sum(int(t.rubbing.sum()) for tables in per_pass for t in tables)
     if rubbing:

@@ -1,8 +1,13 @@
-"""Jaw chuck formulas: the jaws' centrifugal force, the torque a grip holds, the grip a cut needs.
+"""Jaw chuck formulas: the jaws' centrifugal force, the torque a grip holds, the grip a cut needs, and the
+stress the grip puts in the gripped ring.
 
-Takes forces [N], speeds [1/min], masses [kg] and radii; gives forces [N] and torques. Jaw chuck practice as
-quoted from VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern (Backenfutter)" in
-chuck makers' operating manuals (seen second-hand, not in the guideline's own text); `deflect.machining.grip` explains how they combine into the grip window.
+Takes forces [N], speeds [1/min], masses [kg] and radii; gives forces [N], torques and stresses [MPa]. Jaw
+chuck practice as quoted from VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern
+(Backenfutter)" in chuck makers' operating manuals (seen second-hand, not in the guideline's own text);
+`deflect.machining.grip` explains how they combine into the grip window. The ring under N equal jaws: thin-ring
+theory (bending energy, Castigliano), as in W. C. Young, R. G. Budynas, *Roark's Formulas for Stress and
+Strain*, 7th ed. (2002), Table 9.2 (ring under equal radial loads), and S. P. Timoshenko, *Strength of
+Materials*, part I, thin curved rings.
 """
 
 from __future__ import annotations
@@ -42,3 +47,25 @@ def grip_in_cut_n(force_n: float, centrifugal_n, grip: str):
     return force_n + np.asarray(centrifugal_n, dtype=float)
 
 
+
+
+def ring_stress_under_jaws_mpa(force_n: float, jaws: int, mean_radius_mm: float, wall_mm: float,
+                               length_mm: float) -> float:
+    """The largest stress in a thin ring of the gripped length under `jaws` equal radial point loads [MPa].
+
+    Under a load the bending moment is M_A = (P R / 2)(1 / a - cot a) and the hoop force N_A = P / (2 tan a),
+    a = pi / N, P = F / N (Roark, Table 9.2; M_A / (P R) = 0.18879 for N = 3); the fibre stress is
+    6 M_A / (b t^2) + N_A / (b t) for a ring b long and t thick. Point loads on a ring only as long as the
+    contact: an upper bound of the stress of a jaw spread over its width on a wall that carries on beyond it.
+    """
+    alpha = math.pi / jaws
+    load_n = force_n / jaws
+    moment = 0.5 * load_n * mean_radius_mm * (1.0 / alpha - 1.0 / math.tan(alpha))
+    hoop = load_n / (2.0 * math.tan(alpha))
+    return 6.0 * moment / (length_mm * wall_mm ** 2) + hoop / (length_mm * wall_mm)
+
+
+def ring_stress_all_round_mpa(force_n: float, wall_mm: float, length_mm: float) -> float:
+    """Hoop stress of a ring under a uniform grip all round (a collet or mandrel) [MPa]: the pressure
+    p = F / (2 pi R b) gives p R / t = F / (2 pi b t) (thin ring, Timoshenko)."""
+    return force_n / (2.0 * math.pi * length_mm * wall_mm)

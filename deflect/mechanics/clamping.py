@@ -49,6 +49,7 @@ import numpy as np
 from deflect.errors import ModelError
 from deflect.geometry.section import Section
 from deflect.job.holding import Contact, Holding, contact_of
+from deflect.mechanics.chuck import ring_stress_all_round_mpa, ring_stress_under_jaws_mpa
 from deflect.mechanics.compliance import Patch, element_size_mm
 from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, patch_factor
 from deflect.mechanics.shell.mesh import DOFS_PER_NODE
@@ -220,7 +221,8 @@ def squeeze_series(solve, operator: np.ndarray, jaws: int, half_angle_rad: float
         if in_a_row >= CONVERGED_IN_A_ROW:
             return Squeeze(harmonics=np.array(harmonics), amplitudes_mm_per_n=np.array(terms), jaws=jaws)
     raise ModelError(f"the harmonic sum of the squeeze in the chuck did not converge to {tolerance:g} by "
-                     f"n = {MAX_HARMONIC}: the jaws' contact is too narrow for the model; give the real width")
+                     f"n = {MAX_HARMONIC}: the jaws' contact is too narrow for the model; give the real width",
+                     key="holding.width")
 
 
 class GripModel:
@@ -278,6 +280,57 @@ class GripModel:
         """The grip of `holding` (jaws, width) on this contact, at the given boundary points."""
         half_angle = 0.0 if holding.all_round else holding.width_mm / (2.0 * self.contact.radius_mm)
         return squeeze_series(self.solve, self.operator(points_rz, normals), holding.jaws, half_angle, tolerance)
+
+
+def grip_strength_warning(job, holding: Holding, contact: Contact | None = None) -> str | None:
+    """The gripped wall against the material's yield strength, as a ring under the jaws (`chuck.
+    ring_stress_under_jaws_mpa`) or under a pressure all round (`chuck.ring_stress_all_round_mpa`), of the
+    contact's mean wall:
+    * ModelError (holding.force) when even the whole length of the part, carrying the grip as one ring, would
+      be stressed past the yield strength (a lower bound of the stress): the part would be crushed, not held,
+      and the linear squeeze of this module would mean nothing;
+    * a warning (returned) when the ring only as long as the contact is (an upper bound: the wall beyond it
+      helps) is stressed past it: the part may take a permanent set under the jaws;
+    * None otherwise, and when the material has no yield strength (given inline without one)."""
+    strength = job.material.yield_strength_mpa
+    if strength is None:
+        return None
+    contact = contact or contact_of(job.section, holding)
+    _, _, z_min, z_max = job.section.bounds()
+    wall = contact.wall_mm
+    mean_radius = contact.radius_mm + (-0.5 if contact.grip == "od" else 0.5) * wall
+
+    def stress(length_mm: float) -> float:
+        if holding.all_round:
+            return ring_stress_all_round_mpa(holding.force_n, wall, length_mm)
+        return ring_stress_under_jaws_mpa(holding.force_n, holding.jaws, mean_radius, wall, length_mm)
+
+    how = f"the {holding.kind}'s pressure all round" if holding.all_round else f"{holding.jaws} jaws bending it"
+    least, most = stress(max(z_max - z_min, contact.length_mm)), stress(max(contact.length_mm, 1e-9))
+    if least > strength:
+        raise ModelError(f"a grip of {holding.force_n:.4g} N would stress the gripped wall ({wall:.3g} mm) to at "
+                         f"least {least:.4g} MPa ({how} as a ring, even spread over the part's whole length), over "
+                         f"the yield strength of {job.material.name} ({strength:g} MPa): it would crush the part, "
+                         f"not hold it; give a grip well under {holding.force_n * strength / least:.4g} N (the chuck "
+                         "maker's limits come first)", key="holding.force")
+    if most > strength:
+        return (f"holding.force: a grip of {holding.force_n:.4g} N may stress the gripped wall up to {most:.4g} MPa "
+                f"({how} as a ring as long as the contact, {contact.length_mm:.3g} mm), over the yield strength of "
+                f"{job.material.name} ({strength:g} MPa): the part may take a permanent set under the jaws, which "
+                f"the predictions do not include; a grip under {holding.force_n * strength / most:.4g} N stays "
+                "clear of it")
+    return None
+
+
+def check_squeeze_is_elastic(holding: Holding, contact: Contact, squeeze_mm: float) -> None:
+    """ModelError (holding.force) when the grip squeezes the part by its gripped wall's thickness or more: no
+    elastic wall does that (whatever the material's strength, given or not), and a linear model taken there
+    would print sizes that mean nothing (a negative diameter, say)."""
+    if squeeze_mm >= contact.wall_mm:
+        raise ModelError(f"a grip of {holding.force_n:.4g} N would squeeze the part by {squeeze_mm:.4g} mm, as much "
+                         f"as the gripped wall is thick ({contact.wall_mm:.3g} mm): far beyond what the wall takes "
+                         "elastically; give a grip force the part can take (the chuck maker's limits come first)",
+                         key="holding.force")
 
 
 def released_deviation(job, holding: Holding, points_rz: np.ndarray, normals: np.ndarray,

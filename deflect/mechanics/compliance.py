@@ -86,6 +86,10 @@ class WallModel:
         is (`half_angle_rad`).
         element_mm: meridian element length; by default `element_size_mm(section, patch)`."""
         check_patch(patch)
+        if patch.length_mm > section.perimeter() / 2.0:
+            # no face is that long; and the walk along a face must end (a section without corners has none)
+            raise InputError("--patch", f"the patch is {patch.length_mm:g} mm long, more than half the section's "
+                                        f"boundary ({section.perimeter() / 2.0:.4g} mm); give a shorter patch")
         self.strict_patch = strict_patch
         self.section = section
         self.patch = patch
@@ -225,4 +229,7 @@ class WallModel:
             except InputError:
                 continue   # a face shorter than the patch (a thin rim face): no value there
             arclengths.append(float(s))
+        if not placed:
+            raise InputError("--patch", f"a patch of {self.patch.length_mm:g} by {self.patch.width_mm:g} mm fits no "
+                                        "face of the part; give a smaller patch")
         return self.solve(placed, arclengths)

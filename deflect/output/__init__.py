@@ -18,7 +18,6 @@
     html_report.py     the self-contained HTML report (template in templates/report.html)
     html_chapters.py   what each command puts into the HTML report
     remedy_job.py      a job file with a tune option's changes written in, comments and layout kept
-    atomic.py          output files written whole, never over a file deflect did not write
 
 No physics is computed here. May import every room below; only `deflect.cli` imports this room.
 """

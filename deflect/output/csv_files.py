@@ -26,6 +26,7 @@ DEVIATION_COLUMNS = ["r_mm", "z_mm", "nr", "nz", "material_left_mm", "surface", 
 PASS_COLUMNS = ["pass", "surface", "tool", "cuts", "feed_mm_per_rev", "speed_m_min", "max_push_off_mm",
                 "peak_passive_force_N", "peak_power_kW", "cycle_time_s", "mass_left_g", "rubbing_stations"]
 SECTION_COLUMNS = ["r_mm", "z_mm"]
+FILES = ("stations.csv", "deviation.csv", "passes.csv", "machined_section.csv")   # as `write_csv` writes them
 
 
 def number(value) -> str:
@@ -91,10 +92,11 @@ def write_csv(pred: Prediction, folder, key: str = "--csv") -> list[Path]:
     out = output_folder(folder, key)
     section = ([number(r), number(z)] for r, z in pred.machined_rz)
     try:
-        return [write_table(out / "stations.csv", STATION_COLUMNS, station_rows(pred.passes)),
-                write_table(out / "deviation.csv", DEVIATION_COLUMNS, deviation_rows(pred)),
-                write_table(out / "passes.csv", PASS_COLUMNS, pass_rows(pred.passes)),
-                write_table(out / "machined_section.csv", SECTION_COLUMNS, section)]
+        stations, deviation, passes, machined = FILES
+        return [write_table(out / stations, STATION_COLUMNS, station_rows(pred.passes)),
+                write_table(out / deviation, DEVIATION_COLUMNS, deviation_rows(pred)),
+                write_table(out / passes, PASS_COLUMNS, pass_rows(pred.passes)),
+                write_table(out / machined, SECTION_COLUMNS, section)]
     except OSError as exc:
         raise InputError(key, f"cannot write into {str(out)!r} ({exc.strerror or exc}); "
                               "give a folder you may write to") from None

@@ -14,6 +14,8 @@ from pathlib import Path
 
 import numpy as np
 
+from deflect.errors import InputError
+
 DPI = 120
 
 
@@ -24,6 +26,29 @@ def _pyplot():
     import matplotlib.pyplot as plt
 
     return plt
+
+
+# Formats matplotlib lists but cannot write without more software (pgf needs a LaTeX installation).
+_NEEDS_MORE = ("pgf",)
+
+
+def figure_formats() -> list[str]:
+    """The file name endings a figure can be written with (matplotlib's own list, without those that need
+    more than matplotlib)."""
+    from matplotlib.backend_bases import FigureCanvasBase
+
+    return sorted(f for f in FigureCanvasBase.get_supported_filetypes() if f not in _NEEDS_MORE)
+
+
+def check_figure_name(path, key: str) -> None:
+    """InputError(key) when a figure cannot be written under that name (checked before any work): its ending
+    must be one of `figure_formats`, e.g. .png."""
+    suffix = Path(path).suffix.lower().lstrip(".")
+    formats = figure_formats()
+    if suffix not in formats:
+        given = f"ends in .{suffix}" if suffix else "has no ending"
+        raise InputError(key, f"{str(path)!r} {given}, which is not a figure format; give a name ending in "
+                              f"{', '.join('.' + f for f in formats)} (e.g. map.png)")
 
 
 def _save(plt, fig, path) -> None:
@@ -253,14 +278,17 @@ def passes_figure(pred):
     return fig
 
 
+PREDICT_FIGURES = ("section.png", "deviation.png", "passes.png")   # as `predict_plots` writes them
+
+
 def predict_plots(pred, folder, key: str = "--figures") -> list[Path]:
     """Write section.png, deviation.png and passes.png of a machining prediction into `folder` (created if
     missing; an InputError naming `key`, the option that gave it, when it cannot be)."""
     from deflect.output.csv_files import output_folder
 
     out = output_folder(folder, key)
-    return [section_plot(pred, out / "section.png"), deviation_plot(pred, out / "deviation.png"),
-            passes_plot(pred, out / "passes.png")]
+    section, deviation, passes = PREDICT_FIGURES
+    return [section_plot(pred, out / section), deviation_plot(pred, out / deviation), passes_plot(pred, out / passes)]
 
 
 # ---------------------------------------------------------------------------------------------------

@@ -10,6 +10,16 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from deflect.job.reader import MM_PER_INCH
+
+
+def units_note(units: str) -> str:
+    """The line an inch job's report opens with: its lengths are printed in mm ("" for a mm job)."""
+    if units != "inch":
+        return ""
+    return ("(an inch job: its lengths are printed in mm below, 1 in = 25.4 mm, feeds in mm/rev; cutting speeds "
+            "are m/min in either unit)\n")
+
 
 def table(rows: list[tuple[str, str]], title: str = "") -> str:
     """Two-column table: label left, value right-aligned."""
@@ -103,15 +113,19 @@ def section_table(title: str, props: dict) -> str:
     return table(rows, title=f"Section of the finished part: {title}")
 
 
-def compliance_table(title: str, points: list, mapped: bool) -> str:
-    """Compliance per point: normal, circumferential and along-boundary diagonal, and the stiffness."""
-    header = ["r mm", "z mm", "nr", "nz", "normal um/N", "circ. um/N", "along um/N", "stiffness N/um"]
+def compliance_table(title: str, points: list, mapped: bool, units: str = "mm") -> str:
+    """Compliance per point: normal, circumferential and along-boundary diagonal, and the stiffness. The points
+    are given in the job's units (as `--at` takes them); everything else is per newton in um."""
+    inch = units == "inch"
+    unit, factor, digits = ("in", MM_PER_INCH, 4) if inch else ("mm", 1.0, 3)
+    header = [f"r {unit}", f"z {unit}", "nr", "nz", "normal um/N", "circ. um/N", "along um/N", "stiffness N/um"]
     rows = []
     for p in points:
         c = p.matrix_mm_per_n
         stiffness = f"{1e-3 / c[0, 0]:.3g}" if c[0, 0] > 0 else "held"
-        rows.append([f"{p.r_mm:.3f}", f"{p.z_mm:.3f}", f"{p.nr:+.2f}", f"{p.nz:+.2f}",
+        rows.append([f"{p.r_mm / factor:.{digits}f}", f"{p.z_mm / factor:.{digits}f}", f"{p.nr:+.2f}", f"{p.nz:+.2f}",
                      f"{1e3 * c[0, 0]:.4g}", f"{1e3 * c[1, 1]:.4g}", f"{1e3 * c[2, 2]:.4g}", stiffness])
     what = "along the whole boundary" if mapped else "at the asked points"
     summed = f"(Fourier harmonics 0..{max(p.harmonics for p in points)} summed)" if points else ""
-    return f"Compliance of the held part {what}: {title} {summed}\n" + grid(header, rows)
+    where = "(an inch job: the points in inches, as --at takes them)\n" if inch else ""
+    return f"Compliance of the held part {what}: {title} {summed}\n" + where + grid(header, rows)

@@ -14,16 +14,29 @@ from deflect.output.predict_json import feature_record
 from deflect.output.predict_report import duration_text, feature_table
 from deflect.output.tables import Grid, Text, blocks_text, column_grid
 
-LENGTH_KEYS = ("feed", "allowance", "offset")
+LENGTH_KEYS = ("feed", "allowance", "offset", "depth")
 CAUTION = ("Caution: the options are predictions; prove a changed program out (dry run, single block) and measure "
            "the first part. The machine's and chuck maker's limits and your local safety rules come first.")
+
+
+INCH_DECIMALS = 4    # a machinist writes inches to the ten-thousandth (0.0031 in/rev, X -0.0012)
+
+
+def number_text(value: float, units: str, sign: bool = False) -> str:
+    """A length or feed as a machinist writes it: inches to four decimals without trailing zeros (0.0031, not
+    0.00314961), millimetres as given (an offset to four significant digits)."""
+    if units == "inch":
+        text = f"{value:+.{INCH_DECIMALS}f}" if sign else f"{value:.{INCH_DECIMALS}f}"
+        text = text.rstrip("0").rstrip(".") if "." in text else text
+        return "0" if text in ("+0", "-0", "") else text
+    return f"{value:+.4g}" if sign else f"{value:g}"
 
 
 def in_job_units(change: Change, units: str):
     """(from, to) of a change in the job's units."""
     factor = MM_PER_INCH if units == "inch" else 1.0
     if change.key in LENGTH_KEYS:
-        return change.before / factor, change.after / factor
+        return (None if change.before is None else change.before / factor), change.after / factor
     if change.key == "compensate":
         return None, [[z / factor, c / factor] for z, c in change.after]
     if change.key == "order":
@@ -37,9 +50,13 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     before, after = in_job_units(change, units)
     name = change.pass_name
     if change.key == "feed":
-        return f"{name}: feed {before:g} -> {after:g} {unit}/rev"
+        return f"{name}: feed {number_text(before, units)} -> {number_text(after, units)} {unit}/rev"
     if change.key == "allowance":
-        return f"{name}: leave {after:g} {unit} a side for the finish pass (was {before:g})"
+        return (f"{name}: leave {number_text(after, units)} {unit} a side for the finish pass "
+                f"(was {number_text(before, units)})")
+    if change.key == "depth":
+        was = "in one cut" if before is None else f"up to {number_text(before, units)} {unit}"
+        return f"{name}: take the stock in cuts of at most {number_text(after, units)} {unit} (was {was})"
     if change.key == "spring":
         count = {0: "no spring cut", 1: "one spring cut", 2: "two spring cuts"}.get(after, f"{after} spring cuts")
         return f"{name}: {count}"
@@ -51,7 +68,8 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
         return f"{name}: {offset_words(after, surface_of.get(name, 'od'), units)}"
     if change.key == "compensate":
         most = max((c for _, c in after), key=abs)
-        return f"{name}: program the compensated contour (push-off taken out, up to {most:+.4g} {unit} a side)"
+        return (f"{name}: program the compensated contour (push-off taken out, up to "
+                f"{number_text(most, units, sign=True)} {unit} a side)")
     if change.key == "order":
         swapped = [n for n, m in zip(after, before) if n != m]
         if len(swapped) == 2 and {surface_of.get(n) for n in swapped} == {"od", "id"}:
@@ -83,6 +101,9 @@ def offset_words(offset: float, surface: str, units: str) -> str:
 
 
 def signed(value: float, units: str) -> str:
+    """The value keyed into the control: inches as a machinist writes them (`number_text`), mm to the um."""
+    if units == "inch":
+        return number_text(value, units, sign=True)
     return ("+" if value >= 0.0 else "") + job_number(value, units)
 
 
@@ -185,7 +206,7 @@ def tune_blocks(result: TuneResult, surface_of: dict, units: str, walls=None,
 def change_unit(key: str, units: str) -> str | None:
     """The unit `from` and `to` of a change are in (None: a count, a name, an order)."""
     length = "in" if units == "inch" else "mm"
-    return {"feed": f"{length}/rev", "allowance": length, "offset": length, "compensate": length,
+    return {"feed": f"{length}/rev", "allowance": length, "offset": length, "compensate": length, "depth": length,
             "speed": "m/min"}.get(key)
 
 

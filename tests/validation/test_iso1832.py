@@ -10,6 +10,8 @@ T3 = 3.97 mm), corner radius in tenths of a millimetre, optional edge condition 
 then a maker's chip-breaker code that is not standardised.
 """
 
+import math
+
 import pytest
 
 from deflect.errors import InputError
@@ -86,7 +88,9 @@ def test_optional_edge_condition_and_hand():
     [
         "",            # nothing
         "CNMG12040",   # corner code cut short
-        "CNMG432",     # inch designation (not read)
+        "CNMG43",      # an inch designation without its corner radius code
+        "CCMT09T3\uff104",  # a full-width digit is not a digit of the code
+        "CNMG000408",  # size 00: an insert under 1 mm
         "ZNMG120408",  # no shape Z
         "CZMG120408",  # no clearance Z
         "CNZG120408",  # no tolerance class Z
@@ -106,3 +110,32 @@ def test_malformed_codes_raise_input_error(text):
 def test_non_text_code():
     with pytest.raises(InputError, match="text string"):
         parse_iso1832(120408)
+
+
+@pytest.mark.parametrize("text, limit_mm", [("CCMT09T399", 9.525 / 2), ("CNMG120464", 12.7 / 2),
+                                            ("VCMT160450", 9.525 / 2)])
+def test_corner_radius_must_fit_the_insert(text, limit_mm):
+    """A corner radius of half the inscribed circle or more is no corner of a rhombic or triangular insert: the
+    arc would be the inscribed circle itself. The inscribed circles are those the size codes stand for
+    (C 09: 3/8 in, C 12 and the others: 1/2 in and 3/8 in), the edge length l = d / sin(corner) for a rhombus,
+    d sqrt(3) for a triangle (plane geometry)."""
+    with pytest.raises(InputError, match="does not fit") as error:
+        parse_iso1832(text, key="tool[0].insert")
+    assert error.value.key == "tool[0].insert"
+    assert f"{limit_mm:.3g}" in error.value.message
+
+
+def test_size_code_is_the_edge_length_of_a_standard_inscribed_circle():
+    """ISO 1832 position 5 is the cutting-edge length in whole millimetres; the inserts are made on the inch
+    series of inscribed circles. For an 80 deg rhombus l = d / sin 80 deg, for 55 deg l = d / sin 55 deg, for a
+    triangle l = d sqrt(3), for 35 deg l = d / sin 35 deg (plane geometry, re-evaluated here)."""
+    cases = {"CNMG120408": (12.7, 12.7 / math.sin(math.radians(80))),
+             "DCMT11T304": (9.525, 9.525 / math.sin(math.radians(55))),
+             "TNMG160404": (9.525, 9.525 * math.sqrt(3)),
+             "VCMT160404": (9.525, 9.525 / math.sin(math.radians(35))),
+             "SNMA120412": (12.7, 12.7)}
+    for text, (inscribed, edge) in cases.items():
+        code = parse_iso1832(text)
+        assert code.inscribed_mm == pytest.approx(inscribed, abs=EXACT)
+        assert code.edge_mm == pytest.approx(edge, rel=1e-12)
+        assert int(code.size_code) == math.floor(edge)

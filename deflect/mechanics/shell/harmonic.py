@@ -112,7 +112,8 @@ def _element_geometry(mesh: ShellMesh) -> dict[str, np.ndarray]:
     d = mesh.nodes_rz[b] - mesh.nodes_rz[a]
     length = np.hypot(d[:, 0], d[:, 1])
     if np.any(length <= 0.0):
-        raise ModelError(f"shell element(s) {np.flatnonzero(length <= 0).tolist()} have zero length")
+        raise ModelError(f"shell element(s) {np.flatnonzero(length <= 0).tolist()} have zero length",
+                         key="part.outline")
     t_r, t_z = d[:, 0] / length, d[:, 1] / length
     return {
         "r_a": mesh.nodes_rz[a, 0], "L": length, "t_r": t_r, "t_z": t_z,
@@ -191,7 +192,8 @@ def _element_matrices(mesh: ShellMesh, e_mpa: float, nu: float, drilling: float)
                 b0, b1, r = _strain_operator(g, s, eta * h / 2.0)
                 if np.any(r <= 0.0):
                     raise ModelError("the wall reaches across the spin axis: a shell element lies closer to "
-                                     "the axis than half its thickness; the section is too thick there")
+                                     "the axis than half its thickness; the section is too thick there",
+                                     key="part.outline")
                 dv = (r * w * g["L"] / 2.0 * w_eta * h / 2.0)[:, None, None]
                 b0, b1 = b0[:, rows], b1[:, rows]
                 db0, db1 = d @ b0, d @ b1
@@ -329,9 +331,9 @@ class HarmonicShell:
         try:
             factor = scipy.linalg.cholesky_banded(band, lower=False, check_finite=False)
         except np.linalg.LinAlgError:
-            raise ModelError(_UNHELD + " (the stiffness matrix is singular)") from None
+            raise ModelError(_UNHELD + " (the stiffness matrix is singular)", key="held") from None
         if np.any(factor[-1] ** 2 < PIVOT_FLOOR * band[-1]):
-            raise ModelError(_UNHELD + " (the stiffness matrix is singular)")
+            raise ModelError(_UNHELD + " (the stiffness matrix is singular)", key="held")
         return scipy.linalg.cho_solve_banded((factor, False), rhs, check_finite=False)
 
     def harmonic_terms(self, loads: list[ShellLoad], directions: np.ndarray, n_values) -> np.ndarray:
@@ -439,7 +441,7 @@ class HarmonicShell:
             rank = np.linalg.matrix_rank(held, tol=1e-9 * max(1.0, np.abs(held).max(initial=0.0)))
             if rank < len(vectors):
                 raise ModelError(f"{_UNHELD}: {name} is not stopped (harmonic n = {n}); hold the part "
-                                 "in a box that covers some of its material")
+                                 "in a box that covers some of its material", key="held")
 
 
 _UNHELD = "the part is not held: it would move as a rigid body"
@@ -586,7 +588,7 @@ class _Setup:
             try:
                 inv = np.linalg.inv(s)
             except np.linalg.LinAlgError:
-                raise ModelError(_UNHELD + " (the stiffness matrix is singular)") from None
+                raise ModelError(_UNHELD + " (the stiffness matrix is singular)", key="held") from None
             inv_diag[:, self.starts[i]: self.starts[i + 1]] = np.diagonal(inv, axis1=1, axis2=2)
             s_inv.append(inv)
             if i + 1 < nb:
@@ -594,7 +596,7 @@ class _Setup:
                 x.append(inv @ coupling)
         scaled = inv_diag * (coef @ self.k_diag)
         if not np.all((scaled > 0.0) & (scaled < 1.0 / PIVOT_FLOOR)):
-            raise ModelError(_UNHELD + " (the stiffness matrix is singular)")
+            raise ModelError(_UNHELD + " (the stiffness matrix is singular)", key="held")
         width = max(width, 1)  # G_ii needs G_i,i+1
         widths = [int(self.starts[min(i + width + 1, nb)] - self.starts[i]) for i in range(nb)]
         band = np.empty((h, len(self.free), max(widths)))  # entries past a row's width are never read
@@ -680,7 +682,8 @@ def compliance(shell: HarmonicShell, loads: list[ShellLoad], directions: np.ndar
         size = FIRST_BLOCK if start == 1 else int(np.clip(
             start * (np.sqrt(max(excess.max(), 1.0)) - 1.0) + 2 * CONVERGED_IN_A_ROW, 8, HARMONIC_BLOCK))
     raise ModelError(f"the harmonic sum of the compliance did not converge to {tol:g} by n = {n_max}: "
-                     "the loaded patch is too small for the shell mesh; use a larger patch")
+                     "the loaded patch is too small for the shell mesh (or the tolerance too tight); use a larger "
+                     "patch or a looser tolerance", key="--patch")
 
 
 def _runs(met: np.ndarray, carry: np.ndarray) -> np.ndarray:

@@ -44,6 +44,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components, minimum_spanning_tree, reverse_cuthill_mckee
 from scipy.spatial import Delaunay, QhullError
@@ -235,31 +236,25 @@ def _cross(u: np.ndarray, v: np.ndarray) -> np.ndarray:
 
 
 def _check_simple(points: np.ndarray, key: str) -> None:
-    """InputError when two edges that are not neighbours cross or touch."""
+    """InputError when two edges that are not neighbours cross or touch. The pairs whose boxes meet come from an
+    R-tree of the edges (shapely's STRtree), so the work grows with the outline, not with its square."""
     n = len(points)
     start, end = points, np.roll(points, -1, axis=0)
-    low, high = np.minimum(start, end), np.maximum(start, end)
-    chunk = max(1, 2_000_000 // n)
-    for first in range(0, n, chunk):
-        i = np.arange(first, min(n, first + chunk))
-        j = np.arange(n)
-        overlap = ((low[i, None, 0] <= high[None, :, 0]) & (high[i, None, 0] >= low[None, :, 0])
-                   & (low[i, None, 1] <= high[None, :, 1]) & (high[i, None, 1] >= low[None, :, 1]))
-        later = j[None, :] > i[:, None] + 1                     # each pair once, the next edge excluded
-        later &= ~((i[:, None] == 0) & (j[None, :] == n - 1))   # the last edge neighbours the first
-        ii, jj = np.nonzero(overlap & later)
-        if len(ii) == 0:
-            continue
-        ii, jj = i[ii], jj
-        di, dj = end[ii] - start[ii], end[jj] - start[jj]
-        o1, o2 = _cross(di, start[jj] - start[ii]), _cross(di, end[jj] - start[ii])
-        o3, o4 = _cross(dj, start[ii] - start[jj]), _cross(dj, end[ii] - start[jj])
-        crossing = np.flatnonzero((o1 * o2 <= 0) & (o3 * o4 <= 0))
-        if len(crossing):
-            k = crossing[0]
-            r, z = start[jj[k]]
-            raise InputError(key, f"the outline crosses or touches itself near (r, z) = ({r:.4g}, {z:.4g}); "
-                                  "it must be one closed loop that does not meet itself")
+    edges = shapely.linestrings(np.stack([start, end], axis=1))
+    ii, jj = shapely.STRtree(edges).query(edges)              # pairs of edges whose boxes meet
+    later = (jj > ii + 1) & ~((ii == 0) & (jj == n - 1))     # each pair once, neighbours excluded (last-first too)
+    ii, jj = ii[later], jj[later]
+    order = np.lexsort((jj, ii))
+    ii, jj = ii[order], jj[order]
+    di, dj = end[ii] - start[ii], end[jj] - start[jj]
+    o1, o2 = _cross(di, start[jj] - start[ii]), _cross(di, end[jj] - start[ii])
+    o3, o4 = _cross(dj, start[ii] - start[jj]), _cross(dj, end[ii] - start[jj])
+    crossing = np.flatnonzero((o1 * o2 <= 0) & (o3 * o4 <= 0))
+    if len(crossing):
+        k = crossing[0]
+        r, z = start[jj[k]]
+        raise InputError(key, f"the outline crosses or touches itself near (r, z) = ({r:.4g}, {z:.4g}); "
+                              "it must be one closed loop that does not meet itself")
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -276,23 +271,26 @@ def _sample_boundary(outline: np.ndarray, spacing: float) -> np.ndarray:
 
 
 def _inside(points: np.ndarray, outline: np.ndarray) -> np.ndarray:
-    """Even-odd point-in-polygon test, vectorised over points and edges."""
+    """Even-odd point-in-polygon test: the edges crossed by a ray from each point towards +r. An R-tree of the
+    edges gives the edges each ray's line can meet, so the work grows with the crossings, not points x edges."""
     r, z = points[:, 0], points[:, 1]
     low, high = outline.min(axis=0), outline.max(axis=0)
     candidate = np.flatnonzero((r > low[0]) & (r < high[0]) & (z > low[1]) & (z < high[1]))
     inside = np.zeros(len(points), bool)
-    r0, z0 = outline[:, 0], outline[:, 1]
-    r1, z1 = np.roll(r0, -1), np.roll(z0, -1)
-    chunk = max(1, 4_000_000 // max(1, len(candidate)))
-    pr, pz = r[candidate, None], z[candidate, None]
-    parity = np.zeros(len(candidate), bool)
-    for first in range(0, len(outline), chunk):
-        e = slice(first, first + chunk)
-        straddles = (z0[None, e] > pz) != (z1[None, e] > pz)
-        dz = np.where(z1[e] == z0[e], 1.0, z1[e] - z0[e])
-        r_cross = r0[None, e] + (pz - z0[None, e]) * (r1[e] - r0[e])[None, :] / dz[None, :]
-        parity ^= (np.count_nonzero(straddles & (pr < r_cross), axis=1) % 2).astype(bool)
-    inside[candidate] = parity
+    if len(candidate) == 0:
+        return inside
+    start, end = outline, np.roll(outline, -1, axis=0)
+    rays = shapely.linestrings(np.stack([np.column_stack([r[candidate], z[candidate]]),
+                                         np.column_stack([np.full(len(candidate), high[0] + 1.0), z[candidate]])],
+                                        axis=1))
+    ray, edge = shapely.STRtree(shapely.linestrings(np.stack([start, end], axis=1))).query(rays)
+    pr, pz = r[candidate][ray], z[candidate][ray]
+    r0, z0, r1, z1 = start[edge, 0], start[edge, 1], end[edge, 0], end[edge, 1]
+    straddles = (z0 > pz) != (z1 > pz)
+    dz = np.where(z1 == z0, 1.0, z1 - z0)
+    r_cross = r0 + (pz - z0) * (r1 - r0) / dz
+    crossed = np.bincount(ray[straddles & (pr < r_cross)], minlength=len(candidate))
+    inside[candidate] = crossed % 2 == 1
     return inside
 
 
