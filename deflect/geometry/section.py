@@ -35,7 +35,6 @@ from dataclasses import dataclass, replace
 from functools import cached_property
 
 import numpy as np
-from scipy.optimize import minimize_scalar
 
 from deflect.errors import InputError, ModelError
 
@@ -1009,6 +1008,9 @@ def min_wall(section: Section) -> float:
     seg_ids = np.concatenate([np.full(len(t), i) for i, t in grids.items()])
     params = np.concatenate(list(grids.values()))
     hit, facing = _walls(section, surfaces, seg_ids, params)
+    # imported here: scipy.optimize costs about 0.1 s of start-up that every other command would pay
+    from scipy.optimize import minimize_scalar
+
     least_facing = math.cos(math.radians(_WALL_MAX_INCIDENCE_DEG))
     if not np.isfinite(hit[facing >= least_facing]).any():
         least_facing = -1.0  # no two faces are near parallel: every ray counts
