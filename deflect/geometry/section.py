@@ -329,6 +329,19 @@ class Section:
         seg = self.segments[i]
         return seg.point_at(t), seg.normal_at(t)
 
+    def points_at(self, arclengths_mm: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """`point_at` for many arclengths at once: (points (N, 2), unit outward normals (N, 2))."""
+        s = np.mod(np.asarray(arclengths_mm, float).ravel(), self.perimeter())
+        starts, lengths = np.asarray(self._starts), np.asarray(self._lengths)
+        index = np.maximum(0, np.searchsorted(starts, s, side="right") - 1)  # a corner: the segment starting there
+        t = np.minimum(1.0, (s - starts[index]) / lengths[index])
+        points, tangents = np.empty((len(s), 2)), np.empty((len(s), 2))
+        for i in np.unique(index):
+            mine = index == i
+            points[mine] = self.segments[i].points_at(t[mine])
+            tangents[mine] = self.segments[i].tangents_at(t[mine])
+        return points, np.column_stack([tangents[:, 1], -tangents[:, 0]])
+
     def sample(self, spacing_mm: float) -> BoundarySamples:
         """Points along every segment at most `spacing_mm` apart, each segment end included once.
 

@@ -70,6 +70,7 @@ CONTRACT_RATIO = 1.0           # junctions closer than the larger junction radiu
 COLLAPSE_RATIO = 0.01         # Voronoi vertices closer than 1 % of the sample spacing are one vertex
 SMOOTH_PASSES = 3              # (1, 2, 1) / 4 passes at the sample spacing: ~1.2 spacings of Gaussian width
 ATTACH_REACH = 0.75            # a boundary point meets its mid-surface within 0.75 t along its normal (brief)
+ATTACH_WORK = 200_000          # most (point, element) pairs attach() works on at once
 CHORD_ERROR_MM = 1e-3          # arcs of a Section become chords straying at most 1 um
 RELATIVE_EPS = 1e-9            # geometric tolerance relative to the part's size
 
@@ -114,15 +115,17 @@ class ShellGeometry:
         ta = mesh.thickness_mm[mesh.elements[:, 0]]
         tb = mesh.thickness_mm[mesh.elements[:, 1]]
         eps = RELATIVE_EPS * _size(mesh.nodes_rz)
-
-        element, xi, distance = _first_crossing(points, normals, a, b, eps)
-        crossed = element >= 0
-        thickness = np.where(crossed, ta[element] + xi * (tb[element] - ta[element]), 0.0)
-        accept = crossed & (distance <= ATTACH_REACH * thickness + eps)
-
-        near_element, near_xi = _nearest_on_segments(points, a, b)
-        element = np.where(accept, element, near_element)
-        xi = np.where(accept, xi, near_xi)
+        element, xi = np.empty(len(points), int), np.empty(len(points))
+        rows = max(1, ATTACH_WORK // max(1, len(a)))  # points per pass: the work arrays are points x elements
+        for first in range(0, len(points), rows):
+            part = slice(first, first + rows)
+            crossing, along, distance = _first_crossing(points[part], normals[part], a, b, eps)
+            crossed = crossing >= 0
+            thickness = np.where(crossed, ta[crossing] + along * (tb[crossing] - ta[crossing]), 0.0)
+            accept = crossed & (distance <= ATTACH_REACH * thickness + eps)
+            near_element, near_xi = _nearest_on_segments(points[part], a, b)
+            element[part] = np.where(accept, crossing, near_element)
+            xi[part] = np.where(accept, along, near_xi)
         foot = a[element] + xi[:, None] * (b[element] - a[element])
         return element, xi, points - foot
 
