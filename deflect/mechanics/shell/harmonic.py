@@ -38,9 +38,11 @@ sides per load (tests/bench_compliance.py), which remains the path for loads spr
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 import scipy.linalg
+import scipy.linalg.lapack
 import scipy.sparse as sp
 from scipy.sparse import csgraph
 
@@ -243,13 +245,18 @@ class HarmonicShell:
         self.nu = float(nu)
         self.extra_fixed = {int(n): np.asarray(m, dtype=bool) for n, m in (extra_fixed or {}).items()}
         self.n_dofs = mesh.n_nodes * DOFS_PER_NODE
-        ke = _element_matrices(mesh, self.E_mpa, self.nu, drilling_penalty)
-        dofs = (DOFS_PER_NODE * mesh.elements[:, :, None] + np.arange(DOFS_PER_NODE)).reshape(-1, 12)
-        rows = np.broadcast_to(dofs[:, :, None], ke.shape[1:]).ravel()
-        cols = np.broadcast_to(dofs[:, None, :], ke.shape[1:]).ravel()
-        self._k = [sp.csr_matrix((kc.ravel(), (rows, cols)), shape=(self.n_dofs, self.n_dofs)) for kc in ke]
+        self._element_k = _element_matrices(mesh, self.E_mpa, self.nu, drilling_penalty)  # (3, M, 12, 12)
+        self._element_dofs = (DOFS_PER_NODE * mesh.elements[:, :, None] + np.arange(DOFS_PER_NODE)).reshape(-1, 12)
         self._node_order, self._node_level = _level_structure(mesh)
         self._setups: dict[bytes, _Setup] = {}
+
+    @cached_property
+    def _k(self) -> list[sp.csr_matrix]:
+        """K0, K1, K2 assembled over all DOFs (the solver itself works from the element matrices)."""
+        dofs = self._element_dofs
+        rows = np.broadcast_to(dofs[:, :, None], self._element_k.shape[1:]).ravel()
+        cols = np.broadcast_to(dofs[:, None, :], self._element_k.shape[1:]).ravel()
+        return [sp.csr_matrix((kc.ravel(), (rows, cols)), shape=(self.n_dofs, self.n_dofs)) for kc in self._element_k]
 
     # -- matrices ----------------------------------------------------------------------------------
     def stiffness(self, n: int) -> sp.csr_matrix:
@@ -325,14 +332,17 @@ class HarmonicShell:
 
     def _solve_banded(self, n: int, setup: "_Setup", rhs: np.ndarray) -> np.ndarray:
         """K_n^-1 rhs on the free DOFs (in the level order), banded Cholesky (LAPACK pbtrf/pbtrs)."""
-        band = setup.band(n)
-        try:
-            factor = scipy.linalg.cholesky_banded(band, lower=False, check_finite=False)
-        except np.linalg.LinAlgError:
-            raise ModelError(_UNHELD + " (the stiffness matrix is singular)") from None
-        if np.any(factor[-1] ** 2 < PIVOT_FLOOR * band[-1]):
-            raise ModelError(_UNHELD + " (the stiffness matrix is singular)")
+        factor = self._factor(n, setup)
         return scipy.linalg.cho_solve_banded((factor, False), rhs, check_finite=False)
+
+    def _factor(self, n: int, setup: "_Setup") -> np.ndarray:
+        """U of K_n = U^T U on the free DOFs, upper banded storage (LAPACK pbtrf, called directly: the
+        wrapper's checks cost as much as the factorisation on a wall of a few hundred DOFs)."""
+        band = setup.band(n)
+        factor, info = scipy.linalg.lapack.dpbtrf(band, lower=0)
+        if info != 0 or np.any(factor[-1] ** 2 < PIVOT_FLOOR * band[-1]):
+            raise ModelError(_UNHELD + " (the stiffness matrix is singular)")
+        return factor
 
     def harmonic_terms(self, loads: list[ShellLoad], directions: np.ndarray, n_values) -> np.ndarray:
         """f_i^T K_n^-1 f_j for each harmonic and load, WITHOUT the weights w_n: (len(n_values), P, 3, 3).
@@ -408,8 +418,10 @@ class HarmonicShell:
         rhs = full.reshape(self.n_dofs, -1)[setup.free]
         out = np.zeros((len(ns), len(active), 3, 3))
         for h, n in enumerate(ns):
-            u = self._solve_banded(int(n), setup, rhs)
-            quad = np.einsum("dpi,dpj->pij", rhs.reshape(-1, len(active), 3), u.reshape(-1, len(active), 3))
+            # f^T K^-1 f = |y|^2 with U^T y = f: one triangular solve instead of the two of K u = f
+            y, info = scipy.linalg.lapack.dtbtrs(self._factor(int(n), setup), rhs, uplo="U", trans="T")
+            y = y.reshape(-1, len(active), 3)
+            quad = np.einsum("dpi,dpj->pij", y, y)
             quad[:, 0, 1] = quad[:, 1, 0] = quad[:, 1, 2] = quad[:, 2, 1] = 0.0  # the two sets do not couple
             out[h] = quad
         return out
@@ -418,7 +430,7 @@ class HarmonicShell:
         fixed = self.fixed_mask(n)
         key = np.packbits(fixed).tobytes()
         if key not in self._setups:
-            self._setups[key] = _Setup(self._k, fixed, self._node_order, self._node_level)
+            self._setups[key] = _Setup(self._element_k, self._element_dofs, fixed, self._node_order, self._node_level)
         return self._setups[key]
 
     def _check_held(self, n: int, fixed: np.ndarray) -> None:
@@ -504,9 +516,11 @@ class _Gather:
 
 
 class _Setup:
-    """Free DOFs of one fixed mask, laid out in levels, with the level blocks of K0, K1, K2."""
+    """Free DOFs of one fixed mask, laid out in levels, with K0, K1, K2 in LAPACK's upper banded storage over
+    the level order (direct solves) and, when the batched selected inverse asks for them, as level blocks."""
 
-    def __init__(self, k_parts, fixed: np.ndarray, node_order: np.ndarray, node_level: np.ndarray):
+    def __init__(self, element_k: np.ndarray, element_dofs: np.ndarray, fixed: np.ndarray, node_order: np.ndarray,
+                 node_level: np.ndarray):
         self.fixed = fixed
         dof_order = (DOFS_PER_NODE * node_order[:, None] + np.arange(DOFS_PER_NODE)).ravel()
         keep = ~fixed.ravel()[dof_order]
@@ -525,27 +539,40 @@ class _Setup:
         self.block_of = np.repeat(np.arange(len(cuts)), np.diff(self.starts))
         self.sizes = np.diff(self.starts)
         self.row_start = np.repeat(self.starts[:-1], self.sizes)
-        parts = [kc[self.free][:, self.free].tocoo() for kc in k_parts]
-        # K0, K1, K2 blocks of every level side by side (row-major), so K_n of all levels is one matrix product
-        self.diag_at = np.r_[0, np.cumsum(self.sizes**2)]
-        self.off_at = np.r_[0, np.cumsum(self.sizes[:-1] * self.sizes[1:])]
-        self.diag_flat = np.zeros((3, self.diag_at[-1]))
-        self.off_flat = np.zeros((3, self.off_at[-1]))
-        for c, part in enumerate(parts):
-            bi, bj = self.block_of[part.row], self.block_of[part.col]
-            li, lj = part.row - self.starts[bi], part.col - self.starts[bj]
-            if np.any(np.abs(bi - bj) > 1):
-                raise RuntimeError("internal: the stiffness is not block tridiagonal over the node levels")
-            same, up = bi == bj, bj == bi + 1
-            self.diag_flat[c, self.diag_at[bi[same]] + li[same] * self.sizes[bi[same]] + lj[same]] = part.data[same]
-            self.off_flat[c, self.off_at[bi[up]] + li[up] * self.sizes[bj[up]] + lj[up]] = part.data[up]
-        self.k_diag = np.stack([part.tocsr().diagonal() for part in parts])  # (3, n_free)
-        # K0, K1, K2 in LAPACK's upper banded storage over the level order, for direct solves
-        width = max(int(np.abs(part.col - part.row).max(initial=0)) for part in parts)
-        self.band_parts = np.zeros((3, width + 1, len(self.free)))
-        for c, part in enumerate(parts):
-            upper = part.col >= part.row
-            self.band_parts[c, width + part.row[upper] - part.col[upper], part.col[upper]] = part.data[upper]
+        # every element entry between two free DOFs: (row, column) in the level order and K0, K1, K2 values
+        # (entries of neighbouring elements on the same pair are summed where they land)
+        at = self.position[element_dofs]  # (M, 12)
+        rows = np.broadcast_to(at[:, :, None], element_k.shape[1:]).ravel()
+        cols = np.broadcast_to(at[:, None, :], element_k.shape[1:]).ravel()
+        both = (rows >= 0) & (cols >= 0)
+        self._rows, self._cols = rows[both], cols[both]
+        self._values = element_k.reshape(3, -1)[:, both]
+        n_free = len(self.free)
+        diagonal = self._rows == self._cols
+        self.k_diag = np.stack([np.bincount(self._rows[diagonal], weights=v[diagonal], minlength=n_free)
+                                for v in self._values])  # (3, n_free)
+        width = int(np.abs(self._cols - self._rows).max(initial=0))
+        upper = self._cols >= self._rows
+        band_index = (width + self._rows[upper] - self._cols[upper]) * n_free + self._cols[upper]
+        self.band_parts = np.stack([np.bincount(band_index, weights=v[upper], minlength=(width + 1) * n_free)
+                                    for v in self._values]).reshape(3, width + 1, n_free)
+
+    @cached_property
+    def _blocks(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """(diag_at, off_at, diag_flat, off_flat): the K0, K1, K2 blocks of every level side by side (row-major),
+        so K_n of all levels is one matrix product (`inverse_band`)."""
+        bi, bj = self.block_of[self._rows], self.block_of[self._cols]
+        if np.any(np.abs(bi - bj) > 1):
+            raise RuntimeError("internal: the stiffness is not block tridiagonal over the node levels")
+        li, lj = self._rows - self.starts[bi], self._cols - self.starts[bj]
+        diag_at = np.r_[0, np.cumsum(self.sizes**2)]
+        off_at = np.r_[0, np.cumsum(self.sizes[:-1] * self.sizes[1:])]
+        same, up = bi == bj, bj == bi + 1
+        diag_index = diag_at[bi[same]] + li[same] * self.sizes[bi[same]] + lj[same]
+        off_index = off_at[bi[up]] + li[up] * self.sizes[bj[up]] + lj[up]
+        diag_flat = np.stack([np.bincount(diag_index, weights=v[same], minlength=diag_at[-1]) for v in self._values])
+        off_flat = np.stack([np.bincount(off_index, weights=v[up], minlength=off_at[-1]) for v in self._values])
+        return diag_at, off_at, diag_flat, off_flat
 
     def band(self, n: int) -> np.ndarray:
         """K_n = K0 + n K1 + n^2 K2 on the free DOFs, upper banded storage (diagonal in the last row)."""
@@ -587,16 +614,17 @@ class _Setup:
         1 / (PIVOT_FLOOR K_jj): for a positive semi-definite K, (S_i^-1)_jj >= 1 / K_jj always.
         """
         ns = np.asarray(ns, dtype=float)
+        diag_at, off_at, diag_flat, off_flat = self._blocks
         coef = np.stack([np.ones_like(ns), ns, ns * ns], axis=1)  # (H, 3)
-        diag_all = coef @ self.diag_flat  # (H, sum m_i^2): all levels' K_n blocks in one product
-        off_all = coef @ self.off_flat
+        diag_all = coef @ diag_flat  # (H, sum m_i^2): all levels' K_n blocks in one product
+        off_all = coef @ off_flat
         nb, h = len(self.sizes), len(ns)
         s_inv, x = [], []
         inv_diag = np.empty((h, len(self.free)))
         coupling = None  # K_i-1,i
         for i in range(nb):
             m = self.sizes[i]
-            k_ii = diag_all[:, self.diag_at[i]: self.diag_at[i + 1]].reshape(h, m, m)
+            k_ii = diag_all[:, diag_at[i]: diag_at[i + 1]].reshape(h, m, m)
             s = k_ii - np.swapaxes(coupling, 1, 2) @ x[-1] if i else k_ii
             try:
                 inv = np.linalg.inv(s)
@@ -605,7 +633,7 @@ class _Setup:
             inv_diag[:, self.starts[i]: self.starts[i + 1]] = np.diagonal(inv, axis1=1, axis2=2)
             s_inv.append(inv)
             if i + 1 < nb:
-                coupling = off_all[:, self.off_at[i]: self.off_at[i + 1]].reshape(h, m, self.sizes[i + 1])
+                coupling = off_all[:, off_at[i]: off_at[i + 1]].reshape(h, m, self.sizes[i + 1])
                 x.append(inv @ coupling)
         scaled = inv_diag * (coef @ self.k_diag)
         if not np.all((scaled > 0.0) & (scaled < 1.0 / PIVOT_FLOOR)):

@@ -44,9 +44,11 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+import shapely
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components, minimum_spanning_tree, reverse_cuthill_mckee
 from scipy.spatial import Delaunay, QhullError
+from shapely.geometry import Polygon
 
 from deflect.errors import InputError
 from deflect.geometry.boxes import HeldBox
@@ -279,24 +281,11 @@ def _sample_boundary(outline: np.ndarray, spacing: float) -> np.ndarray:
 
 
 def _inside(points: np.ndarray, outline: np.ndarray) -> np.ndarray:
-    """Even-odd point-in-polygon test, vectorised over points and edges."""
-    r, z = points[:, 0], points[:, 1]
-    low, high = outline.min(axis=0), outline.max(axis=0)
-    candidate = np.flatnonzero((r > low[0]) & (r < high[0]) & (z > low[1]) & (z < high[1]))
-    inside = np.zeros(len(points), bool)
-    r0, z0 = outline[:, 0], outline[:, 1]
-    r1, z1 = np.roll(r0, -1), np.roll(z0, -1)
-    chunk = max(1, 4_000_000 // max(1, len(candidate)))
-    pr, pz = r[candidate, None], z[candidate, None]
-    parity = np.zeros(len(candidate), bool)
-    for first in range(0, len(outline), chunk):
-        e = slice(first, first + chunk)
-        straddles = (z0[None, e] > pz) != (z1[None, e] > pz)
-        dz = np.where(z1[e] == z0[e], 1.0, z1[e] - z0[e])
-        r_cross = r0[None, e] + (pz - z0[None, e]) * (r1[e] - r0[e])[None, :] / dz[None, :]
-        parity ^= (np.count_nonzero(straddles & (pr < r_cross), axis=1) % 2).astype(bool)
-    inside[candidate] = parity
-    return inside
+    """Points strictly inside the outline (GEOS's point-in-polygon on a prepared polygon: an edge index
+    instead of every point against every edge, which was a third of a derivation)."""
+    polygon = Polygon(outline)
+    shapely.prepare(polygon)
+    return shapely.contains_xy(polygon, points[:, 0], points[:, 1])
 
 
 @dataclass(frozen=True)
