@@ -26,9 +26,14 @@ range of every headline figure.
 
 from __future__ import annotations
 
+import ctypes
 import math
 import multiprocessing
 import os
+import signal
+import sys
+import threading
+import time
 from concurrent.futures import ProcessPoolExecutor
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
@@ -64,6 +69,8 @@ RUN_TURN_DEG = 10.0             # a path's stretch of constant normal ends where
 MET_TURN_DEG = 30.0             # where the path turns this much, the depth met is measured on the part as cut so far
 SHORTEST_RUN_SHARE = 0.1        # stretches shorter than this share of a cut get no key station of their own
 MAX_WORKERS = 4                 # processes for the key stations' shell models
+PR_SET_PDEATHSIG = 1            # prctl(2) option: the signal a Linux process gets when its parent dies
+PARENT_WATCH_S = 0.5            # how often a worker checks that the process that started it is still there
 KEEP_MM = 1e-6                  # the in-process part keeps its shape to this (far below any push-off)
 SLIVER_MM = 0.005               # half the thickness of the thinnest sliver the shell model is given
 SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
@@ -381,7 +388,7 @@ _KEPT_POOL: list = []
 
 def new_pool(workers: int) -> ProcessPoolExecutor:
     return ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
-                               initializer=one_blas_thread)
+                               initializer=start_worker, initargs=(os.getpid(),))
 
 
 @contextmanager
@@ -401,11 +408,31 @@ def kept_workers():
         pool.shutdown()
 
 
-def one_blas_thread() -> None:
-    """In each worker: BLAS on one thread. The shell models' matrices are small, and workers that each start
-    a BLAS thread per core fight over the cores (tests/bench_predict.py: 15 s instead of 2.2 s on 2 cores
-    when simulate is called from a script that left the BLAS threads unlimited)."""
+def start_worker(parent_pid: int) -> None:
+    """In each worker: BLAS on one thread, and the worker ends with the process that started it.
+
+    BLAS: the shell models' matrices are small, and workers that each start a BLAS thread per core fight over
+    the cores (15 s instead of 2.2 s for the demo on 2 cores when simulate was called from a script that left
+    the BLAS threads unlimited). Ending with the parent: a prediction killed by SIGTERM or SIGKILL has no
+    chance to shut its pool down, and its idle workers, blocked on a queue whose other end they hold
+    themselves, were left running under init (issue 17, item 3)."""
     threadpool_limits(limits=1)
+    if sys.platform.startswith("linux"):
+        # the kernel kills this process the moment its parent dies (prctl(2), PR_SET_PDEATHSIG)
+        try:
+            ctypes.CDLL(None, use_errno=True).prctl(PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent_pid:  # the parent died before the signal was asked for
+        os._exit(1)
+    # everywhere (and as a second guard on Linux): a thread that ends the worker once it is orphaned
+    threading.Thread(target=watch_parent, args=(parent_pid,), daemon=True).start()
+
+
+def watch_parent(parent_pid: int) -> None:
+    while os.getppid() == parent_pid:
+        time.sleep(PARENT_WATCH_S)
+    os._exit(1)
 
 
 def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,
