@@ -667,7 +667,7 @@ TAIL_UNCERTAINTY = 0.5
 EXPLICIT_PERIODS = 8.0   # the tail is summed term by term up to n a = 8; beyond that sin^2(n a) averages 1/2
 MOST_EXPLICIT = 4096     # most terms summed one by one in a tail (a patch of a few degrees or wider needs < 400)
 FIRST_BLOCK = FIRST_CHECK  # harmonics 1..12 first, then blocks of a few checks
-BLOCK_FEW = 2 * CHECK_EVERY    # harmonics per block for a few loads (solved directly, one harmonic at a time)
+BLOCK_FEW = CHECK_EVERY        # harmonics per block for a few loads (solved directly, one harmonic at a time)
 BLOCK_MANY = 8 * CHECK_EVERY   # ... for many loads (the batched selected inverse costs little per extra harmonic)
 TAIL_WORK = 2_000_000    # most (load, term) entries of one explicit tail sum at once
 
