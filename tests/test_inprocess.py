@@ -2,10 +2,10 @@
 
 Closed forms used as oracles:
 * volume of a tube, V = pi (r_o^2 - r_i^2) L, and the material a uniform extra thickness delta leaves on
-  its outside, pi ((r_o + delta)^2 - r_o^2) L (REFERENCE.md section 6, last note, [D]);
+  its outside, pi ((r_o + delta)^2 - r_o^2) L (the annulus, exact);
 * axial mass moment of inertia of a tube, I = m (r_o^2 + r_i^2) / 2, and of a solid cone,
   I = 3 m R^2 / 10 with V = pi R^2 H / 3 (textbook solids of revolution, derived by integration);
-* equal-depth cuts: n = ceil(A / ap_max) cuts of A / n each (REFERENCE.md section 10, last bullet, [M]).
+* equal-depth cuts: n = ceil(A / ap_max) cuts of A / n each (common practice).
 """
 
 import math
@@ -28,7 +28,7 @@ from deflect.machining.inprocess import (
 )
 
 EXACT_MM3 = 1e-9          # a cut along straight lines: only float rounding separates it from the closed form
-RING_MM3 = 1e-6           # the brief's tolerance on the left-over ring (REFERENCE.md 6)
+RING_MM3 = 1e-6           # tolerance on the left-over ring's volume, mm3
 ROUNDING = 1e-12          # lengths that are sums of a few exact numbers
 RELATIVE = 1e-12          # Green's-theorem integrals of straight edges against closed forms
 
@@ -121,7 +121,7 @@ def test_remove_to_the_target_leaves_exactly_the_nominal_tube():
 def test_remove_with_push_off_leaves_the_ring_of_the_closed_form(left):
     path = od_finish_path()
     part = remove(SLEEVE_STOCK, path, np.full(len(path.points_rz), left), "od")
-    ring = math.pi * ((R_OD + left) ** 2 - R_OD**2) * LENGTH     # REFERENCE.md 6, exact form
+    ring = math.pi * ((R_OD + left) ** 2 - R_OD**2) * LENGTH     # the annulus, exact
     assert volume(part) - tube_volume(R_ID, R_OD, LENGTH) == pytest.approx(ring, abs=RING_MM3)
 
 
@@ -195,7 +195,7 @@ def test_depth_of_material_on_the_sleeve_and_in_air():
 
 def test_cuts_for_pass_takes_deep_stock_in_equal_cuts_then_spring_cuts():
     cuts = cuts_for_pass(SLEEVE_STOCK, NOMINAL, a_pass(depth_mm=0.2, spring=2), SPACING)
-    n = math.ceil(0.5 / 0.2)                                  # REFERENCE.md 10: 3 cuts of 0.5 / 3
+    n = math.ceil(0.5 / 0.2)                                  # common practice: 3 cuts of 0.5 / 3
     assert len(cuts) == n + 2
     expected_r = [R_OD + 0.5 * 2 / 3, R_OD + 0.5 / 3, R_OD, R_OD, R_OD]
     assert [c.points_rz[:, 0].mean() for c in cuts] == pytest.approx(expected_r, abs=ROUNDING)

@@ -55,15 +55,27 @@ def test_every_library_number_has_a_source(library):
         assert set(library[name.lower()].sources) >= set(numbers)
 
 
+def test_second_hand_sources_name_the_book(library):
+    """A value read second-hand cites the book it comes from (authors, title, edition, year) and says it was
+    not checked there, never an unnamed intermediary."""
+    for name in SHIPPED:
+        for key, text in library[name].sources.items():
+            assert "public script" not in text, f"{name}.{key}"
+            if text.startswith("second-hand"):
+                assert re.search(r"[A-Z][a-z]+.*, .*\b(19|20)[0-9]{2}\b", text) and "not checked" in text, \
+                    f"{name}.{key}: {text}"
+
+
 def test_kienzle_constants_stay_marked_as_from_memory(library):
-    # REFERENCE.md marks every Kienzle constant [M]; nobody has read a printed table yet.
+    # every shipped Kienzle constant is a recalled value; nobody has read a printed table yet.
     for name in SHIPPED:
         for key in KIENZLE_KEYS:
             assert "from memory" in library[name].sources[key], f"{name}.{key}"
 
 
 def test_library_values_lie_in_the_reference_bands(library):
-    # Plausibility bands from REFERENCE.md sections 1.3 and 6 ([M] values: bands only).
+    # Plausibility bands, recalled handbook ranges (Koenig & Klocke; Tschaetsch; ASM Handbook vol. 2; from memory:
+    # bands only).
     steel = library["steel-c45"]
     assert 200000 <= steel.E_mpa <= 215000 and 7.8 <= steel.density_g_cm3 <= 7.9
     assert 650 <= library["al-6061-t6"].kc11 <= 830

@@ -9,7 +9,7 @@ Checks, each against something computed here rather than read back from the prod
   outwards), most next to the jaws;
 * the spring-back moves the surface but adds no material: the mass gain equals a Pappus integration of the
   deviation less the spring-back;
-* six jaws at the same total grip leave the bore far rounder than three (REFERENCE.md 4.6: a factor of
+* six jaws at the same total grip leave the bore far rounder than three (inextensional ring theory, derived: a factor of
   about 19 on a thin ring; here a short tube, so only the direction and a lower bound of 5 are asserted);
 * the features against the drawing: the OD and bore limits from ISO 286-1 (`deflect.job.fits`, validated on its
   own) and the predicted extremes recomputed from the JSON deviation points.
@@ -75,11 +75,11 @@ def test_bore_springs_out_most_next_to_the_jaws(ring):
     # the bore's outward normal points at the axis: springing out (larger bore) is negative along it. Beyond
     # the jaws' reach the uniform squeeze dies out as a decaying bending wave (Timoshenko & Woinowsky-Krieger,
     # Theory of Plates and Shells, ch. 15) that may cross zero, so only the gripped length is judged.
-    under_jaws = np.array([p["released_mm"] for p in points if p["z"] <= 8.0])   # the job's holding.z
+    under_jaws = np.array([p["spring_back_mm"] for p in points if p["z"] <= 8.0])   # the job's holding.z
     assert np.all(under_jaws < 0.0)
     free_end = [p for p in points if p["z"] >= 12.0]
-    assert abs(under_jaws[0]) == max(abs(p["released_mm"]) for p in points)
-    assert abs(under_jaws[0]) > 3.0 * max(abs(p["released_mm"]) for p in free_end)
+    assert abs(under_jaws[0]) == max(abs(p["spring_back_mm"]) for p in points)
+    assert abs(under_jaws[0]) > 3.0 * max(abs(p["spring_back_mm"]) for p in free_end)
 
 
 def test_spring_back_adds_no_material(ring):
@@ -89,7 +89,7 @@ def test_spring_back_adds_no_material(ring):
     spacing = np.linalg.norm(np.diff(np.vstack([rz, rz[:1]]), axis=0), axis=1)
     ds = 0.5 * (spacing + np.roll(spacing, 1))
     for p, step in zip(points, ds):
-        cut = p["deviation_mm"] - p.get("released_mm", 0.0)
+        cut = p["deviation_mm"] - p.get("spring_back_mm", 0.0)
         mid_r = p["r"] + 0.5 * cut * p["nr"]
         total += 2.0 * math.pi * mid_r * cut * step
     density = 2.70   # g/cm3, 6061-T6 as the job's library material (data/materials.toml)
@@ -118,11 +118,13 @@ def test_toleranced_features_against_the_drawing():
             # material left makes an OD larger (nr = +1) and a bore smaller (nr = -1)
             change = np.array([2.0 * p["deviation_mm"] * p["nr"] for p in mine])
             lower, upper = limits_of_fit(code, diameter, "test")
-            name = f"{'OD' if surface == 'od' else 'bore'} {diameter:g}"
+            name = f"{'OD' if surface == 'od' else 'ID'} {diameter:g}"
             feature = features[name]
-            assert feature["low"] == pytest.approx(change.min(), abs=1e-12)
-            assert feature["high"] == pytest.approx(change.max(), abs=1e-12)
-            assert (feature["lower"], feature["upper"]) == pytest.approx((lower, upper), abs=1e-12)
+            # the JSON gives the feature's limits and extremes in um
+            assert feature["low_um"] == pytest.approx(1000.0 * change.min(), abs=1e-9)
+            assert feature["high_um"] == pytest.approx(1000.0 * change.max(), abs=1e-9)
+            assert (feature["lower_um"], feature["upper_um"]) == pytest.approx((1000.0 * lower, 1000.0 * upper),
+                                                                                abs=1e-9)
             inside = change.min() >= lower and change.max() <= upper
             assert feature["meets"] == inside
     assert any(not f["meets"] for f in features.values())     # the housing as programmed is out

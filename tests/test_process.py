@@ -1,6 +1,6 @@
 """Unit tests of the machining keys of a job ([stock], [[tool]], [[pass]], [machine], [tolerance]).
 
-Key names and meanings as in shared/CONTRACT.md, section "The machining job". Every bad input must be an
+Key names and meanings as in INTERFACE.md, section "The machining job". Every bad input must be an
 InputError naming the key; the messages are pinned to the words that tell the user what to do.
 """
 

@@ -9,6 +9,7 @@ three PNG files. The magnification rule of the section figure is checked against
 
 import csv
 import math
+import re
 
 import numpy as np
 import pytest
@@ -57,7 +58,7 @@ def rectangle_boundary(step=1.0):
 
 
 def check(surface, r, sign):
-    where = {"chuck end": 1.0, "middle": 5.0, "free end": 9.0}
+    where = {"held end": 1.0, "middle": 5.0, "free end": 9.0}
     left = {name: 0.001 * z for name, z in where.items()}
     return SurfaceCheck(surface=surface, positions={name: (r, z) for name, z in where.items()}, deviation_mm=left,
                         nominal_diameter_mm={name: 2.0 * r for name in where},
@@ -114,6 +115,16 @@ def test_predict_report_names_passes_and_figures(prediction):
     assert wall.splitlines()[-1].split() == ["middle", "5.00", "1.000", "1.010", "10.0"]
 
 
+def test_gain_rounding_to_zero_prints_no_sign_and_no_share(prediction):
+    """A gain of -0.0001 g prints as 0.000 g, with no '-0 %' share of the gain beside it."""
+    from dataclasses import replace
+    tiny = replace(prediction, mass_gain_by_surface_g={"od": 0.2501, "unmachined": -0.0001})
+    block = next(b for b in predict_report(tiny).split("\n\n") if b.startswith("Mass gain by surface"))
+    assert "-0.000" not in block and "-0 %" not in block
+    assert re.search(r"^unmachined +0\.000 g$", block, flags=re.M), block
+    assert "(100 % of the gain)" in block
+
+
 def test_predict_report_pass_row(prediction):
     row = next(line for line in predict_report(prediction).splitlines() if line.strip().startswith("rough OD"))
     cells = row.split()
@@ -152,11 +163,12 @@ def test_write_csv_files_headers_and_rows(prediction, tmp_path):
 def test_write_csv_station_values(prediction, tmp_path):
     rows = read_rows(write_csv(prediction, tmp_path)[0])
     header = rows[0]
-    second_cut = [dict(zip(header, row)) for row in rows[1:] if row[0] == "rough OD" and row[1] == "1"]
+    # cuts are numbered from 1, as on the screen and in the figures: the second cut is "2"
+    second_cut = [dict(zip(header, row)) for row in rows[1:] if row[0] == "rough OD" and row[1] == "2"]
     assert len(second_cut) == 5
     first = second_cut[0]
-    assert float(first["deflection_mm"]) == pytest.approx(0.02, rel=1e-12)
-    assert float(first["passive_N"]) == pytest.approx(8.0, rel=1e-12)
+    assert float(first["push_off_mm"]) == pytest.approx(0.02, rel=1e-12)
+    assert float(first["passive_force_N"]) == pytest.approx(8.0, rel=1e-12)
     assert float(first["tool_compliance_mm_per_N"]) == pytest.approx(2e-4, rel=1e-12)
     assert first["rubbing"] == "1" and second_cut[1]["rubbing"] == "0"
 

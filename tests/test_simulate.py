@@ -2,7 +2,7 @@
 
 The jobs are small thin sleeves written to a temporary folder: aluminium (E 68 900 MPa), r 19..20 mm,
 z 0..40 mm, held rigid over z <= 5 mm, with 0.3 mm of stock on the OD (or the bore) above z = 6 mm and one
-finishing pass, as in shared/tools/contract_check.py. Each test names the relation it checks:
+finishing pass. Each test names the relation it checks:
 
 * Hooke's law / linear elasticity: every compliance of the wall is proportional to 1/E, so with a rigid tool
   the material left vanishes like 1/E as the wall becomes rigid;
@@ -19,7 +19,7 @@ finishing pass, as in shared/tools/contract_check.py. Each test names the relati
 * the issue's convergence rule: halving the station spacing and doubling the key stations changes the
   mass gain and the largest deviation by less than 1 %.
 
-The shipped examples run through `deflect predict --json` and must give the keys of shared/CONTRACT.md; bad
+The shipped examples run through `deflect predict --json` and must give the keys of INTERFACE.md; bad
 passes through the command line must end with exit 2 and one `error:` line naming the file and the key.
 Heavier studies (the shipped housing's convergence) are marked slow.
 
@@ -242,7 +242,7 @@ def test_material_left_grows_towards_the_free_end(run, request):
     assert 0.0 < chuck < middle < free, (chuck, middle, free)
     check = next(c for c in pred.surfaces if c.surface == surface)
     diameter = check.predicted_diameter_mm
-    assert sign * diameter["chuck end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
+    assert sign * diameter["held end"] < sign * diameter["middle"] < sign * diameter["free end"], diameter
     drawn = 40.0 if surface == "od" else 38.0
     assert diameter["free end"] == pytest.approx(drawn + sign * 2.0 * check.deviation_mm["free end"], rel=SAME_FLOAT)
 

@@ -118,6 +118,14 @@ def test_the_key_prefix_is_passed_through():
     assert error.value.key == "tool[3].rake"
 
 
+def test_the_example_code_of_a_bad_insert_is_neutral():
+    """The message shows the ISO 1832 form with a placeholder for the maker's chip-breaker suffix, not one
+    maker's own code."""
+    with pytest.raises(InputError) as caught:
+        tool_from_job({"name": "T1", "insert": "CNMG12040", "approach": 93.0, "rake": 7.0})
+    assert "'CNMG 12 04 08-XX' (XX: a maker's chip-breaker code)" in caught.value.message
+
+
 def test_tool_table_must_be_a_table():
     with pytest.raises(InputError, match="must be a table"):
         tool_from_job(["T1"])

@@ -35,7 +35,7 @@ import numpy as np
 import pytest
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from test_simulate import OD_SLEEVE, run_cli, write_job  # noqa: E402
+from test_simulate import ID_SLEEVE, OD_SLEEVE, run_cli, write_job  # noqa: E402
 
 from deflect.decisions import tune  # noqa: E402
 from deflect.decisions.tune import Change  # noqa: E402
@@ -100,7 +100,7 @@ def sleeve(wall_mm: float = 1.0, stepped: bool = False) -> dict:
 
 
 def in_inches(tables: dict) -> dict:
-    """The same job written in inches: every length of its tables divided by 25.4 (CONTRACT.md: with
+    """The same job written in inches: every length of its tables divided by 25.4 (INTERFACE.md: with
     units = "inch" every length in the file is inches; fit codes, Ra, speeds and moduli stay)."""
     def scaled(value):
         return [scaled(v) for v in value] if isinstance(value, list) else value / MM_PER_INCH
@@ -427,7 +427,8 @@ def test_feature_ranges_are_those_of_the_surface_the_pass_cut(folder):
         changed = with_changes(tables, option["changes"])
         _, _, left = finished_cylinders(*deviation_arrays(predicted_json(folder, "features", changed)), changed)["od"]
         feature = next(f for f in option["features"] if f["surface"] == "od")
-        assert (feature["low"], feature["high"]) == pytest.approx((2 * left.min(), 2 * left.max()), abs=ROUND_OFF_MM)
+        assert (feature["low_um"], feature["high_um"]) == pytest.approx((2000 * left.min(), 2000 * left.max()),
+                                                                        abs=1000 * ROUND_OFF_MM)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -458,7 +459,7 @@ def test_impossible_tolerance_names_the_limiting_feature(folder):
 
 
 # ---------------------------------------------------------------------------------------------------
-# 4. the JSON keys of shared/CONTRACT.md, ranks and order
+# 4. the JSON keys of INTERFACE.md, ranks and order
 
 @pytest.mark.parametrize("run", RUNS)
 def test_tune_json_carries_the_contract_keys(run, request):
@@ -595,20 +596,70 @@ def test_contour_moves_follow_the_compensated_target_between_points(run, request
 # ---------------------------------------------------------------------------------------------------
 # 7. the machinist's words
 
+# one change of an option's line: "[N. ]...; finish bore: wear offset X +0.012 mm on the diameter (job key
+# offset = -0.006, a side along the outward normal)"
+OFFSET_LINE = re.compile(r"(?:^|; )(?:\d+\. )?(?P<pass>[^:;]+): wear offset X (?P<x>[+-][0-9.]+) mm on the diameter "
+                         r"\(job key offset = (?P<key>-?[0-9.]+), a side along the outward normal\)", re.M)
+
+
 def test_wear_offsets_are_worded_on_the_diameter(housing_run):
     """On an OD the X offset is twice the offset along the outward normal; in a bore the normal points at the
-    axis, so X is minus twice it."""
+    axis, so X is minus twice it. Both are on the same line, the job key as it is written into the job."""
     tables, data, _ = housing_run
     surface = {p["name"]: p["surface"] for p in tables["pass"]}
     seen = set()
     for option in data["options"]:
+        said = {m.group("pass").strip(): m for m in OFFSET_LINE.finditer(option["in_words"])}
         for change in (c for c in option["changes"] if c["key"] == "offset"):
             x = (2.0 if surface[change["pass"]] == "od" else -2.0) * change["to"]
-            said = re.search(re.escape(change["pass"]) + r": wear offset X ([+-][0-9.]+) \(on diameter\)",
-                             option["in_words"])
-            assert said and float(said.group(1)) == pytest.approx(x, abs=1e-9), option["in_words"]
+            line = said[change["pass"]]
+            assert float(line.group("x")) == pytest.approx(x, abs=1e-9), option["in_words"]
+            assert float(line.group("key")) == pytest.approx(change["to"], abs=1e-9), option["in_words"]
             seen.add(surface[change["pass"]])
     assert seen == {"od", "id"}
+
+
+def bore_sleeve() -> dict:
+    """The bored sleeve of tests/test_simulate.py with an H8 bore: its push-off leaves the bore small."""
+    tables = copy.deepcopy(ID_SLEEVE)
+    tables["tolerance"] = {"id": "H8"}
+    return tables
+
+
+def finished_diameter_change(data: dict, surface: str) -> tuple[np.ndarray, np.ndarray]:
+    """(z, change of the diameter from the drawn one) of the cylindrical points finished on `surface`."""
+    points = [q for q in data["deviation"] if q["surface"] == surface and abs(q["nr"]) > CYLINDER_COS]
+    points.sort(key=lambda q: q["z"])
+    return (np.array([q["z"] for q in points]),
+            np.array([2.0 * q["deviation_mm"] * q["nr"] for q in points]))
+
+
+@pytest.mark.parametrize("name, tables, surface", [("od-offset", sleeve(), "od"),
+                                                   ("bore-offset", bore_sleeve(), "id")])
+def test_printed_wear_offset_written_into_the_job_moves_the_diameter_as_said(folder, name, tables, surface):
+    """Issue 10.2: the value printed as the job key, copied into the job, moves the predicted diameter by the
+    printed X (a bore copied the other way came out 24 um small). The deeper cut pushes off a little more, by
+    the push-off's share of the extra depth (Kienzle: the passive force grows about in proportion to the
+    depth below the nose radius), so X is met to that share, bounded from the prediction itself."""
+    code, out, err = run_cli(["tune", str(write_job(folder, name, tables)), "--quiet"])
+    assert code == 0, err
+    lines = list(OFFSET_LINE.finditer(out))
+    assert lines, out
+    line = lines[0]
+    x_mm, key_mm = float(line.group("x")), float(line.group("key"))
+    changed = copy.deepcopy(tables)
+    finish = next(p for p in changed["pass"] if p["name"] == line.group("pass").strip())
+    finish["offset"] = key_mm
+    before = predicted_json(folder, f"{name}-before", tables)
+    after = predicted_json(folder, f"{name}-after", changed)
+    z_before, d_before = finished_diameter_change(before, surface)
+    z_after, d_after = finished_diameter_change(after, surface)
+    moved = d_after - np.interp(z_after, z_before, d_before)
+    record = next(p for p in before["passes"] if p["name"] == finish["name"])
+    met = np.array([s["met_depth_mm"] for s in record["stations"]])
+    extra_push_off = record["max_deflection_mm"] * abs(key_mm) / float(np.median(met[met > 0.0]))
+    assert np.sign(moved.mean()) == np.sign(x_mm)
+    assert np.abs(moved - x_mm).max() <= 2.0 * extra_push_off + ROUND_OFF_MM, (x_mm, moved.min(), moved.max())
 
 
 @pytest.mark.parametrize("units, words", [("mm", "rough OD: leave 0.1 mm a side for the finish pass (was 0.3)"),
@@ -665,7 +716,7 @@ def test_spring_cut_pushes_off_by_its_own_force(folder):
 # the cutting speed, where the machine's power limits it
 
 def test_a_pass_over_the_machines_power_runs_slower_in_every_option(folder):
-    """P = F_c v_c / 60000 (REFERENCE.md 1.1; the force hardly changes with speed): a pass that asks more
+    """P = F_c v_c / 60000 (the cutting power; the force hardly changes with speed): a pass that asks more
     than the machine has is slowed in every option, and an option said to meet keeps its predicted peak
     power within the machine's."""
     tables = sleeve()

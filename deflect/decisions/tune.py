@@ -40,7 +40,7 @@ from functools import cached_property
 
 import numpy as np
 
-from deflect.decisions.conformance import FeatureCheck, check_features, finishing_passes, wall_profile
+from deflect.decisions.conformance import FeatureCheck, Verdict, finishing_passes, size_extremes, verdict, wall_profile
 from deflect.errors import InputError, ModelError
 from deflect.job.fits import Tolerances, tolerance_from_table
 from deflect.machining.results import Prediction
@@ -138,11 +138,11 @@ class Search:
             pred = simulate(job, process, memo=self.memo, with_ranges=with_ranges)
         except (InputError, ModelError):
             return None
-        checks = check_features(pred, process, self.tolerances)
+        judged = verdict(job, process, pred, self.tolerances, self.memo)
         return Outcome(changes=changes, cycle_time_s=pred.cycle_time_s, max_deviation_mm=worst_deviation_mm(pred),
                        ra_um=finishing_ra(pred, process),
-                       mass_g=pred.predicted_mass_g.value, checks=checks,
-                       broken=broken_limits(pred, process, checks), prediction=pred)
+                       mass_g=pred.predicted_mass_g.value, checks=judged.checks,
+                       broken=broken_limits(pred, process, judged.checks) + not_held(judged), prediction=pred)
 
 
 def worst_deviation_mm(pred: Prediction) -> float:
@@ -179,9 +179,12 @@ def broken_limits(pred: Prediction, process, checks: list[FeatureCheck]) -> list
         elif c.surface == "wall":
             broken.append(f"wall {1000 * max(abs(c.low), abs(c.high)):.0f} um off nominal at z {c.worst_z_mm:.1f} "
                           f"(+/-{1000 * c.upper:.0f} um allowed)")
+        elif c.surface == "roundness":
+            broken.append(f"{c.feature}: {1000 * c.high:.1f} um, over the {1000 * c.upper:g} um allowed")
         else:
+            form = f", the jaws' lobes taking {1000 * c.form_mm:.0f} um of it" if c.form_mm > 0.0 else ""
             broken.append(f"{c.feature}: {1000 * c.low:+.0f} to {1000 * c.high:+.0f} um on the diameter, limits "
-                          f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um")
+                          f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um{form}")
     finishing = {p.name: p for p in finishing_passes(pred, process)}
     for p in pred.passes:
         if p.name not in finishing:
@@ -198,6 +201,14 @@ def broken_limits(pred: Prediction, process, checks: list[FeatureCheck]) -> list
     if pred.peak_power_kw > process.machine.power_kw:
         broken.append(f"peak power {pred.peak_power_kw:.1f} kW over the machine's {process.machine.power_kw:g} kW")
     return broken
+
+
+NOT_HELD = "not held: "          # the start of a broken limit that no surface's remedy mends
+
+
+def not_held(judged: Verdict) -> list[str]:
+    """The grip's problems as broken limits: a part the grip does not hold meets nothing, whatever its sizes."""
+    return [NOT_HELD + line for line in (judged.grip.problems() if judged.grip is not None else [])]
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -332,7 +343,7 @@ def holds_surface(surface: Surface):
     rubbing), the wall, and the power are kept."""
     def holds(outcome: Outcome) -> bool:
         mine = [c for c in outcome.checks if c.pass_name == surface.finish.name or c.surface == "wall"]
-        own = [b for b in outcome.broken if b.startswith(surface.finish.name) or b.startswith("peak power")]
+        own = [b for b in outcome.broken if b.startswith((surface.finish.name, "peak power", NOT_HELD))]
         return all(c.meets for c in mine) and not own
     return holds
 
@@ -382,15 +393,19 @@ def offset_grid_options(search: Search, surface: Surface, ra_limit, beat_s: floa
     return found
 
 
-def surface_deviation(pred: Prediction, surface: Surface) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """(position along the pass, material left a side, outward normal r) on the cylindrical points the
-    finishing pass finished."""
+def surface_deviation(pred: Prediction, surface: Surface,
+                      envelope: bool = True) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(position along the pass, most and least material left a side as a size gauge sees it) on the
+    cylindrical points the finishing pass finished: the material left itself, widened by the lobes the jaws
+    leave with [holding] (`conformance.size_extremes`, by the drawing's rule for size)."""
     d = pred.deviation
-    mine = np.array([n == surface.finish.name and abs(d.normals[k][0]) > CYLINDER_COS for k, n in enumerate(d.finished_by)])
-    if not mine.any():
+    mine = np.flatnonzero([n == surface.finish.name and abs(d.normals[k][0]) > CYLINDER_COS
+                           for k, n in enumerate(d.finished_by)])
+    if not len(mine):
         return np.empty(0), np.empty(0), np.empty(0)
-    order = np.argsort(d.points_rz[mine, 1])
-    return d.points_rz[mine, 1][order], d.deviation_mm[mine][order], d.normals[mine, 0][order]
+    mine = mine[np.argsort(d.points_rz[mine, 1])]
+    most, least = size_extremes(d, mine, envelope)
+    return d.points_rz[mine, 1], most, least
 
 
 def band_centre_mm(outcome: Outcome, surface: Surface) -> float | None:
@@ -410,7 +425,7 @@ def offset_option(search: Search, base: tuple[Change, ...], surface: Surface) ->
     for _ in range(OFFSET_ROUNDS):
         if outcome is None:
             return None
-        shift = centring_shift_mm(outcome, surface, search.tolerances.wall_mm)
+        shift = centring_shift_mm(outcome, surface, search.tolerances)
         if shift is None:
             return None
         offset = round_um(offset + shift)
@@ -418,20 +433,22 @@ def offset_option(search: Search, base: tuple[Change, ...], surface: Surface) ->
     return outcome
 
 
-def centring_shift_mm(outcome: Outcome, surface: Surface, wall_mm: float | None) -> float | None:
+def centring_shift_mm(outcome: Outcome, surface: Surface, tolerances: Tolerances) -> float | None:
     """How far to move the surface along its outward normal [mm, a side] to put its deviation in the middle
     of the interval the limits allow: from the diameter band (an OD grows by twice the material left, a bore
-    shrinks by it) and, with a wall tolerance, from the wall's band (the wall grows by the material left on
-    either side). Where the two do not overlap, the diameter band alone decides."""
+    shrinks by it; with lobes, the most material as gauged against the maximum-material limit and the least
+    against the other) and, with a wall tolerance, from the wall's band (the wall grows by the material left
+    on either side). Where the two do not overlap, the diameter band alone decides."""
     feature = next((c for c in outcome.checks if c.pass_name == surface.finish.name and c.surface == surface.kind),
                    None)
-    _, left, _ = surface_deviation(outcome.prediction, surface)
-    if feature is None or not len(left):
+    _, most, least = surface_deviation(outcome.prediction, surface, tolerances.envelope)
+    if feature is None or not len(most):
         return None
     if surface.kind == "od":
-        low, high = 0.5 * feature.lower - left.min(), 0.5 * feature.upper - left.max()
+        low, high = 0.5 * feature.lower - least.min(), 0.5 * feature.upper - most.max()
     else:
-        low, high = -0.5 * feature.upper - left.min(), -0.5 * feature.lower - left.max()
+        low, high = -0.5 * feature.upper - least.min(), -0.5 * feature.lower - most.max()
+    wall_mm = tolerances.wall_mm
     if wall_mm is not None:
         _, wall = wall_profile(outcome.prediction)
         if len(wall):
@@ -450,7 +467,8 @@ def compensation_option(search: Search, base: tuple[Change, ...], surface: Surfa
     outcome = search.evaluate(base)
     if outcome is None:
         return None
-    z, left, _ = surface_deviation(outcome.prediction, surface)
+    envelope = search.tolerances.envelope
+    z, most, least = surface_deviation(outcome.prediction, surface, envelope)
     centre = band_centre_mm(outcome, surface)
     if len(z) < 2 or centre is None:
         return None
@@ -459,13 +477,14 @@ def compensation_option(search: Search, base: tuple[Change, ...], surface: Surfa
     rounds = []
     for k in range(COMPENSATION_ROUNDS):
         share = 1.0 if k == 0 else COMPENSATION_RELAXATION
-        shift = np.array([round_um(v) for v in shift - share * (np.interp(positions, z, left) - centre)])
+        middle = 0.5 * (most + least)          # the middle of what the gauges see, to the band's centre
+        shift = np.array([round_um(v) for v in shift - share * (np.interp(positions, z, middle) - centre)])
         pairs = tuple((round(float(a), 4), float(b)) for a, b in zip(positions, shift))
         outcome = search.evaluate(base + (Change(surface.finish.name, "compensate", None, pairs),))
         if outcome is None:
             break
         rounds.append(outcome)
-        z, left, _ = surface_deviation(outcome.prediction, surface)
+        z, most, least = surface_deviation(outcome.prediction, surface, envelope)
         if len(z) < 2:
             break
     return nearest_to_holding(rounds, surface)
@@ -646,10 +665,11 @@ def offset_note(outcome: Outcome | None) -> str:
     lines = []
     for c in outcome.checks:
         if c.surface in ("od", "id"):
-            taper_um, band_um = 1000 * (c.high - c.low), 1000 * (c.upper - c.lower)
-            verdict = "enough" if taper_um <= band_um and c.meets else "not enough"
-            lines.append(f"{c.feature}: taper {taper_um:.0f} um on the diameter against a band of {band_um:.0f} um, "
-                         f"a wear offset alone is {verdict}")
+            spread_um, band_um = 1000 * (c.high - c.low), 1000 * (c.upper - c.lower)
+            enough = "enough" if spread_um <= band_um and c.meets else "not enough"
+            lobes = f" ({1000 * c.form_mm:.0f} um of it the jaws' lobes)" if c.form_mm > 0.0 else ""
+            lines.append(f"{c.feature}: taper {spread_um:.0f} um on the diameter{lobes} against a band of "
+                         f"{band_um:.0f} um, a wear offset alone is {enough}")
     return "; ".join(lines)
 
 
@@ -668,6 +688,9 @@ def limiting_text(current: Outcome, options: list[Outcome]) -> str:
     failing = {name: v for name, v in best_for.items() if v[0] < 0.0}
     if not failing:
         return "no option meets every limit: " + "; ".join(min(candidates, key=lambda o: len(o.broken)).broken)
+    grip = next((b for o in candidates for b in o.broken if b.startswith(NOT_HELD)), None)
+    held = ("" if grip is None else
+            f"{grip}; the remedies here change the finishing, not the holding (`deflect clamp` for that). Besides, ")
     _, check, outcome = min(failing.values(), key=lambda v: v[0])
     rank = candidates.index(outcome) + 1 if outcome in options else 0
     where = f" at z {check.worst_z_mm:.1f} mm" if check.worst_z_mm is not None else ""
@@ -677,6 +700,10 @@ def limiting_text(current: Outcome, options: list[Outcome]) -> str:
         reached = (f"{1000 * check.low:+.1f} to {1000 * check.high:+.1f} um against limits {1000 * check.lower:+.0f} / "
                    f"{1000 * check.upper:+.0f} um")
     wall = " (the wall between them)" if check.surface == "wall" else ""
-    return (f"no option holds the drawing: the limiting feature is {check.feature}{wall}{where}; the best "
-            f"achievable is {reached}" + (f" (option {rank})" if rank else "") +
-            ". Thicken the wall (`--design`), widen the tolerance, or hold the part nearer the cut.")
+    if check.surface == "roundness" or check.form_mm > 0.0:
+        advice = ("The out-of-roundness the jaws leave is what limits: change the holding (`deflect clamp`: more "
+                  "jaws, pie jaws, a collet, a lighter grip for the finish), or widen the tolerance.")
+    else:
+        advice = "Thicken the wall (`--design`), widen the tolerance, or hold the part nearer the cut."
+    return (f"{held}no option holds the drawing: the limiting feature is {check.feature}{wall}{where}; the best "
+            f"achievable is {reached}" + (f" (option {rank})" if rank else "") + ". " + advice)

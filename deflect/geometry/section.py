@@ -19,7 +19,7 @@ tangent to both neighbours. On a section:
   ray refined with Brent's bounded minimisation (R. P. Brent, "Algorithms for Minimization without
   Derivatives", 1973, ch. 5, as in scipy's `minimize_scalar(method="bounded")`).
 
-Outline rules (see CONTRACT.md): `[r, z]` a corner, `[r, z, f]` a corner rounded with a fillet of
+Outline rules (see INTERFACE.md): `[r, z]` a corner, `[r, z, f]` a corner rounded with a fillet of
 radius f, `{ to = [r, z], radius = R }` an arc from the previous node, turning left (counter-
 clockwise) for R > 0 and right for R < 0, never more than a half circle. A fillet on a straight or
 smooth (tangent) corner has nothing to round and is ignored. Fillets are supported between any two

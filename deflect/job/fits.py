@@ -2,7 +2,7 @@
 
 Takes an ISO 286 tolerance class as written on a drawing ("h8" for a shaft, "H7" for a hole) and a nominal
 diameter, and gives the lower and upper deviation on the diameter (`limits_of_fit`, mm). Takes the job's
-`[tolerance]` table (shared/CONTRACT.md, "The machining job"; lengths already in mm, see
+`[tolerance]` table (INTERFACE.md, "The machining job"; lengths already in mm, see
 `deflect.job.reader.TOLERANCE_LENGTH_KEYS`) and gives a checked `Tolerances`, whose `diameter_limits` turns the od
 or id tolerance into deviations for the diameter it applies to.
 
@@ -17,7 +17,8 @@ linear sizes - Part 1: Basis of tolerances, deviations and fits*:
   K, M, N, P: ES = -ei of the same shaft letter, plus Delta = IT(n) - IT(n-1) for K, M, N up to grade 8 and
   P up to grade 7; JS: +/- IT/2). The table numbers of the 2010 edition are from memory, to be confirmed.
 
-What is confirmed and what is recalled is said beside each table (marks as in shared/REFERENCE.md).
+What is confirmed and what is recalled is said beside each table: [C] read in the standard's table or in
+two independent reproductions of it that agree, [M] from memory, to be confirmed.
 Letters and grades the module does not hold are refused with an `InputError`, never guessed.
 """
 
@@ -31,7 +32,7 @@ from deflect.job.checks import check_keys, check_table, number
 
 # ISO 286-1:2010, Table 1: standard tolerance values, um, per nominal size range in mm ("over ... up to and
 # including"; the first range takes sizes from 0 to 3 inclusive).
-# IT5 to IT11 up to 315 mm: [C], shared/REFERENCE.md section 5.
+# IT5 to IT11 up to 315 mm: [C], two independent public reproductions of ISO 286-1:2010 Table 1 that agree.
 # IT1 to IT4, IT12 to IT18 and the ranges 315-400 and 400-500: from memory, to be confirmed.
 STANDARD_TOLERANCE_ROWS = (
     # (over mm, up to and including mm, (IT1, IT2, ..., IT18) um)
@@ -60,7 +61,7 @@ SMALLEST_COARSE_SIZE_MM = 1.0
 SIZE_ROUND_OFF_MM = 1e-9
 
 # Fundamental deviations, um, one value per range of SIZE_RANGES_MM. All from memory, to be confirmed,
-# except g, f, e at 18-30 and 30-50 (shared/REFERENCE.md section 5, [M] there too) and h (es = 0, [C]).
+# except g, f, e at 18-30 and 30-50 ([M]) and h (es = 0, [C]).
 # ISO 286-1:2010, Table 2: upper deviation es of shafts d to h.
 SHAFT_UPPER_UM = {
     "d": (-20, -30, -40, -50, -65, -80, -100, -120, -145, -170, -190, -210, -230),
@@ -92,7 +93,7 @@ M6_SPECIAL = (6, (250.0, 315.0), -9.0)  # grade, size range mm, ES um
 
 # js / JS: +/- IT/2. For js7 to js11 an odd IT (in um) is first rounded down to the even value below, so the
 # deviations come out in whole micrometres (ISO 286-1:2010 note to Tables 2 and 4; the grade range is from
-# memory, to be confirmed: shared/REFERENCE.md section 5 states the rule [M] without it, while the published
+# memory, to be confirmed: the rule is recalled without it, while the published
 # js6 limits keep their half micrometres, e.g. js6 over 18 up to 30 mm = +/-6.5 um).
 JS_ROUNDED_GRADES = range(7, 12)
 
@@ -102,7 +103,7 @@ FIT_FORM = ('a fit code is the deviation letter and the IT grade, e.g. "h8" for 
             "(lower-case letters are shafts, upper-case holes)")
 _FIT = re.compile(r"([a-z]{1,2}|[A-Z]{1,2})(\d+)")
 
-TOLERANCE_KEYS = ("od", "id", "wall", "ra")
+TOLERANCE_KEYS = ("od", "id", "wall", "ra", "roundness", "envelope")
 LIMIT_KEYS = ("plus", "minus")
 SURFACES = ("od", "id")
 
@@ -141,6 +142,13 @@ class Tolerances:
 
     ``od`` and ``id`` hold a `Fit` (a shaft letter for the od, a hole letter for the id) or explicit
     `DiameterLimits`; ``wall_mm`` is the +/- band on wall thickness; ``ra_um`` the most roughness Ra.
+    ``od_roundness_mm`` and ``id_roundness_mm`` are roundness limits of their own (ISO 1101: the radial width
+    of the zone between two concentric circles, ISO 12181), None where not given.
+    ``envelope``: how a diameter's size is judged. True (the default): the envelope requirement (ISO 14405-1,
+    the modifier (E); Taylor's principle; the default of ASME Y14.5-2018, Rule #1), a GO ring or plug gauge at
+    the maximum-material size and two-point sizes within the least-material size, so the form must fit inside
+    the diameter band. False: size independent of form (the independency principle, ISO 8015:2011), two-point
+    sizes within both limits, the roundness reported beside and judged only against a roundness limit.
     ``key`` is the table's dotted key, for the errors `diameter_limits` raises.
     """
 
@@ -149,6 +157,13 @@ class Tolerances:
     wall_mm: float | None
     ra_um: float | None
     key: str = "tolerance"
+    od_roundness_mm: float | None = None
+    id_roundness_mm: float | None = None
+    envelope: bool = True
+
+    def roundness_limit_mm(self, surface: str) -> float | None:
+        """The roundness limit of the od or id [mm, radial peak to valley], None if not toleranced."""
+        return self.od_roundness_mm if surface == "od" else self.id_roundness_mm
 
     def diameter_limits(self, surface: str, nominal_diameter_mm: float) -> tuple[float, float] | None:
         """(lower, upper) deviation from the nominal diameter, mm, of the od or id; None if not toleranced.
@@ -288,11 +303,27 @@ def tolerance_from_table(table: dict, key: str = "tolerance") -> Tolerances:
     """The job's [tolerance] table (od, id, wall, ra; lengths in mm), checked, as `Tolerances`."""
     check_table(table, key)
     check_keys(table, TOLERANCE_KEYS, key)
+    od_roundness, id_roundness = _roundness_limits(table.get("roundness"), f"{key}.roundness")
+    envelope = table.get("envelope", True)
+    if not isinstance(envelope, bool):
+        raise InputError(f"{key}.envelope", "must be true (the default: the form must fit inside the diameter band, "
+                                            "ISO 14405-1 (E)) or false (size independent of form, ISO 8015), got "
+                                            f"{envelope!r}")
     return Tolerances(od=_diameter_tolerance(table.get("od"), "od", key),
                       id=_diameter_tolerance(table.get("id"), "id", key),
                       wall_mm=_positive(table.get("wall"), f"{key}.wall", "mm, the +/- band on wall thickness"),
                       ra_um=_positive(table.get("ra"), f"{key}.ra", "um, the most roughness Ra"),
-                      key=key)
+                      key=key, od_roundness_mm=od_roundness, id_roundness_mm=id_roundness, envelope=envelope)
+
+
+def _roundness_limits(value, key: str) -> tuple[float | None, float | None]:
+    """(od, id) roundness limits [mm]: one number for both, or a table { od = ..., id = ... }."""
+    meaning = "mm, the most roundness: radial peak to valley"
+    if isinstance(value, dict):
+        check_keys(value, SURFACES, key)
+        return tuple(_positive(value.get(side), f"{key}.{side}", meaning) for side in SURFACES)
+    limit = _positive(value, key, meaning + ", one number for the OD and the bore or { od = ..., id = ... }")
+    return limit, limit
 
 
 def _diameter_tolerance(value, surface: str, key: str) -> Fit | DiameterLimits | None:

@@ -1,6 +1,6 @@
 """The `[holding]` table of a job: how the part is gripped, checked, and where the grip bears on the section.
 
-Takes the `[holding]` table as the job reader passes it (lengths already in mm; keys in shared/CONTRACT.md,
+Takes the `[holding]` table as the job reader passes it (lengths already in mm; keys in INTERFACE.md,
 "Work holding") and the part's `Section`; gives a `Holding` (kind, jaws, grip side, contact z range, jaw
 width, grip force, friction, jaw mass and radius, safety factor), the `Contact` where it bears (boundary
 samples of the gripped surface, each with its share of the grip force), the finished OD and bore of the
@@ -8,9 +8,9 @@ section as `SurfacePoints`, and the held box the cutting-stiffness model uses wh
 `[[held]]` box (`held_from_holding`).
 
 Defaults (said in `Holding.notes` when used): kind "jaws", 3 jaws, grip "od" ("id" for a mandrel),
-friction 0.1 (the low end quoted for smooth jaws on a finished surface, REFERENCE.md 8 [M], so the safe side
-for holding), safety 1.5 (the least machining safety factor S_z that VDI 3106 asks for, as quoted in
-REFERENCE.md 8 [S]). `z`, `force` and, for jaws, `width` have no sensible default and must be given.
+friction 0.1 (the low end quoted for smooth jaws on a finished surface, from memory, so the safe side
+for holding), safety 1.5 (the least machining safety factor S_z that VDI 3106 (2004) asks for, as quoted in
+chuck makers' operating manuals: seen second-hand). `z`, `force` and, for jaws, `width` have no sensible default and must be given.
 `jaw_mass` may be left out: then no loss of grip at speed is counted, and a note says so. For a collet or
 mandrel the grip goes all round (a full-circumference pressure); `jaws` and `width` do not apply, and
 `jaw_mass` is the mass of all its gripping segments together.
@@ -34,8 +34,8 @@ HOLDING_KEYS = ("kind", "jaws", "grip", "z", "width", "force", "friction", "jaw_
 KINDS = ("jaws", "collet", "mandrel")
 GRIPS = ("od", "id")
 DEFAULT_JAWS = 3
-DEFAULT_FRICTION = 0.1        # REFERENCE.md 8 [M]: about 0.1 smooth jaws on a finished surface, 0.2-0.35 serrated
-DEFAULT_SAFETY = 1.5          # REFERENCE.md 8 [S]: VDI 3106 as quoted, S_z >= 1.5
+DEFAULT_FRICTION = 0.1        # from memory: about 0.1 smooth jaws on a finished surface, 0.2-0.35 serrated
+DEFAULT_SAFETY = 1.5          # VDI 3106 (2004) as quoted second-hand: S_z >= 1.5
 
 SIDE_COS = math.cos(math.radians(45.0))   # a boundary point faces outwards (od) or inwards (id) within 45 deg
 CONTACT_GAP_MM = 0.02         # a jaw bears on the largest OD (smallest bore) in its z range and what lies
@@ -69,7 +69,7 @@ class Holding:
 
     @property
     def centrifugal_moment_kg_m(self) -> float:
-        """sum m_B r_s of the gripping set [kg m] (VDI 3106 "centrifugal moment", REFERENCE.md 8 [S]); 0 if no
+        """sum m_B r_s of the gripping set [kg m] (VDI 3106 "centrifugal moment", as quoted second-hand); 0 if no
         jaw mass was given."""
         if not self.jaw_mass_kg:
             return 0.0
@@ -286,7 +286,7 @@ def contact_of(section: Section, holding: Holding) -> Contact:
     side = surface_points(section, holding.grip, spacing)
     z = side.points_rz[:, 1]
     inside = (z >= low - 1e-9) & (z <= high + 1e-9)
-    name = "OD" if holding.grip == "od" else "bore"
+    name = "OD" if holding.grip == "od" else "ID"
     if not inside.any():
         span = f"its {name} spans z = {z.min():g} to {z.max():g} mm" if len(z) else f"it has no {name}"
         raise InputError("holding.z", f"the grip at z = [{low:g}, {high:g}] touches no {name} of the part "

@@ -3,7 +3,7 @@
 Takes a `deflect.job.reader.Job` (its `tables`, lengths already in mm, and its nominal `section`) and gives a
 `Process`: the blank as a counter-clockwise (r, z) polygon, the tools by name (`deflect.job.tooling.Tool`), the
 passes in order, the machine's limits and the raw tolerance table. Key names and meanings are those of
-CONTRACT.md, section "The machining job".
+the project's interface page (INTERFACE.md), "The machining job".
 
 Every problem is an `InputError` naming the key and what to do: unknown or missing keys, wrong types,
 zero feed or speed, an undefined tool, a pass that misses the stock or the part, a pass whose target

@@ -1,6 +1,6 @@
 """Job file: TOML on disk -> a checked `Job` in mm, N, MPa.
 
-Takes the path of a job file (layout in shared/CONTRACT.md) and gives a `Job`: the title, the nominal
+Takes the path of a job file (keys in INTERFACE.md) and gives a `Job`: the title, the nominal
 section (`deflect.geometry.section.Section`), the material (`deflect.job.materials.Material`), the held boxes (the
 [[held]] boxes or, when there are none, the material under the [holding] contact,
 `deflect.job.holding.held_from_holding`), and the machining tables as read (checked by the modules that use
@@ -31,12 +31,12 @@ JOB_KEYS = ("title", "units")
 PART_KEYS = ("outline",)
 HELD_KEYS = ("r", "z")
 
-# Lengths inside the machining tables, converted for inch jobs (key names as in CONTRACT.md).
+# Lengths inside the machining tables, converted for inch jobs (key names as in INTERFACE.md).
 TOOL_LENGTH_KEYS = ("nose_radius",)
 BAR_LENGTH_KEYS = ("diameter", "overhang")
 PASS_LENGTH_KEYS = ("allowance", "feed", "z", "r", "depth", "offset", "compensate")
 HOLDING_LENGTH_KEYS = ("z", "width", "jaw_radius")
-TOLERANCE_LENGTH_KEYS = ("wall", "plus", "minus")
+TOLERANCE_LENGTH_KEYS = ("wall", "roundness", "plus", "minus")
 
 
 @dataclass(frozen=True)
@@ -90,8 +90,9 @@ def convert_machining_tables(data: dict, factor: float) -> dict:
         tables["holding"] = scale_keys(check_table(data["holding"], "holding"), HOLDING_LENGTH_KEYS, factor)
     if "tolerance" in data:
         tolerance = check_table(data["tolerance"], "tolerance")
-        tables["tolerance"] = {k: (scale_keys(v, TOLERANCE_LENGTH_KEYS, factor) if isinstance(v, dict)
-                                   else scale_lengths(v, factor) if k in TOLERANCE_LENGTH_KEYS else v)
+        # wall and roundness are lengths (a roundness table's od and id too); explicit limits hold lengths
+        tables["tolerance"] = {k: (scale_lengths(v, factor) if k in TOLERANCE_LENGTH_KEYS
+                                   else scale_keys(v, TOLERANCE_LENGTH_KEYS, factor) if isinstance(v, dict) else v)
                                for k, v in tolerance.items()}
     if "machine" in data:
         tables["machine"] = check_table(data["machine"], "machine")

@@ -87,7 +87,7 @@ def _bad_code(key: str, code: str, why: str) -> InputError:
     return InputError(
         key,
         f"{code!r} is not an ISO 1832 insert designation ({why}); expected the metric "
-        "form such as 'CNMG120408', 'DCMT11T304' or 'CNMG 12 04 08-PM'",
+        "form such as 'CNMG120408', 'DCMT11T304' or 'CNMG 12 04 08-XX' (XX: a maker's chip-breaker code)",
     )
 
 

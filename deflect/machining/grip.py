@@ -7,15 +7,16 @@ surface finished in the chuck after release, the grip during each cut, the least
 remedies each evaluated with the model (more jaws, wider jaws, a collet or mandrel, gripping on a thicker
 section, a lighter grip for the finishing passes), and the cautions.
 
-Holding the cut (jaw chuck practice as quoted from VDI 3106 (2004) in REFERENCE.md 8 [S]):
+Holding the cut (jaw chuck practice after VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern
+(Backenfutter)", as quoted in chuck makers' operating manuals: seen second-hand):
 * the jaws' centrifugal force Fc = (sum m_B r_s) (pi n / 30)^2 (kg, m, 1/min -> N) takes grip away from an
   OD grip and adds to a bore grip: F_sp = F_sp0 -/+ Fc;
 * the grip must carry the cut by friction: the cutting force F_c at the chip's radius r turns the part with
-  the torque F_c r, which the grip holds with mu F_sp R at the gripped radius R (REFERENCE.md 8 [S]); the
+  the torque F_c r, which the grip holds with mu F_sp R at the gripped radius R (same source); the
   feed force (the passive force of a face pass) pushes it along the axis, held by the same friction. Coulomb
   friction bounds the friction force of a contact in any direction of its plane by mu times its normal force,
   so the two demands add as a vector: F_spz = sqrt((F_c r / R)^2 + F_axial^2) / mu. (The tilting moment of a
-  long overhang needs a check of its own, REFERENCE.md 8; it is not made here.)
+  long overhang needs a check of its own; it is not made here.)
 * the least static grip: F_sp0 = S_z F_spz + Fc for an OD grip. For a bore grip F_sp0 = S_z F_spz - Fc, but
   never below F_spz: the gain from speed is counted for the safety margin only, never for the force itself
   (the spindle slows at the end of the cycle, and the grip must hold whenever the tool is in the cut). The
@@ -25,12 +26,22 @@ max_rpm, `cutting.spindle_speed_rpm`), with the depth it meets on the part cut e
 targets (`simulate.laid_out`, `simulate.met_depth`): the true nominal depth, not a cap.
 
 Keeping the form: the release is linear in the grip during the cut, F_sp0 -/+ Fc at the speed of the pass
-that finishes each point, so the most grip is the force at which the first point's form reaches its limit.
-The limit is the band of the diameter tolerance (`deflect.job.fits`), read as a ring or plug gauge at the
-maximum-material size and a two-point gauge at the least-material size check it (the envelope requirement,
-ISO 14405-1 / ASME Y14.5 Rule #1; `clamping.Squeeze.envelope_mm_per_n`): for 3 lobes a radial peak to valley
-up to the whole band, for an even number of lobes up to half of it, the size set at its best. With no
-diameter tolerance there is no most grip (None).
+that finishes each point, so the most grip is the force at which the first point's form reaches its limit,
+the size set at its best. The limits (`deflect.job.fits.Tolerances`):
+* by default the diameter band read under the envelope requirement, as a GO ring or plug gauge at the
+  maximum-material size and a two-point NO-GO measurement at the least-material size check it (Taylor's
+  principle; ISO 14405-1 (E); ASME Y14.5-2018 Rule #1; `clamping.Squeeze.envelope_mm_per_n`): the form may take
+  half the band, so for 3 lobes (odd: the two-point size stays constant) a radial peak to valley up to the
+  whole band, for an even number of lobes up to half of it;
+* with `envelope = false` (size independent of form, ISO 8015) the band limits the two-point sizes only: the
+  spread of the two-point size the lobes make may take the whole band (odd lobes make almost none);
+* a roundness limit of its own (`roundness`, radial peak to valley, ISO 1101 / ISO 12181) caps the peak to
+  valley in either case.
+With none of these on the finished surfaces there is no most grip (None).
+
+Holding the part (`grip_check`, for `deflect predict` and `deflect tune` as for `deflect clamp`): the given
+grip against the least that holds the heaviest cut, and the passes at whose speed the jaws' centrifugal force
+takes the whole grip of an OD grip away (the jaws lift off).
 """
 
 from __future__ import annotations
@@ -51,11 +62,11 @@ from deflect.mechanics.cutting import cutting_forces, spindle_speed_rpm
 
 HOLD_STATION_MM = 0.5        # station spacing along a cut for the grip it needs (the force changes slowly)
 SURFACE_SPACING_SHARE = 1 / 200   # finished-surface points every perimeter / 200
-EN1550_SHARE = 0.67          # EN 1550 as quoted (REFERENCE.md 8 [S]): Fc at top speed <= 67 % of the grip
+EN1550_SHARE = 0.67          # EN 1550:1997+A1:2008 as quoted second-hand: Fc at top speed <= 67 % of the grip
 PIE_SHARE = 0.8              # pie jaws: together covering this share of the gripped circumference
 THICKER_BY = 1.2             # a stretch of the gripped side counts as thicker with 20 % more wall
 GRIP_POSITIONS = 24          # positions of the grip zone tried along the gripped side
-SIDE_NAMES = {"od": "OD", "id": "bore"}
+SIDE_NAMES = {"od": "OD", "id": "ID"}
 
 CAUTIONS = (
     "A grip below the least needed can let the part turn in the jaws or be thrown from the chuck.",
@@ -82,10 +93,11 @@ class CutLoads:
     rpm: np.ndarray              # (k,) spindle speed [1/min]
 
 
-def cut_loads(job, process, spacing_mm: float = HOLD_STATION_MM) -> list[CutLoads]:
+def cut_loads(job, process, spacing_mm: float = HOLD_STATION_MM, memo: dict | None = None) -> list[CutLoads]:
     """The loads of every pass at its nominal depths (the part cut exactly to the earlier targets; the depth
-    met after a corner by the simulation's own rule, `simulate.met_depth`)."""
-    paths, parts = laid_out(process, job.section.polygon(POLYGON_CHORD_MM), spacing_mm, {})
+    met after a corner by the simulation's own rule, `simulate.met_depth`). memo: cut layouts kept between
+    calls (`simulate.laid_out`)."""
+    paths, parts = laid_out(process, job.section.polygon(POLYGON_CHORD_MM), spacing_mm, {} if memo is None else memo)
     loads = []
     for i, p in enumerate(process.passes):
         tool = process.tools[p.tool]
@@ -134,6 +146,60 @@ def hold_demand(loads: list[CutLoads], holding: Holding, contact: Contact) -> Ho
     return best
 
 
+@dataclass(frozen=True)
+class GripCheck:
+    """Whether the given grip holds every cut: against the least that holds the heaviest station, and the
+    passes during which the jaws' centrifugal force takes an OD grip away altogether (they lift off)."""
+
+    given_n: float                       # the grip at standstill [N]
+    demand: HoldDemand | None            # the heaviest station (None: no passes)
+    lift_off: tuple[tuple[str, float, float], ...]   # (pass, spindle speed 1/min, centrifugal force N)
+
+    @property
+    def least_n(self) -> float | None:
+        return None if self.demand is None else self.demand.least_n
+
+    @property
+    def holds(self) -> bool:
+        return (self.least_n is None or self.given_n >= self.least_n) and not self.lift_off
+
+    def problems(self) -> list[str]:
+        """What is wrong, in words (empty when the grip holds)."""
+        lines = []
+        d = self.demand
+        if d is not None and self.given_n < d.least_n:
+            lines.append(f"the grip {self.given_n:.0f} N is below the least {d.least_n:.0f} N needed to hold pass "
+                         f"'{d.pass_name}' (r {d.r_mm:.3g}, z {d.z_mm:.3g} mm at {d.rpm:.0f} /min): the part can "
+                         "turn in the jaws or be thrown out. Raise the grip or change the holding before cutting")
+        for name, rpm, centrifugal in self.lift_off:
+            lines.append(f"the jaws lift off the part during pass '{name}': at {rpm:.0f} /min their centrifugal "
+                         f"force {centrifugal:.0f} N takes the whole grip of {self.given_n:.0f} N, so nothing holds "
+                         "the part while it cuts. Lower the speed or raise the grip")
+        return lines
+
+
+def grip_check(job, process, memo: dict | None = None) -> GripCheck | None:
+    """The given grip of the job's [holding] against its passes' cuts (None without [holding] or passes).
+    memo: the cut layouts shared with the simulation's variants (`simulate.laid_out`)."""
+    if "holding" not in job.tables or process is None or not process.passes:
+        return None
+    holding = holding_from_table(job.tables["holding"])
+    loads = cut_loads(job, process, memo=memo)
+    return grip_check_of(holding, contact_of(job.section, holding), loads)
+
+
+def grip_check_of(holding: Holding, contact: Contact, loads: list[CutLoads]) -> GripCheck:
+    lift_off = []
+    for cut in loads:
+        if holding.grip != "od" or not len(cut.rpm):
+            continue
+        top = float(cut.rpm.max())
+        centrifugal = float(centrifugal_force_n(holding.centrifugal_moment_kg_m, top))
+        if centrifugal >= holding.force_n:
+            lift_off.append((cut.pass_name, top, centrifugal))
+    return GripCheck(given_n=holding.force_n, demand=hold_demand(loads, holding, contact), lift_off=tuple(lift_off))
+
+
 # ---------------------------------------------------------------------------------------------------
 # the surfaces finished in the chuck
 
@@ -176,20 +242,32 @@ def finished_surfaces(section, contact: Contact, process) -> FinishedSurfaces:
                             finished_by=tuple(by), rpm=rpm)
 
 
-def form_limits_mm(tolerance_table: dict | None, surfaces: FinishedSurfaces) -> np.ndarray:
-    """(k,) half the diameter band of each point's tolerance [mm] (NaN where its surface has none, and off the
-    cylinders: a fit applies to the diameter, not to the fillets at its ends, `simulate.CYLINDER_COS`): the most
-    the form may take under the envelope requirement (module docstring)."""
-    limits = np.full(len(surfaces.surface), np.nan)
+@dataclass(frozen=True)
+class FormLimits:
+    """The form the tolerance leaves each finished point (NaN where there is none, and off the cylinders: a fit
+    applies to the diameter, not to the fillets at its ends, `simulate.CYLINDER_COS`)."""
+
+    half_band_mm: np.ndarray     # (k,) half the diameter band [mm]
+    roundness_mm: np.ndarray     # (k,) the roundness limit [mm, radial peak to valley]
+    envelope: bool               # the band is read under the envelope requirement (module docstring)
+
+
+def form_limits(tolerance_table: dict | None, surfaces: FinishedSurfaces) -> FormLimits:
+    """The form limits of every finished point from the job's [tolerance] table (module docstring)."""
+    half_band, roundness = np.full(len(surfaces.surface), np.nan), np.full(len(surfaces.surface), np.nan)
     if not tolerance_table:
-        return limits
+        return FormLimits(half_band, roundness, True)
     tolerances = tolerance_from_table(tolerance_table)
     cylinder = np.abs(surfaces.normals[:, 0]) >= CYLINDER_COS
     for i in np.flatnonzero(cylinder):
-        band = tolerances.diameter_limits(str(surfaces.surface[i]), 2.0 * float(surfaces.points_rz[i, 0]))
+        side = str(surfaces.surface[i])
+        band = tolerances.diameter_limits(side, 2.0 * float(surfaces.points_rz[i, 0]))
         if band is not None:
-            limits[i] = 0.5 * (band[1] - band[0])
-    return limits
+            half_band[i] = 0.5 * (band[1] - band[0])
+        limit = tolerances.roundness_limit_mm(side)
+        if limit is not None:
+            roundness[i] = limit
+    return FormLimits(half_band, roundness, tolerances.envelope)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -206,10 +284,11 @@ class Clamped:
     grip_in_cut_n: np.ndarray    # (k,) grip while the finishing pass cuts each point [N]
     size_change_mm: np.ndarray   # (k,) diameter after release minus the diameter cut in the chuck [mm]
     roundness_mm: np.ndarray     # (k,) radial peak to valley after release [mm]
-    form_limit_mm: np.ndarray    # (k,) the most the form may take (half the band; NaN: no tolerance)
+    limits: FormLimits           # what the tolerance leaves the form at each point
     demand: HoldDemand | None    # the heaviest station (None: no passes)
     most_for_roundness_n: float | None
     limiting: int | None         # the point that sets the most grip
+    limited_by: str | None       # what sets it there: "diameter band" | "roundness"
 
     @property
     def least_to_hold_n(self) -> float | None:
@@ -228,7 +307,8 @@ class Clamped:
     def window_open(self) -> bool | None:
         """Whether some grip both holds and keeps the form: None without passes or without a diameter tolerance
         on the finished surfaces; True when the grip leaves them round (no most grip)."""
-        if self.least_to_hold_n is None or not np.isfinite(self.form_limit_mm).any():
+        judged = np.isfinite(self.limits.half_band_mm) | np.isfinite(self.limits.roundness_mm)
+        if self.least_to_hold_n is None or not judged.any():
             return None
         return self.most_for_roundness_n is None or self.least_to_hold_n <= self.most_for_roundness_n
 
@@ -254,26 +334,35 @@ class _Setup:
         squeeze = self.model(contact).squeeze(holding, surfaces.points_rz, surfaces.normals)
         centrifugal = centrifugal_force_n(holding.centrifugal_moment_kg_m, surfaces.rpm)
         in_cut = grip_in_cut_n(holding.force_n, centrifugal, holding.grip)
-        limits = form_limits_mm(self.tolerance, surfaces)
-        most, limiting = _most_grip(squeeze.envelope_mm_per_n, limits, centrifugal, holding.grip)
+        limits = form_limits(self.tolerance, surfaces)
+        most, limiting, limited_by = _most_grip(squeeze, limits, centrifugal, holding.grip)
         demand = hold_demand(self.loads if loads is None else loads, holding, contact)
         return Clamped(holding=holding, contact=contact, surfaces=surfaces, squeeze=squeeze, grip_in_cut_n=in_cut,
                        size_change_mm=-2.0 * in_cut * squeeze.mean_mm_per_n * surfaces.normals[:, 0],
-                       roundness_mm=in_cut * squeeze.roundness_mm_per_n, form_limit_mm=limits, demand=demand,
-                       most_for_roundness_n=most, limiting=limiting)
+                       roundness_mm=in_cut * squeeze.roundness_mm_per_n, limits=limits, demand=demand,
+                       most_for_roundness_n=most, limiting=limiting, limited_by=limited_by)
 
 
-def _most_grip(envelope_per_n: np.ndarray, limits_mm: np.ndarray, centrifugal_n: np.ndarray,
-               grip: str) -> tuple[float | None, int | None]:
-    """The static grip at which the first point's form reaches its limit, and that point (None: no limit)."""
-    judged = np.isfinite(limits_mm) & (envelope_per_n > 0.0)
-    if not judged.any():
-        # a tolerance on a surface the grip leaves round sets no upper end
-        return None, None
-    in_cut = np.where(judged, limits_mm / np.where(judged, envelope_per_n, 1.0), np.inf)
-    static = in_cut + centrifugal_n if grip == "od" else np.maximum(in_cut - centrifugal_n, 0.0)
-    k = int(np.argmin(static))
-    return float(static[k]), k
+def _most_grip(squeeze: Squeeze, limits: FormLimits, centrifugal_n: np.ndarray,
+               grip: str) -> tuple[float | None, int | None, str | None]:
+    """The static grip at which the first point's form reaches a limit, that point and which limit (None: no
+    limit): the share of the band the form takes (module docstring) against half the band, and the peak to
+    valley against a roundness limit."""
+    low, high = squeeze.two_point_mm_per_n
+    band_share = squeeze.envelope_mm_per_n if limits.envelope else high - low
+    criteria = {"diameter band": (band_share, limits.half_band_mm),
+                "roundness": (squeeze.roundness_mm_per_n, limits.roundness_mm)}
+    best = (math.inf, None, None)
+    for name, (per_n, limit_mm) in criteria.items():
+        judged = np.isfinite(limit_mm) & (per_n > 0.0)
+        if not judged.any():
+            continue   # a limit on a surface the grip leaves round sets no upper end
+        in_cut = np.where(judged, limit_mm / np.where(judged, per_n, 1.0), np.inf)
+        static = in_cut + centrifugal_n if grip == "od" else np.maximum(in_cut - centrifugal_n, 0.0)
+        k = int(np.argmin(static))
+        if static[k] < best[0]:
+            best = (float(static[k]), k, name)
+    return best if best[1] is not None else (None, None, None)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -418,21 +507,14 @@ def nearest_point(clamped: Clamped, surface: str, z_mm: float) -> int:
 
 
 def _cautions(given: Clamped, loads: list[CutLoads]) -> tuple[str, ...]:
-    h, lines = given.holding, []
-    least = given.least_to_hold_n
-    if least is not None and h.force_n < least:
-        d = given.demand
-        lines.append(f"THE GIVEN GRIP {h.force_n:.0f} N IS BELOW THE LEAST {least:.0f} N NEEDED for pass "
-                     f"'{d.pass_name}' (r {d.r_mm:.3g}, z {d.z_mm:.3g} mm at {d.rpm:.0f} /min): the part can turn "
-                     "or be thrown out. Raise the grip or change the holding before cutting.")
-    top_rpm = max((float(c.rpm.max()) for c in loads), default=0.0)
+    h = given.holding
+    lines = [line[0].upper() + line[1:] + "." for line in grip_check_of(h, given.contact, loads).problems()]
+    top_rpm = max((float(c.rpm.max()) for c in loads if len(c.rpm)), default=0.0)
     top_fc = float(centrifugal_force_n(h.centrifugal_moment_kg_m, top_rpm))
-    if h.grip == "od" and top_fc > EN1550_SHARE * h.force_n:
+    if h.grip == "od" and h.force_n > top_fc > EN1550_SHARE * h.force_n:
         lines.append(f"At {top_rpm:.0f} /min the jaws' centrifugal force ({top_fc:.0f} N) exceeds "
                      f"{100 * EN1550_SHARE:.0f} % of the grip ({h.force_n:.0f} N), the share EN 1550 allows as "
                      "quoted: lower the speed or raise the grip.")
-    if h.grip == "od" and given.grip_in_cut_n.size and given.grip_in_cut_n.min() <= 0.0:
-        lines.append("The jaws lift off the part at the finishing speed: no grip is left while it cuts.")
     return tuple(lines) + CAUTIONS
 
 
@@ -450,7 +532,7 @@ def clamp_study(job) -> ClampStudy:
         process = process_from_job(job)
         notes += process.warnings
     else:
-        notes.append("pass: the job has no passes: the least grip to hold is not computed, and every OD and bore "
+        notes.append("pass: the job has no passes: the least grip to hold is not computed, and every OD and ID "
                      "point is taken as finished in this setup")
     loads = cut_loads(job, process) if process is not None else []
     setup = _Setup(job, process, loads)

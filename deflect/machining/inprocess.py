@@ -7,7 +7,7 @@ Takes polygons of the (r, z) half-section (counter-clockwise (N, 2) arrays, mm) 
   outward normal, as seen from the pass's side (od from large r, id from the axis, face from large z),
   sampled in feed order;
 * `cuts_for_pass` - the cuts a pass makes: equal-depth roughing steps when the stock is deeper than the
-  pass's most depth per cut (ceil(d / depth) cuts, REFERENCE.md section 10), the final cut, spring cuts;
+  pass's most depth per cut (ceil(d / depth) cuts, common practice), the final cut, spring cuts;
 * `depth_of_material` - the stock beyond each target point along its normal;
 * `remove` - the part after a cut (or while the tool is part-way along it) when the surface actually left
   lies `left_mm` outside the target;
@@ -302,9 +302,8 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
     """The cuts of one pass on the current part, in order.
 
     When the deepest stock beyond the final target exceeds the pass's most depth per cut, the stock is
-    taken in n = ceil(d_max / depth) cuts of equal depth s = d_max / n (REFERENCE.md section 10, common
-    practice): the k-th cut (k = 1 .. n-1) runs on the final target moved out by (n - k) s. The target is
-    moved, and d_max measured, along the pass's in-feed (radially out for od, towards the axis for id,
+    taken in n = ceil(d_max / depth) cuts of equal depth s = d_max / n (common practice): the k-th cut
+    (k = 1 .. n-1) runs on the final target moved out by (n - k) s. The target is moved, and d_max measured, along the pass's in-feed (radially out for od, towards the axis for id,
     axially for face): on the cylinders and faces a pass is for this is its normal, and unlike moving each
     point along its own normal it never folds the target over itself at a shoulder or a corner, nor counts
     the stock above a shoulder (which the tool takes radially) as depth. Then the final cut, then `spring`

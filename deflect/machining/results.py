@@ -29,7 +29,8 @@ class StationTable:
     deflection_mm: np.ndarray        # push-off of part and tool together along the normal = material left
     power_kw: np.ndarray
     rubbing: np.ndarray              # bool: the wall gives way so far that the tool barely cuts
-    cut: int                         # index of the cut within its pass (roughing steps, finishing, spring)
+    cut: int                         # index of the cut within its pass, from 0 (roughing steps, finishing, spring
+                                     # cuts); shown to users from 1 ("cut 1" is the first)
 
 
 @dataclass(frozen=True)
@@ -59,14 +60,20 @@ class SurfaceDeviation:
     # outward normal (already in deviation_mm), and the out-of-roundness it leaves (peak to valley, radial)
     released_mm: np.ndarray | None = None
     roundness_mm: np.ndarray | None = None
+    # ... and what a gauge sees of the lobes (`deflect.mechanics.clamping.Squeeze`): their highest point above
+    # the mean surface along the outward normal (>= 0, where a ring or plug gauge meets it), and the least and
+    # most change of a two-point half-size they make around the circumference (<= 0, >= 0)
+    lobe_peak_mm: np.ndarray | None = None
+    two_point_low_mm: np.ndarray | None = None
+    two_point_high_mm: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
 class SurfaceCheck:
-    """What a machinist measures on one finished surface: push-off at the chuck end, middle, free end."""
+    """What a machinist measures on one finished surface: push-off at the held end, middle, free end."""
 
     surface: str                     # "od" | "id" | "face"
-    positions: dict[str, tuple[float, float]]   # "chuck end" / "middle" / "free end" -> (r, z)
+    positions: dict[str, tuple[float, float]]   # "held end" / "middle" / "free end" -> (r, z)
     deviation_mm: dict[str, float]   # material left there (on the radius, i.e. "a side")
     nominal_diameter_mm: dict[str, float]
     predicted_diameter_mm: dict[str, float]

@@ -583,23 +583,30 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
     return per_pass, current
 
 
+# the lobes' form on a SurfaceDeviation, from the released shape per newton (`clamping.ReleasedDeviation`)
+FORM_FIELDS = {"roundness_mm": "roundness_mm", "lobe_peak_mm": "peak_mm", "two_point_low_mm": "two_point_low_mm",
+               "two_point_high_mm": "two_point_high_mm"}
+
+
 def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names: list[str], memo: dict):
     """With [holding]: what the jaws' squeeze does to the surfaces finished in the chuck once they let go.
 
     A surface cut round while squeezed springs back by minus the squeeze (`deflect.mechanics.clamping`); the squeeze
     is proportional to the grip, which during each pass is the grip at standstill less (od grip) or plus
     (id grip) the jaws' centrifugal force at that pass's spindle speed there (`deflect.machining.grip.grip_in_cut_n`,
-    VDI 3106 as quoted in REFERENCE.md 8). Returns (uniform spring-back along the outward normal [mm],
-    out of roundness [mm], lobes) for every deviation point (0 where no od or bore pass finished it), or
-    (None, None, 0) without [holding]. The squeeze per newton is kept in memo (it depends on the drawn part, the
-    holding and the points only, not on the passes)."""
+    VDI 3106 (2004) as quoted second-hand). Returns (uniform spring-back along the outward normal [mm],
+    {roundness_mm, lobe_peak_mm, two_point_low_mm, two_point_high_mm: the lobes' form [mm]}, lobes) for every
+    deviation point (0 where no od or bore pass finished it), or (None, {}, 0) without [holding]. The squeeze
+    per newton is kept in memo (it depends on the drawn part, the holding and the points only, not on the
+    passes)."""
     if "holding" not in job.tables:
-        return None, None, 0
+        return None, {}, 0
     holding = holding_from_table(job.tables["holding"])
     machined = np.array([s in ("od", "id") for s in surfaces])
-    released, roundness = np.zeros(len(surfaces)), np.zeros(len(surfaces))
+    released = np.zeros(len(surfaces))
+    form = {name: np.zeros(len(surfaces)) for name in FORM_FIELDS}
     if not machined.any():
-        return released, roundness, 0
+        return released, form, 0
     points, normals = raw.points_rz[machined], raw.normals[machined]
     name = ("released", job.section, holding, job.material.E_mpa, job.material.nu, points.tobytes(),
             normals.tobytes())
@@ -612,8 +619,9 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
                     for p, r in zip(passes, raw.points_rz[machined, 0])])
     grip_n = grip_in_cut_n(holding.force_n, centrifugal_force_n(holding.centrifugal_moment_kg_m, rpm), holding.grip)
     released[machined] = grip_n * per_newton.mean_mm
-    roundness[machined] = grip_n * per_newton.roundness_mm
-    return released, roundness, per_newton.lobes
+    for name, field_name in FORM_FIELDS.items():
+        form[name][machined] = grip_n * getattr(per_newton, field_name)
+    return released, form, per_newton.lobes
 
 
 def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
@@ -652,7 +660,7 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 
 
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
-    """Push-off at the chuck end (low z), the middle and the free end of each finished od and id."""
+    """Push-off at the held end (low z), the middle and the free end of each finished od and id."""
     checks = []
     released = 0.0 if deviation.released_mm is None else deviation.released_mm
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
@@ -660,7 +668,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         order = straight_points(deviation, surface)
         if len(order) < 3:
             continue
-        picks = {"chuck end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
+        picks = {"held end": order[0], "middle": order[len(order) // 2], "free end": order[-1]}
         positions = {name: tuple(map(float, deviation.points_rz[k])) for name, k in picks.items()}
         left = {name: float(deviation.deviation_mm[k]) for name, k in picks.items()}
         nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
@@ -685,7 +693,7 @@ def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
 
 
 def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
-    """Wall thickness against nominal at the chuck end, middle and free end of the height over which a
+    """Wall thickness against nominal at the held end, middle and free end of the height over which a
     cylindrical od and a cylindrical bore face each other (fillets left out, as a machinist measures)."""
     od, bore = straight_points(deviation, "od"), straight_points(deviation, "id")
     if len(od) < 3 or len(bore) < 3:
@@ -695,7 +703,7 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     if high <= low:
         return []
     rows = []
-    for name, z in (("chuck end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
+    for name, z in (("held end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
         r_od = float(np.interp(z, z_od, deviation.points_rz[od, 0]))
         r_id = float(np.interp(z, z_bore, deviation.points_rz[bore, 0]))
         left = float(np.interp(z, z_od, deviation.deviation_mm[od]) + np.interp(z, z_bore, deviation.deviation_mm[bore]))
@@ -724,10 +732,10 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
 
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
-    released, roundness, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
+    released, form, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
-                                 surface=surfaces, finished_by=names, released_mm=released, roundness_mm=roundness)
+                                 surface=surfaces, finished_by=names, released_mm=released, **form)
     spring_back = 0.0 if released is None else released
     range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
                  for rz in ranges] or [float(np.max(deviation.deviation_mm))]

@@ -2,7 +2,7 @@
 
 Takes forces [N], speeds [1/min], masses [kg] and radii; gives forces [N] and torques. Jaw chuck practice as
 quoted from VDI 3106 (2004) "Ermittlung der zulaessigen Drehzahl von Drehfuttern (Backenfutter)" in
-shared/REFERENCE.md section 8 [S]; `deflect.machining.grip` explains how they combine into the grip window.
+chuck makers' operating manuals (seen second-hand, not in the guideline's own text); `deflect.machining.grip` explains how they combine into the grip window.
 """
 
 from __future__ import annotations

@@ -9,8 +9,8 @@ The loads. N jaws at theta_j = 2 pi j / N press on the gripped surface, each ove
 circumference (half-angle a = width / (2 R) at the gripped radius R) and over the contact's z extent along
 the meridian, with a uniform pressure (weights r ds); the total force F is shared equally, radially inward
 for an OD grip, outward for a bore grip. One jaw's load per radian has the cosine series
-(F/N) [1/(2 pi) + sum_n g_n / pi cos(n (theta - theta_j))], g_n = sin(n a) / (n a) (REFERENCE.md 11); summed
-over the N jaws, sum_j cos(n (theta - theta_j)) is N cos(n theta) when N divides n and 0 otherwise, so only
+(F/N) [1/(2 pi) + sum_n g_n / pi cos(n (theta - theta_j))], g_n = sin(n a) / (n a) (the Fourier series of a
+rectangular pulse); summed over the N jaws, sum_j cos(n (theta - theta_j)) is N cos(n theta) when N divides n and 0 otherwise, so only
 n = 0, N, 2N, ... are excited, with amplitudes F / (2 pi) and F g_n / pi. A collet or mandrel is a pressure
 all round: n = 0 alone.
 
@@ -98,26 +98,49 @@ class Squeeze:
         values = self.around(self._half_lobe())
         return values.max(axis=1) - values.min(axis=1)
 
+    def _lobes_released(self, theta: np.ndarray, even_only: bool) -> np.ndarray:
+        """(k, M) the released deviation's lobes at theta, the uniform (n = 0) part left out [mm/N]; with
+        even_only, its even harmonics alone: (d(theta) + d(theta + pi)) / 2 less the mean, the half of a
+        two-point size's change the lobes make."""
+        keep = self.harmonics > 0
+        if even_only:
+            keep &= self.harmonics % 2 == 0
+        return -(self.amplitudes_mm_per_n[keep].T @ np.cos(np.outer(self.harmonics[keep], theta)))
+
+    @property
+    def peak_mm_per_n(self) -> np.ndarray:
+        """(k,) the released lobes' highest point above the mean surface, along the outward normal [mm/N]
+        (>= 0; 0 all round): where a ring or plug gauge meets the surface first."""
+        if self.jaws == 0:
+            return np.zeros(self.amplitudes_mm_per_n.shape[1])
+        return np.maximum(self._lobes_released(self._half_lobe(), even_only=False).max(axis=1), 0.0)
+
+    @property
+    def two_point_mm_per_n(self) -> tuple[np.ndarray, np.ndarray]:
+        """((k,), (k,)) least and most of the two-point half-size change the released lobes make, around the
+        circumference [mm/N] (<= 0 and >= 0; 0 all round). Odd harmonics cancel between opposite points, so
+        a pure odd lobe (3 jaws: cos 3 theta) leaves the two-point size constant, why a 3-lobed ring measures
+        round with a micrometer."""
+        if self.jaws == 0:
+            zeros = np.zeros(self.amplitudes_mm_per_n.shape[1])
+            return zeros, zeros
+        half = self._lobes_released(self._half_lobe(), even_only=True)
+        return np.minimum(half.min(axis=1), 0.0), np.maximum(half.max(axis=1), 0.0)
+
     @property
     def envelope_mm_per_n(self) -> np.ndarray:
         """(k,) the share of a diameter band the released form takes, per newton [mm/N] (0 all round).
 
-        A ring or plug gauge at the maximum-material size and a two-point gauge at the least-material size
-        (the envelope requirement, ISO 14405-1 / ASME Y14.5 Rule #1) pass the surface when the material's
-        highest point (the largest released deviation d) stands at most half the band above its lowest
-        two-point half-size, (d(theta) + d(theta + pi)) / 2, with the size set at its best. With
-        d = sum a_n cos(n theta) the two-point half-size is the sum of the even harmonics, so the measure is
-        max d - min d_even. Pure lobes: for odd N (d = A cos 3 theta) it is A, half the peak to valley, as the
-        two-point size stays constant (why a 3-lobed ring measures round with a micrometer); for even N it is
-        2 A, the whole peak to valley.
+        The envelope requirement (Taylor's principle; ISO 14405-1, the modifier (E); ASME Y14.5-2018 Rule #1)
+        passes a surface when a GO gauge at the maximum-material size (a full ring over an OD, a full plug in
+        a bore) goes over it and a two-point NO-GO measurement at the least-material size finds no local size
+        beyond it. With the size set at its best, the form may take half the diameter band: the lobes'
+        highest point above the mean (the gauge's contact) less the lowest two-point half-size change,
+        `peak_mm_per_n` - `two_point_mm_per_n`[0]. Pure lobes d = A cos(N theta): for odd N it is A, half the
+        radial peak to valley 2 A (the two-point size stays constant), so the roundness may reach the whole
+        band; for even N it is 2 A, the whole peak to valley, which may reach half the band.
         """
-        if self.jaws == 0:
-            return np.zeros(self.amplitudes_mm_per_n.shape[1])
-        theta = self._half_lobe()
-        released = -self.around(theta)
-        even = self.harmonics % 2 == 0
-        two_point = -(self.amplitudes_mm_per_n[even].T @ np.cos(np.outer(self.harmonics[even], theta)))
-        return released.max(axis=1) - two_point.min(axis=1)
+        return self.peak_mm_per_n - self.two_point_mm_per_n[0]
 
     def lobes(self, index: int) -> int:
         """Number of lobes (maxima of the released shape) around the circumference at point `index`."""
@@ -139,6 +162,9 @@ class ReleasedDeviation:
     mean_mm : (k,) n = 0 part of the released deviation [mm] (> 0: more material than as cut; a bore that comes
         out larger reads < 0)
     roundness_mm : (k,) peak to valley of the released deviation over theta [mm]
+    peak_mm : (k,) the lobes' highest point above the mean, along the outward normal [mm] (`Squeeze.peak_mm_per_n`)
+    two_point_low_mm, two_point_high_mm : (k,) least and most two-point half-size change the lobes make [mm]
+        (`Squeeze.two_point_mm_per_n`)
     lobes : lobes around the circumference at the point of the largest roundness (0 all round)
     force_n : the total grip during the cut [N]
     highest_harmonic : the highest harmonic summed
@@ -148,6 +174,9 @@ class ReleasedDeviation:
     normals: np.ndarray
     mean_mm: np.ndarray
     roundness_mm: np.ndarray
+    peak_mm: np.ndarray
+    two_point_low_mm: np.ndarray
+    two_point_high_mm: np.ndarray
     lobes: int
     force_n: float
     highest_harmonic: int
@@ -155,7 +184,7 @@ class ReleasedDeviation:
 
 def grip_amplitudes(harmonics: np.ndarray, half_angle_rad: float) -> np.ndarray:
     """Load per radian of N equal jaws of total force 1 N at harmonics n = 0, N, 2N, ...: 1 / (2 pi) at n = 0,
-    g_n / pi above (module docstring; REFERENCE.md 11)."""
+    g_n / pi above (module docstring)."""
     n = np.asarray(harmonics, dtype=float)
     return np.where(n == 0, 0.5, patch_factor(n, half_angle_rad)) / math.pi
 
@@ -266,7 +295,10 @@ def released_deviation(job, holding: Holding, points_rz: np.ndarray, normals: np
     squeeze = model.squeeze(holding, points_rz, normals)
     force = holding.force_n if force_n is None else float(force_n)
     roundness = force * squeeze.roundness_mm_per_n
+    low, high = squeeze.two_point_mm_per_n
     return ReleasedDeviation(points_rz=np.asarray(points_rz, float), normals=np.asarray(normals, float),
                              mean_mm=-force * squeeze.mean_mm_per_n, roundness_mm=roundness,
+                             peak_mm=force * squeeze.peak_mm_per_n, two_point_low_mm=force * low,
+                             two_point_high_mm=force * high,
                              lobes=squeeze.lobes(int(np.argmax(roundness))) if len(roundness) else 0,
                              force_n=force, highest_harmonic=int(squeeze.harmonics[-1]))

@@ -53,6 +53,8 @@ class PointCompliance:
     nz: float
     matrix_mm_per_n: np.ndarray    # (3, 3): normal, circumferential, along the boundary (module docstring)
     harmonics: int                 # highest Fourier harmonic summed (over the points computed together)
+    along_mm: float | None = None  # where the point lies along the boundary, from the outline's first node
+                                   # counter-clockwise [mm] (None for a point given by coordinates alone)
 
     @property
     def normal_mm_per_n(self) -> float:
@@ -197,17 +199,20 @@ class WallModel:
         points, boundary_normals = self.section.points_at(arclengths)
         normals = boundary_normals if normals is None else np.asarray(normals, float).reshape(-1, 2)
         loads = self.loads_at(arclengths, points, normals)
-        return self.solve(list(zip(loads, points, normals)))
+        return self.solve(list(zip(loads, points, normals)), arclengths)
 
-    def solve(self, placed: list[tuple[ShellLoad, np.ndarray, np.ndarray]]) -> list[PointCompliance]:
-        """Compliance of (load, point, outward normal) triples, all summed over the harmonics together."""
+    def solve(self, placed: list[tuple[ShellLoad, np.ndarray, np.ndarray]],
+              arclengths: list[float] | None = None) -> list[PointCompliance]:
+        """Compliance of (load, point, outward normal) triples, all summed over the harmonics together;
+        arclengths: where each point lies along the boundary, when known."""
         loads = [load for load, _, _ in placed]
         # axes: into the material, and the CCW tangent (the outward normal turned left)
         directions = np.array([[-n, [-n[1], n[0]]] for _, _, n in placed])
         matrices, harmonics = harmonic_compliance(self.shell, loads, directions, tol=self.tolerance,
                                                   floor_mm_per_n=self.floor_mm_per_n)
         return [PointCompliance(r_mm=float(p[0]), z_mm=float(p[1]), nr=float(n[0]), nz=float(n[1]),
-                                matrix_mm_per_n=matrices[i], harmonics=int(harmonics))
+                                matrix_mm_per_n=matrices[i], harmonics=int(harmonics),
+                                along_mm=None if arclengths is None else float(arclengths[i]))
                 for i, (_, p, n) in enumerate(placed)]
 
     def at_points(self, points_rz: list[tuple[float, float]]) -> list[PointCompliance]:
@@ -235,4 +240,5 @@ class WallModel:
         points, normals = self.section.points_at(arclengths)
         loads = self.loads_at(arclengths, points, normals, skip_unfit=True)
         # a face shorter than the patch (a thin rim face): no value there
-        return self.solve([(load, p, n) for load, p, n in zip(loads, points, normals) if load is not None])
+        fit = [k for k, load in enumerate(loads) if load is not None]
+        return self.solve([(loads[k], points[k], normals[k]) for k in fit], arclengths[fit])

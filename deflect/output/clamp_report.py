@@ -12,7 +12,7 @@ import numpy as np
 from deflect.machining.grip import Clamped, ClampStudy
 from deflect.output.tables import grid
 
-SURFACE_NAMES = {"od": "OD", "id": "bore"}
+SURFACE_NAMES = {"od": "OD", "id": "ID"}
 TABLE_ROWS_PER_SURFACE = 6     # rows of the roundness table per surface (evenly spread, the worst kept)
 
 
@@ -55,7 +55,7 @@ def _window_text(clamped: Clamped) -> str:
 def holding_text(clamped: Clamped) -> str:
     """The holding in one line, in the trade's words."""
     h = clamped.holding
-    side = "the OD" if h.grip == "od" else "the bore"
+    side = "the OD" if h.grip == "od" else "the ID"
     where = f"z {h.z_mm[0]:g} to {h.z_mm[1]:g} mm"
     if h.all_round:
         return f"{h.kind} gripping {side} all round at {where}"
@@ -64,44 +64,70 @@ def holding_text(clamped: Clamped) -> str:
 
 def holding_record(clamped: Clamped) -> dict:
     h, c = clamped.holding, clamped.contact
-    return {"kind": h.kind, "jaws": h.jaws, "grip": h.grip, "z": list(h.z_mm), "width": h.width_mm,
-            "force": h.force_n, "friction": h.friction, "jaw_mass": h.jaw_mass_kg, "jaw_radius": h.jaw_radius_mm,
-            "safety": h.safety, "gripped_diameter_mm": 2.0 * c.radius_mm, "contact_z_mm": list(c.z_mm),
-            "wall_under_grip_mm": c.wall_mm}
+    return {"kind": h.kind, "jaws": h.jaws, "grip": h.grip, "z_mm": list(h.z_mm), "width_mm": h.width_mm,
+            "force_N": h.force_n, "friction": h.friction, "jaw_mass_kg": h.jaw_mass_kg,
+            "jaw_radius_mm": h.jaw_radius_mm, "safety": h.safety, "gripped_diameter_mm": 2.0 * c.radius_mm,
+            "contact_z_mm": list(c.z_mm), "wall_under_grip_mm": c.wall_mm}
 
 
 def point_records(clamped: Clamped) -> list[dict]:
     s = clamped.surfaces
     return [{"surface": str(s.surface[i]), "z": float(s.points_rz[i, 1]), "value": _um(clamped.roundness_mm[i]),
-             "r": float(s.points_rz[i, 0]), "diameter_change_um": _um(clamped.size_change_mm[i]),
+             "z_mm": float(s.points_rz[i, 1]), "roundness_um": _um(clamped.roundness_mm[i]),
+             "r_mm": float(s.points_rz[i, 0]), "diameter_change_um": _um(clamped.size_change_mm[i]),
              "grip_in_cut_N": float(clamped.grip_in_cut_n[i]), "finished_by": s.finished_by[i],
-             "tolerance_band_um": None if not np.isfinite(clamped.form_limit_mm[i])
-             else 2.0 * _um(clamped.form_limit_mm[i])}
+             "tolerance_band_um": _band_um(clamped, i), "roundness_limit_um": _roundness_limit_um(clamped, i)}
             for i in range(len(s.surface))]
+
+
+def _band_um(clamped: Clamped, i: int) -> float | None:
+    """The diameter band at point i [um] (None: not toleranced)."""
+    half = clamped.limits.half_band_mm[i]
+    return None if not np.isfinite(half) else 2.0 * _um(half)
+
+
+def _roundness_limit_um(clamped: Clamped, i: int) -> float | None:
+    limit = clamped.limits.roundness_mm[i]
+    return None if not np.isfinite(limit) else _um(limit)
+
+
+def _limit_words(clamped: Clamped, i: int) -> str:
+    """What sets the most grip at point i, with its value."""
+    if clamped.limited_by == "roundness":
+        return f"roundness limit {_roundness_limit_um(clamped, i):.0f} um"
+    rule = "envelope requirement" if clamped.limits.envelope else "two-point size, independent of form"
+    return f"diameter band {_band_um(clamped, i):.0f} um, {rule}"
 
 
 def demand_record(clamped: Clamped) -> dict | None:
     d = clamped.demand
     if d is None:
         return None
-    return {"pass": d.pass_name, "r": d.r_mm, "z": d.z_mm, "cutting_N": d.cutting_n, "torque_Nm": d.torque_nm,
-            "axial_N": d.axial_n, "rpm": d.rpm, "centrifugal_N": d.centrifugal_n}
+    return {"pass": d.pass_name, "r_mm": d.r_mm, "z_mm": d.z_mm, "cutting_force_N": d.cutting_n,
+            "torque_Nm": d.torque_nm, "axial_force_N": d.axial_n, "spindle_speed_rpm": d.rpm,
+            "centrifugal_force_N": d.centrifugal_n}
 
 
 def _worst_um(clamped: Clamped) -> float:
     return _um(clamped.roundness_mm.max()) if len(clamped.roundness_mm) else 0.0
 
 
+def grip_forces(clamped: Clamped) -> dict:
+    """The grip window of a holding [N]: as given (at standstill), the least that holds, the most for the form."""
+    return {"given": clamped.holding.force_n, "least_to_hold": clamped.least_to_hold_n,
+            "most_for_roundness": clamped.most_for_roundness_n}
+
+
 def clamp_payload(study: ClampStudy) -> dict:
-    """The JSON object of `deflect clamp --json` (keys of shared/CONTRACT.md first)."""
+    """The JSON object of `deflect clamp --json` (the interface's fixed keys first)."""
     g = study.given
     limiting = None
     if g.limiting is not None:
-        limiting = {"surface": str(g.surfaces.surface[g.limiting]), "z": float(g.surfaces.points_rz[g.limiting, 1]),
-                    "tolerance_band_um": 2.0 * _um(g.form_limit_mm[g.limiting])}
+        limiting = {"surface": str(g.surfaces.surface[g.limiting]), "z_mm": float(g.surfaces.points_rz[g.limiting, 1]),
+                    "tolerance_band_um": _band_um(g, g.limiting), "limited_by": g.limited_by,
+                    "roundness_limit_um": _roundness_limit_um(g, g.limiting)}
     return {
-        "grip_force_N": {"given": g.holding.force_n, "least_to_hold": g.least_to_hold_n,
-                         "most_for_roundness": g.most_for_roundness_n},
+        "grip_force_N": grip_forces(g),
         "lobes": g.lobes,
         "roundness_um": point_records(g),
         "window_open": g.window_open,
@@ -112,10 +138,8 @@ def clamp_payload(study: ClampStudy) -> dict:
         "highest_harmonic": int(g.squeeze.harmonics[-1]),
         "remedies": [{"change": r.change, "applies": r.clamped is not None, "note": r.note,
                       **({} if r.clamped is None else {
-                          "grip_force_N": r.clamped.holding.force_n, "max_roundness_um": _worst_um(r.clamped),
-                          "lobes": r.clamped.lobes, "least_to_hold": r.clamped.least_to_hold_n,
-                          "most_for_roundness": r.clamped.most_for_roundness_n,
-                          "window_open": r.clamped.window_open})}
+                          "grip_force_N": grip_forces(r.clamped), "max_roundness_um": _worst_um(r.clamped),
+                          "lobes": r.clamped.lobes, "window_open": r.clamped.window_open})}
                      for r in study.remedies],
         "cautions": list(study.cautions),
         "notes": list(study.notes),
@@ -139,13 +163,13 @@ def surfaces_table(clamped: Clamped) -> str:
     rows = []
     for side in ("od", "id"):
         for i in _shown_rows(clamped, side):
-            band = clamped.form_limit_mm[i]
+            band = _band_um(clamped, i)
             rows.append([SURFACE_NAMES[side], f"{s.points_rz[i, 1]:.2f}", f"{2 * s.points_rz[i, 0]:.3f}",
                          s.finished_by[i] or "-", f"{clamped.grip_in_cut_n[i]:.0f}",
                          f"{_um(clamped.size_change_mm[i]):+.1f}", f"{_um(clamped.roundness_mm[i]):.1f}",
-                         "-" if not np.isfinite(band) else f"{2 * _um(band):.0f}"])
+                         "-" if band is None else f"{band:.0f}"])
     if not rows:
-        return "No OD or bore is finished in this setup outside the grip."
+        return "No OD or ID is finished in this setup outside the grip."
     return grid(header, rows)
 
 
@@ -188,7 +212,7 @@ def clamp_report(study: ClampStudy) -> str:
     if g.limiting is not None:
         i = g.limiting
         where = f"{SURFACE_NAMES[str(g.surfaces.surface[i])]} at z {g.surfaces.points_rz[i, 1]:.2f} mm"
-        rows.append(("  set by", f"{where} (diameter band {2 * _um(g.form_limit_mm[i]):.0f} um)"))
+        rows.append(("  set by", f"{where} ({_limit_words(g, i)})"))
     rows += [("window", _window_text(g)),
              ("after release", f"{g.lobes} lobes, roundness up to {_worst_um(g):.1f} um"),
              ("harmonics summed", f"n = 0 to {int(g.squeeze.harmonics[-1])}")]

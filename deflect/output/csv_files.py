@@ -1,6 +1,7 @@
 """CSV files of a machining prediction: a `results.Prediction` -> four comma-separated tables in a folder.
 
-Formatting only; no physics is computed here. Files (one header row, then data; units in the column names):
+Formatting only; no physics is computed here. Files (one header row, then data; each column's quantity by its
+one name and its unit, as in INTERFACE.md; cuts numbered from 1 within their pass, as on the screen):
 - `stations.csv`: every tool position of every cut of every pass, in machining order;
 - `deviation.csv`: the material left along the finished boundary (outward normal, > 0 thicker than drawn);
 - `passes.csv`: one summary row per pass;
@@ -18,12 +19,12 @@ from deflect.machining.results import PassResult, Prediction
 
 DIGITS = 9
 
-STATION_COLUMNS = ["pass", "cut", "r_mm", "z_mm", "met_depth_mm", "depth_mm", "chip_thickness_mm", "cutting_N",
-                   "feed_N", "passive_N", "compliance_mm_per_N", "tool_compliance_mm_per_N", "deflection_mm",
-                   "power_kW", "rubbing"]
-DEVIATION_COLUMNS = ["r_mm", "z_mm", "nr", "nz", "deviation_mm", "surface", "finished_by"]
-PASS_COLUMNS = ["pass", "surface", "tool", "cuts", "feed_mm", "speed_m_min", "max_deflection_mm", "peak_passive_N",
-                "peak_power_kW", "cycle_time_s", "mass_left_g", "rubbing_stations"]
+STATION_COLUMNS = ["pass", "cut", "r_mm", "z_mm", "met_depth_mm", "depth_mm", "chip_thickness_mm",
+                   "cutting_force_N", "feed_force_N", "passive_force_N", "compliance_mm_per_N",
+                   "tool_compliance_mm_per_N", "push_off_mm", "power_kW", "rubbing"]
+DEVIATION_COLUMNS = ["r_mm", "z_mm", "nr", "nz", "material_left_mm", "surface", "finished_by"]
+PASS_COLUMNS = ["pass", "surface", "tool", "cuts", "feed_mm_per_rev", "speed_m_min", "max_push_off_mm",
+                "peak_passive_force_N", "peak_power_kW", "cycle_time_s", "mass_left_g", "rubbing_stations"]
 SECTION_COLUMNS = ["r_mm", "z_mm"]
 
 
@@ -46,7 +47,7 @@ def station_rows(passes: list[PassResult]):
     for p in passes:
         for t in p.cuts:
             for k in range(len(t.r_mm)):
-                yield [p.name, t.cut, number(t.r_mm[k]), number(t.z_mm[k]), number(t.met_depth_mm[k]),
+                yield [p.name, t.cut + 1, number(t.r_mm[k]), number(t.z_mm[k]), number(t.met_depth_mm[k]),
                        number(t.depth_mm[k]), number(t.chip_thickness_mm[k]), number(t.cutting_n[k]),
                        number(t.feed_n[k]), number(t.passive_n[k]), number(t.compliance_mm_per_n[k]),
                        number(t.tool_compliance_mm_per_n), number(t.deflection_mm[k]), number(t.power_kw[k]),

@@ -50,20 +50,26 @@ def compliance_map_plot(section, points: list, title: str, path: str) -> None:
     ax_section.set_xlabel("r [mm]")
     ax_section.set_ylabel("z [mm]")
     ax_section.set_title("where the wall gives most")
-    ax_section.legend(loc="best", fontsize=8)
+    # below the axes, where it covers neither the part nor an axis label
+    ax_section.legend(loc="upper center", bbox_to_anchor=(0.5, -0.12), fontsize=8, ncol=1, frameon=False)
 
-    ax_line.semilogy(np.arange(len(points)), values_um, ".-", lw=0.8, label="normal compliance")
+    along = np.array([p.along_mm for p in points], dtype=float)
+    # a gap where points are missing (the spin axis, a face shorter than the patch) is left open
+    gap = np.diff(along) > 1.5 * np.median(np.diff(along)) if len(along) > 2 else np.zeros(0, bool)
+    for i, stretch in enumerate(np.split(np.arange(len(points)), np.flatnonzero(gap) + 1)):
+        ax_line.semilogy(along[stretch], values_um[stretch], ".-", lw=0.8, color="tab:blue",
+                         label="normal compliance" if i == 0 else None)
     ax_line.set_ylim(bottom=max(values_um.min(), values_um.max() * 1e-4) / 2.0)
-    ax_line.set_xlabel("point along the boundary (counter-clockwise from the first outline node)")
-    ax_line.set_ylabel("compliance [um/N]")
+    ax_line.set_xlabel("position along the boundary [mm] (counter-clockwise from the start of the outline)")
+    ax_line.set_ylabel("normal compliance [um/N]")
     ax_line.set_title("compliance along the boundary")
     ax_line.grid(True, which="both", alpha=0.3)
-    ax_line.legend(loc="best")
+    ax_line.legend(loc="upper left", fontsize=8)
     fig.suptitle(f"Compliance map: {title}")
     _save(plt, fig, path)
 
 
-SURFACE_LABELS = {"od": "OD", "id": "bore (ID)", "face": "faces"}
+SURFACE_LABELS = {"od": "OD", "id": "ID", "face": "face"}
 SURFACE_COLOURS = {"od": "tab:blue", "id": "tab:orange", "face": "tab:green"}
 MAGNIFIED_SHARE = 0.05          # the largest deviation is drawn as about this share of the part's size
 NICE_STEPS = (1.0, 2.0, 5.0)
@@ -96,11 +102,16 @@ def runs(mask: np.ndarray) -> list[np.ndarray]:
 
 
 def section_plot(pred, path: Path) -> Path:
-    """Stock (faint), nominal and as-machined outlines, and the material left drawn magnified on the normals."""
+    """Stock (faint), nominal and as-machined outlines, and the material left on the finished surfaces drawn
+    magnified on the normals. The magnification is set by the finished surfaces alone: stock that no pass
+    removed (tenths of a millimetre, in the true-scale outline) would otherwise shrink the push-off's
+    micrometres out of sight."""
     plt = _pyplot()
     d = pred.deviation
     extent = pred.nominal_rz.max(axis=0) - pred.nominal_rz.min(axis=0)
-    factor = magnification(float(np.max(np.abs(d.deviation_mm), initial=0.0)), float(extent.max()))
+    finished = np.array([s != "unmachined" for s in d.surface], bool)
+    largest = float(np.max(np.abs(d.deviation_mm[finished]), initial=0.0))
+    factor = magnification(largest, float(extent.max()))
     magnified = d.points_rz + factor * d.deviation_mm[:, None] * d.normals
     fig, ax = plt.subplots(figsize=(8, 8))
     stock, nominal, machined = (closed_ring(rz) for rz in (pred.stock_rz, pred.nominal_rz, pred.machined_rz))
@@ -109,7 +120,9 @@ def section_plot(pred, path: Path) -> Path:
     ax.plot(nominal[:, 0], nominal[:, 1], color="k", lw=1.0, label="nominal (as drawn)")
     ax.plot(machined[:, 0], machined[:, 1], color="tab:blue", lw=0.9, ls="--",
             label="predicted as machined (true scale)")
-    ax.plot(*closed_ring(magnified).T, color="tab:red", lw=1.0, label=f"material left x {factor:.0f}")
+    for i, stretch in enumerate(runs(finished)):
+        ax.plot(*magnified[stretch].T, color="tab:red", lw=1.0,
+                label=f"material left on finished surfaces x {factor:.0f}" if i == 0 else None)
     slender = max(extent) > TRUE_SCALE_UP_TO * max(min(extent), 1e-9)
     if slender:
         ax.set_xlabel("r [mm] (r and z to different scales)")
@@ -119,14 +132,14 @@ def section_plot(pred, path: Path) -> Path:
     ax.set_ylabel("z [mm]")
     ax.grid(True, alpha=0.3)
     ax.legend(loc="best", fontsize=8)
-    ax.set_title(f"Section: {pred.title}\nmaterial left x {factor:.0f} "
-                 f"(largest {1e3 * pred.max_deviation_mm.value:.1f} um a side)")
+    ax.set_title(f"Section: {pred.title}\nmaterial left on finished surfaces x {factor:.0f} "
+                 f"(largest {1e3 * largest:.1f} um a side)")
     _save(plt, fig, path)
     return path
 
 
 def deviation_plot(pred, path: Path) -> Path:
-    """Material left along each finished OD and bore against z, and along the faces against r."""
+    """Material left along each finished OD and ID against z, and along the faces against r."""
     plt = _pyplot()
     d = pred.deviation
     kinds = np.array(d.surface)
@@ -154,7 +167,7 @@ def deviation_plot(pred, path: Path) -> Path:
 
 
 def passes_plot(pred, path: Path) -> Path:
-    """Passive force and push-off along every pass: z for OD and bore passes, r for face passes."""
+    """Passive force and push-off along every pass: z for OD and ID passes, r for face passes."""
     plt = _pyplot()
     along_z = [p for p in pred.passes if p.surface != "face"]
     along_r = [p for p in pred.passes if p.surface == "face"]
@@ -167,11 +180,11 @@ def passes_plot(pred, path: Path) -> Path:
         for i, p in enumerate(passes):
             for j, t in enumerate(p.cuts):
                 x = t.z_mm if axis == 1 else t.r_mm
-                label = p.name if len(p.cuts) == 1 else f"{p.name}, cut {t.cut}"
+                label = p.name if len(p.cuts) == 1 else f"{p.name}, cut {t.cut + 1}"
                 style = {"color": colours[i % len(colours)], "ls": styles[j % len(styles)], "lw": 1.1}
                 ax_force.plot(x, t.passive_n, label=label, **style)
                 ax_push.plot(x, 1e3 * t.deflection_mm, label=label, **style)
-        where = "OD and bore passes" if axis == 1 else "face passes"
+        where = "OD and ID passes" if axis == 1 else "face passes"
         ax_force.set_title(f"{where}: passive force")
         ax_force.set_ylabel("passive force [N]")
         ax_push.set_title(f"{where}: push-off of part and tool")
@@ -187,7 +200,7 @@ def passes_plot(pred, path: Path) -> Path:
     return path
 
 
-def predict_plots(pred, folder, key: str = "--plot") -> list[Path]:
+def predict_plots(pred, folder, key: str = "--figures") -> list[Path]:
     """Write section.png, deviation.png and passes.png of a machining prediction into `folder` (created if
     missing; an InputError naming `key`, the option that gave it, when it cannot be)."""
     from deflect.output.csv_files import output_folder
@@ -203,9 +216,31 @@ def predict_plots(pred, folder, key: str = "--plot") -> list[Path]:
 LOBE_SHARE = 0.15      # the largest radial deviation is drawn as about this share of the radius
 
 
+def nice_length(value: float) -> float:
+    """1, 2 or 5 x 10^k, the largest not above value (value > 0)."""
+    decade = 10.0 ** np.floor(np.log10(value))
+    return float(max(step * decade for step in NICE_STEPS if step * decade <= value * (1.0 + 1e-9)))
+
+
+def scale_bar(ax, profile, factor: float, largest_mm: float) -> None:
+    """A radial bar of a round length in um, drawn at the plot's magnification outward from the as-cut
+    circle, midway between the first two jaws: how small the drawn deviation really is."""
+    length_mm = nice_length(0.5 * largest_mm)
+    jaws = len(profile.jaw_deg)
+    angle = np.radians(180.0 / jaws if jaws else 45.0)
+    ax.set_rlabel_position(np.degrees(angle) + (360.0 / jaws if jaws else 90.0))   # the radii's labels clear of it
+    outer = profile.r_mm + factor * length_mm
+    ax.plot([angle, angle], [profile.r_mm, outer], color="k", lw=2.5, solid_capstyle="butt",
+            label=f"scale: {1e3 * length_mm:g} um drawn x {factor:g}")
+    for end in (profile.r_mm, outer):
+        ax.plot([angle - 0.02, angle + 0.02], [end, end], color="k", lw=1.2)
+    ax.annotate(f"{1e3 * length_mm:g} um", xy=(angle, outer), xytext=(6, 0), textcoords="offset points",
+                fontsize=9, va="center")
+
+
 def released_shape_plot(profile, title: str, path: str) -> None:
     """Polar plot: the surface as cut in the chuck (round), the same surface after release (deviation
-    magnified), and the jaws' positions."""
+    magnified), the jaws' positions, and a scale bar that says in um how large the magnified deviation is."""
     plt = _pyplot()
     largest = float(np.max(np.abs(profile.radial_mm), initial=0.0))
     factor = magnification(largest, profile.r_mm, LOBE_SHARE)
@@ -224,6 +259,8 @@ def released_shape_plot(profile, title: str, path: str) -> None:
         ax.fill_between(span, 1.04 * outer, 1.12 * outer, color="tab:blue", alpha=0.6,
                         label=f"jaws ({len(profile.jaw_deg)}, {profile.jaw_width_deg:.3g} deg wide)" if k == 0
                         else None)
+    if largest > 0.0:
+        scale_bar(ax, profile, factor, largest)
     ax.set_ylim(0.0, 1.18 * outer)
     ax.set_xlabel("angle around the part from the middle of a jaw [deg]")
     ax.set_ylabel(f"radius [mm]: as cut + {factor:g} x deviation", labelpad=28)

@@ -9,8 +9,8 @@ from __future__ import annotations
 from deflect.machining.results import PassResult, Prediction, SpreadValue, SurfaceCheck
 from deflect.output.tables import grid, table
 
-CHECK_ORDER = ("chuck end", "middle", "free end")
-SURFACE_NAMES = {"od": "OD", "id": "bore", "face": "faces", "unmachined": "stock no pass removed"}
+CHECK_ORDER = ("held end", "middle", "free end")
+SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "unmachined": "unmachined"}
 CAUTION = (
     "Caution: these are estimates from a model of the wall and of the cutting forces;\n"
     "confirm them on a first article before running the batch. The force constants should be calibrated\n"
@@ -44,8 +44,8 @@ def headline(pred: Prediction) -> str:
         ("mass gain", f"{gain.value:+.3f} g, {gain_pct:+.2f} % {spread_text(gain, 'g', 3, '+')}"),
         ("most material left", f"{pred.max_deviation_mm.value:.3f} mm a side "
                                f"{spread_text(pred.max_deviation_mm, 'mm', 3)}"),
-        ("inertia about spin axis", f"{pred.nominal_inertia_kg_mm2:.4g} kg mm2 drawn, "
-                                    f"{pred.predicted_inertia_kg_mm2:.4g} kg mm2 predicted"),
+        ("axial inertia", f"{pred.nominal_inertia_kg_mm2:.4g} kg mm2 nominal, "
+                          f"{pred.predicted_inertia_kg_mm2:.4g} kg mm2 predicted"),
         ("cycle time (cutting)", duration_text(pred.cycle_time_s)),
         ("peak cutting power", f"{pred.peak_power_kw:.2f} kW of the machine's {pred.machine_power_kw:g} kW "
                                f"({power_pct:.1f} %)"),
@@ -64,16 +64,16 @@ def pass_row(p: PassResult) -> list[str]:
 
 def pass_table(passes: list[PassResult]) -> str:
     header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "max push-off um",
-              "peak passive N", "peak kW", "time s", "mass left g", "rubbing"]
+              "peak passive force N", "peak power kW", "time s", "mass left g", "rubbing"]
     note = "(rubbing: stations where the wall gives way so far that the tool barely cuts)"
     return "Passes, in order\n" + grid(header, [pass_row(p) for p in passes]) + "\n" + note
 
 
 def surface_table(check: SurfaceCheck) -> str:
-    """The finished surface as a machinist checks it: diameter at the chuck end, middle and free end."""
-    header = ["where", "z mm", "drawn dia. mm", "predicted dia. mm", "material left"]
+    """The finished surface as a machinist checks it: diameter at the held end, middle and free end."""
+    header = ["where", "z mm", "nominal dia. mm", "predicted dia. mm", "material left"]
     if check.roundness_mm is not None:
-        header.append("out of round um")
+        header.append("roundness um")
     rows = []
     for where in (w for w in CHECK_ORDER if w in check.positions):
         rows.append([where, f"{check.positions[where][1]:.2f}", f"{check.nominal_diameter_mm[where]:.3f}",
@@ -81,60 +81,89 @@ def surface_table(check: SurfaceCheck) -> str:
                      f"leaves {1e3 * check.deviation_mm[where]:.1f} um a side"])
         if check.roundness_mm is not None:
             rows[-1].append(f"{1e3 * check.roundness_mm[where]:.1f}")
-    title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: at most "
+    title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: most material left "
              f"{1e3 * check.max_deviation_mm:.1f} um a side, {check.mass_left_g:.3f} g left on it")
     return title + "\n" + grid(header, rows)
 
 
 def wall_table(wall: list[dict]) -> str:
-    header = ["where", "z mm", "drawn wall mm", "predicted wall mm", "thicker by um"]
+    header = ["where", "z mm", "nominal wall mm", "predicted wall mm", "thicker by um"]
     rows = [[row["where"], f"{row['z_mm']:.2f}", f"{row['nominal_mm']:.3f}", f"{row['predicted_mm']:.3f}",
              f"{1e3 * (row['predicted_mm'] - row['nominal_mm']):.1f}"] for row in wall]
-    return "Wall thickness (OD against bore)\n" + grid(header, rows)
+    return "Wall thickness (OD against ID)\n" + grid(header, rows)
+
+
+def shown(value: float, digits: int) -> float:
+    """The value as printed to `digits` decimals, a negative that rounds to zero printed as 0 (not -0)."""
+    return round(value, digits) or 0.0
 
 
 def gain_table(pred: Prediction) -> str:
+    """The gain by surface, each with its share of the whole; a share only where both print as non-zero."""
     total = pred.mass_gain_g.value
     rows = []
     for surface, grams in pred.mass_gain_by_surface_g.items():
-        share = f" ({100.0 * grams / total:.0f} % of the gain)" if total > 0 else ""
-        rows.append((SURFACE_NAMES.get(surface, surface), f"{grams:.3f} g{share}"))
-    return table(rows, title="Mass gain by surface")
+        share = ""
+        if shown(total, 3) > 0.0 and shown(grams, 3) != 0.0:
+            share = f" ({shown(100.0 * grams / total, 0):.0f} % of the gain)"
+        rows.append((SURFACE_NAMES.get(surface, surface), f"{shown(grams, 3):.3f} g{share}"))
+    note = "\n(unmachined: stock no pass removed, counted as material left)" \
+        if "unmachined" in pred.mass_gain_by_surface_g else ""
+    return table(rows, title="Mass gain by surface") + note
 
 
 GRIP_CAUTION = (
     "Work holding: the diameters include the spring-back of the jaws' squeeze once they let go, and the\n"
-    "out-of-round column is what the jaws leave ({lobes} lobes). A grip below the least needed can let the\n"
+    "roundness column is what the jaws leave ({lobes} lobes). A grip below the least needed can let the\n"
     "part turn in the jaws or be thrown from the chuck: see `deflect clamp` for the grip window, and keep\n"
     "to the chuck maker's speed and force limits and the machine's interlocks."
 )
 
 
+SIZE_RULE_NOTES = {
+    "envelope": "diameters judged with the envelope requirement (ISO 14405-1 (E)): a GO gauge at the "
+                "maximum-material size and two-point sizes within the other limit, so the jaws' lobes count "
+                "against the band",
+    "two-point": "diameters judged by two-point sizes, independent of form (envelope = false, ISO 8015); the "
+                 "roundness beside them",
+}
+
+
 def feature_table(features) -> str:
-    """Each toleranced feature in or out, with its margin to the nearer limit."""
+    """Each toleranced feature in or out, with its margin to the nearer limit (and the roundness the jaws
+    leave beside each diameter, with [holding])."""
+    with_roundness = any(c.roundness_mm is not None for c in features)
     rows = []
     for c in features:
         if c.unit == "um":
-            rows.append([c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um",
-                         "in" if c.meets else "OUT"])
+            row = [c.feature, f"<= {c.upper:g} um", f"{c.low:.2f} um", f"{c.margin:+.2f} um"]
+        elif c.surface == "roundness":
+            row = [c.feature, f"<= {1000 * c.upper:g} um", f"{1000 * c.low:.1f} to {1000 * c.high:.1f} um",
+                   f"{1000 * c.margin:+.1f} um"]
         else:
-            rows.append([c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
-                         f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um",
-                         "in" if c.meets else "OUT"])
-    note = "(diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside)"
-    return "Against the drawing\n" + grid(["feature", "limits", "predicted", "margin", "verdict"], rows) + "\n" + note
+            row = [c.feature, f"{1000 * c.lower:+.0f} / {1000 * c.upper:+.0f} um",
+                   f"{1000 * c.low:+.1f} to {1000 * c.high:+.1f} um", f"{1000 * c.margin:+.1f} um"]
+        row.append("in" if c.meets else "OUT")
+        if with_roundness:
+            row.append("-" if c.roundness_mm is None else f"{1000 * c.roundness_mm:.1f}")
+        rows.append(row)
+    header = ["feature", "limits", "predicted", "margin", "verdict"] + (["roundness um"] if with_roundness else [])
+    notes = ["diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside"]
+    notes += [SIZE_RULE_NOTES[rule] for rule in dict.fromkeys(c.size_rule for c in features if c.size_rule)
+              if with_roundness]
+    return "Against the drawing\n" + grid(header, rows) + "\n" + "\n".join(f"({note})" for note in notes)
 
 
-def predict_report(pred: Prediction, features=()) -> str:
+def predict_report(pred: Prediction, features=(), warnings=()) -> str:
     """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
-    surface, warnings, caution."""
+    surface, warnings (the simulation's, then the verdict's: grip and form), caution."""
     blocks = [headline(pred)]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
     checks = [c for c in pred.surfaces if c.surface in ("od", "id")]
     blocks += [surface_table(c) for c in checks]
     if not checks:
-        blocks.append("No finished OD or bore long enough to check at the chuck end, middle and free end.")
+        blocks.append("No finished OD or ID long enough to check at the held end, middle and free end.")
     if pred.wall:
         blocks.append(wall_table(pred.wall))
     if features:
@@ -143,7 +172,7 @@ def predict_report(pred: Prediction, features=()) -> str:
         blocks.append(GRIP_CAUTION.format(lobes=pred.lobes))
     if pred.mass_gain_by_surface_g:
         blocks.append(gain_table(pred))
-    if pred.warnings:
-        blocks.append("\n".join(f"warning: {w}" for w in pred.warnings))
+    if pred.warnings or warnings:
+        blocks.append("\n".join(f"warning: {w}" for w in [*pred.warnings, *warnings]))
     blocks.append(CAUTION)
     return "\n\n".join(blocks)

@@ -22,7 +22,7 @@ CAUTIONS = ("Prove the block out with a dry run and single block before cutting.
 
 
 def contour_csv(rows: np.ndarray) -> str:
-    lines = ["z_mm,x_diameter_mm,compensation_mm_a_side"]
+    lines = ["z_mm,x_diameter_mm,compensation_a_side_mm"]
     lines += [f"{z:.4f},{x:.4f},{c:+.4f}" for z, x, c in rows]
     return "\n".join(lines) + "\n"
 

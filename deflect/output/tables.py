@@ -30,7 +30,7 @@ def section_table(title: str, props: dict) -> str:
         ("mass", f"{props['mass_g']:.4f} g"),
         ("centroid of section, r", f"{props['centroid_r_mm']:.4f} mm"),
         ("centroid of section, z", f"{props['centroid_z_mm']:.4f} mm"),
-        ("inertia about spin axis", f"{props['inertia_axial_kg_mm2']:.5g} kg mm2"),
+        ("axial inertia (about the spin axis)", f"{props['inertia_axial_kg_mm2']:.5g} kg mm2"),
         ("thinnest wall", f"{props['min_wall_mm']:.4f} mm"),
     ]
     return table(rows, title=f"Section of the finished part: {title}")

@@ -1,8 +1,9 @@
-"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of shared/CONTRACT.md.
+"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of INTERFACE.md.
 
 Formatting only; the figures come from `deflect.decisions.tune`. Changes are said the way a machinist says them
-(leave 0.1 mm a side for the finish pass; one spring pass; wear offset X -0.026). Values in the JSON and in
-the words are in the job's own units (mm or inch), so that they can be written back into the job file.
+(leave 0.1 mm a side for the finish pass; one spring cut; wear offset X -0.026 mm on the diameter, with the
+job key it means beside it). Values in the JSON and in the words are in the job's own units (mm or inch), so
+that they can be written back into the job file.
 """
 
 from __future__ import annotations
@@ -40,28 +41,49 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
     if change.key == "allowance":
         return f"{name}: leave {after:g} {unit} a side for the finish pass (was {before:g})"
     if change.key == "spring":
-        count = {0: "no spring pass", 1: "one spring pass", 2: "two spring passes"}.get(after, f"{after} spring passes")
+        count = {0: "no spring cut", 1: "one spring cut", 2: "two spring cuts"}.get(after, f"{after} spring cuts")
         return f"{name}: {count}"
     if change.key == "speed":
         return f"{name}: cutting speed {before:g} -> {after:g} m/min (within the machine's power)"
     if change.key == "tool":
         return f"{name}: finish with {after} instead of {before}"
     if change.key == "offset":
-        surface = surface_of.get(name, "od")
-        if surface == "face":
-            return f"{name}: wear offset Z {after:+.4g}"
-        x = 2.0 * after if surface == "od" else -2.0 * after
-        return f"{name}: wear offset X {x:+.4g} (on diameter)"
+        return f"{name}: {offset_words(after, surface_of.get(name, 'od'), units)}"
     if change.key == "compensate":
         most = max((c for _, c in after), key=abs)
         return f"{name}: program the compensated contour (push-off taken out, up to {most:+.4g} {unit} a side)"
     if change.key == "order":
         swapped = [n for n, m in zip(after, before) if n != m]
         if len(swapped) == 2 and {surface_of.get(n) for n in swapped} == {"od", "id"}:
-            first, second = ("the bore" if surface_of[n] == "id" else "the OD" for n in swapped)
+            first, second = ("the ID" if surface_of[n] == "id" else "the OD" for n in swapped)
             return f"finish {first} before {second} ({swapped[0]} before {swapped[1]})"
         return f"passes in the order {', '.join(after)}"
     return f"{name}: {change.key} {before} -> {after}"
+
+
+def job_number(value: float, units: str) -> str:
+    """A length as it is written into the job file: mm to the micrometre (offsets are found in 1 um steps),
+    inches to six significant digits."""
+    return f"{value:.3f}" if units == "mm" else f"{value:.6g}"
+
+
+def offset_words(offset: float, surface: str, units: str) -> str:
+    """A wear offset in both conventions on one line: the machinist's, as keyed into the control (X on the
+    diameter, + moves the tool away from the axis, so + makes an OD larger and a bore larger; Z along the
+    axis for a face, + away from the chuck), and the job's `offset` key, a side along the surface's outward
+    normal (+ leaves material), as it must be written into the [[pass]] table. On an OD the outward normal
+    is +r, so X = 2 offset; in a bore it points at the axis, so X = -2 offset: the two differ in sign there.
+    A face is taken to look away from the chuck (+z), as a face turned from the tailstock side does."""
+    unit = "in" if units == "inch" else "mm"
+    job_key = f"(job key offset = {job_number(offset, units)}, a side along the outward normal)"
+    if surface == "face":
+        return f"wear offset Z {signed(offset, units)} {unit} {job_key}"
+    x = 2.0 * offset if surface == "od" else -2.0 * offset
+    return f"wear offset X {signed(x, units)} {unit} on the diameter {job_key}"
+
+
+def signed(value: float, units: str) -> str:
+    return ("+" if value >= 0.0 else "") + job_number(value, units)
 
 
 def option_words(outcome: Outcome, surface_of: dict, units: str) -> str:
@@ -75,35 +97,35 @@ def wall_lines(walls, units: str) -> list[str]:
     lines = ["Design revision (the recommended finishing, offsets centred again for each wall):"]
     for w in walls:
         wall = w.wall
-        where = (f"wall between OD {2 * wall.od_radius_mm / factor:g} and bore {2 * wall.bore_radius_mm / factor:g} "
+        where = (f"wall between OD {2 * wall.od_radius_mm / factor:g} and ID {2 * wall.bore_radius_mm / factor:g} "
                  f"{unit}, z {wall.z_low_mm / factor:g} to {wall.z_high_mm / factor:g}")
         if w.thinnest_mm is None:
-            lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}; {w.note}")
+            lines.append(f"  {where}: nominal {wall.thickness_mm / factor:.3f} {unit}; {w.note}")
             continue
         change = w.thinnest_mm - wall.thickness_mm
-        lines.append(f"  {where}: drawn {wall.thickness_mm / factor:.3f} {unit}, thinnest that holds "
+        lines.append(f"  {where}: nominal {wall.thickness_mm / factor:.3f} {unit}, thinnest that holds "
                      f"{w.thinnest_mm / factor:.3f} {unit} ({change / factor:+.3f}): mass "
                      f"{w.mass_g - w.drawn_mass_g:+.3f} g, axial inertia "
-                     f"{w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2:+.4g} kg mm2 against the drawing"
+                     f"{w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2:+.4g} kg mm2 against the nominal"
                      + (f"; {w.note}" if w.note else ""))
     return lines
 
 
-def wall_records(walls, units: str) -> list[dict]:
-    factor = MM_PER_INCH if units == "inch" else 1.0
-    return [{"od": 2 * w.wall.od_radius_mm / factor, "bore": 2 * w.wall.bore_radius_mm / factor,
-             "z": [w.wall.z_low_mm / factor, w.wall.z_high_mm / factor],
-             "drawn_wall": w.wall.thickness_mm / factor,
-             "thinnest_wall_that_holds": None if w.thinnest_mm is None else w.thinnest_mm / factor,
+def wall_records(walls) -> list[dict]:
+    """The design revision's walls, in mm whatever the job's units (the keys say so)."""
+    return [{"od_diameter_mm": 2 * w.wall.od_radius_mm, "id_diameter_mm": 2 * w.wall.bore_radius_mm,
+             "z_mm": [w.wall.z_low_mm, w.wall.z_high_mm], "nominal_wall_mm": w.wall.thickness_mm,
+             "thinnest_wall_that_holds_mm": w.thinnest_mm,
              "mass_change_g": None if w.mass_g is None else w.mass_g - w.drawn_mass_g,
-             "inertia_change_kg_mm2": None if w.inertia_kg_mm2 is None else w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2,
+             "inertia_axial_change_kg_mm2": None if w.inertia_kg_mm2 is None
+             else w.inertia_kg_mm2 - w.drawn_inertia_kg_mm2,
              "note": w.note} for w in walls]
 
 
 def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None) -> str:
     current = result.current
     lines = [f"Remedies: {title}", "",
-             f"as programmed: cycle time {duration_text(current.cycle_time_s)}, worst deviation "
+             f"as programmed: cycle time {duration_text(current.cycle_time_s)}, most off the drawing "
              f"{1000 * current.max_deviation_mm:.1f} um a side, {'meets' if current.meets else 'does NOT meet'} "
              "the drawing", feature_table(current.checks) if current.checks else "nothing toleranced", ""]
     rows = []
@@ -113,10 +135,12 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, wa
         rows.append([str(rank), "yes" if o.meets else "no", f"{o.cycle_time_s:.1f}", f"{delta:+.1f}",
                      f"{1000 * o.max_deviation_mm:.1f}", margin, f"{o.ra_um:.2f}", f"{o.mass_g:.3f}"])
     if rows:
-        header = ["rank", "meets", "cycle s", "vs now s", "worst dev. um", "least margin um", "Ra um", "mass g"]
+        header = ["rank", "meets", "cycle time s", "vs now s", "most off drawing um", "least margin um", "Ra um",
+                  "mass g"]
         lines += [grid(header, rows),
-                  "(worst dev.: the largest deviation from the drawn size a side, either way, wear offsets "
-                  "included; least margin: the nearest a diameter or the wall comes to a limit)", ""]
+                  "(most off drawing: the largest distance of a finished surface from the drawn one, a side, material "
+                  "left or cut below, wear offsets included; least margin: the nearest a diameter or the wall comes "
+                  "to a limit)", ""]
         for rank, o in enumerate(result.options, 1):
             lines.append(f"{rank}. {option_words(o, surface_of, units)}")
             if o.broken:
@@ -133,14 +157,23 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, wa
     return "\n".join(lines)
 
 
+def change_unit(key: str, units: str) -> str | None:
+    """The unit `from` and `to` of a change are in (None: a count, a name, an order)."""
+    length = "in" if units == "inch" else "mm"
+    return {"feed": f"{length}/rev", "allowance": length, "offset": length, "compensate": length,
+            "speed": "m/min"}.get(key)
+
+
 def change_record(change: Change, units: str) -> dict:
     before, after = in_job_units(change, units)
-    return {"pass": change.pass_name, "key": change.key, "from": before, "to": after}
+    return {"pass": change.pass_name, "key": change.key, "from": before, "to": after,
+            "unit": change_unit(change.key, units)}
 
 
 def outcome_record(outcome: Outcome, units: str) -> dict:
     return {"meets": outcome.meets, "cycle_time_s": outcome.cycle_time_s,
-            "max_deviation_mm": outcome.max_deviation_mm, "least_margin_mm": outcome.least_margin_mm,
+            "max_deviation_mm": outcome.max_deviation_mm, "most_off_drawing_mm": outcome.max_deviation_mm,
+            "least_margin_mm": outcome.least_margin_mm,
             "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
             "breaks": outcome.broken,
             "features": [feature_record(c) for c in outcome.checks]}
@@ -157,5 +190,5 @@ def tune_payload(result: TuneResult, surface_of: dict, units: str, walls=None) -
     payload = {"current": current, "options": options, "limiting": result.limiting,
                "offset_note": result.offset_note, "plans_predicted": result.evaluations, "units": units}
     if walls is not None:
-        payload["walls"] = wall_records(walls, units)
+        payload["walls"] = wall_records(walls)
     return payload

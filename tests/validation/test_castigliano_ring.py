@@ -1,8 +1,8 @@
 """Castigliano's thin ring under two opposite diametral point loads.
 
-Reference: REFERENCE.md 4.5 ([C] + [D]): bending energy only, a ring of mean radius R and bending stiffness EI
+Reference: Castigliano's theorem on the ring's bending energy only (classical; the integrals re-evaluated here), a ring of mean radius R and bending stiffness EI
 under two equal opposite loads P: the loaded diameter shortens by (pi/4 - 2/pi) P R^3 / EI = 0.148778 P R^3/EI
-(REFERENCE.md prints 0.148679, a digit swap),
+(0.148679 is also seen printed, a digit swap),
 the perpendicular one lengthens by (2/pi - 1/2) P R^3 / EI = 0.136620 P R^3/EI (S. Timoshenko, Strength of
 Materials, part I, curved bars [M]; the energy integrals are re-evaluated here).
 
@@ -68,8 +68,8 @@ def diameter_changes(width, n_el):
 
 
 def test_castigliano_coefficients_re_evaluated():
-    """The lengthening matches REFERENCE.md's 0.136620. Its shortening figure 0.148679 is not what its own formula
-    gives: pi/4 - 2/pi = 0.148778 (the digits 7 and 6 swapped); the formula and the energy integral agree."""
+    """The lengthening matches the classical 0.136620. The shortening figure 0.148679 seen printed is not what the
+    formula gives: pi/4 - 2/pi = 0.148778 (the digits 7 and 6 swapped); the formula and the energy integral agree."""
     short, longer = castigliano_coefficients()
     assert short == pytest.approx(np.pi / 4 - 2 / np.pi, rel=1e-10)
     assert short == pytest.approx(0.148778, rel=1e-5)

@@ -7,8 +7,8 @@ References:
   u(b) = -(p b / E) ((b^2 + a^2) / (b^2 - a^2) - nu),  u(a) = -2 p a b^2 / (E (b^2 - a^2)).
   Thin-wall limit: u = -p b R / (E t).
 * A band of pressure c wide on a long cylinder: the ring-load solution of S. Timoshenko,
-  S. Woinowsky-Krieger, Theory of Plates and Shells, 2nd ed. 1959, section 114 (REFERENCE.md 4.3: formulas
-  [M], cross-checked there), w(x) = q R^2 beta / (2 E t) e^(-beta x)(cos beta x + sin beta x) per unit ring
+  S. Woinowsky-Krieger, Theory of Plates and Shells, 2nd ed. 1959, section 114 (formulas from memory,
+  cross-checked in test_timoshenko_shells.py), w(x) = q R^2 beta / (2 E t) e^(-beta x)(cos beta x + sin beta x) per unit ring
   load, integrated over the band: w(0) = q R^2 / (E t) (1 - e^(-beta c/2) cos(beta c/2)), q the pressure on
   the mid-surface, beta^4 = 3 (1 - nu^2) / (R t)^2.
 The grip goes through `deflect.mechanics.clamping.released_deviation` (the public entry the prediction will use):

