@@ -110,8 +110,8 @@ def point_record(point) -> dict:
 @click.option("--patch", default="2,2", show_default=True, metavar="A,W",
               help="Contact patch: A along the section boundary, W around the circumference (job's units).")
 @click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
-              help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
-                   "tolerance).")
+              help="Where the Fourier-harmonic sum stops: the estimated error of the whole sum (its fitted tail "
+                   "included), relative to the sum (not a drawing tolerance).")
 @click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,

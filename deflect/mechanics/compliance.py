@@ -28,7 +28,7 @@ from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad
 from deflect.mechanics.shell.harmonic import compliance as harmonic_compliance
 from deflect.mechanics.shell.midsurface import ShellGeometry, shell_from_section
 
-DEFAULT_TOLERANCE = 1e-3          # relative truncation error of the harmonic series
+DEFAULT_TOLERANCE = 1e-3          # estimated relative error of the summed harmonic series
 CORNER_ANGLE_DEG = 45.0           # the patch stays on its face: it stops where the boundary turns more than this
 PATCH_POINTS = 8                  # Gauss-Legendre points along the patch (meridian direction)
 FAR_FROM_BOUNDARY_MM = 1.0        # an --at point farther than this (or 2 % of the part's size) is refused
