@@ -43,6 +43,12 @@ def child(payload: dict) -> None:
                       "max_deviation_mm": pred.max_deviation_mm.value}))
 
 
+def most_left_mm(predicted: dict) -> float:
+    """The largest material left from a `predict --json` "predicted" block (named max_deviation_mm before the
+    interface page of issue 10 renamed it)."""
+    return predicted["most_material_left_mm"] if "most_material_left_mm" in predicted else predicted["max_deviation_mm"]
+
+
 def main() -> None:
     args = bench_against.options(__doc__.splitlines()[0]).parse_args()
     with tempfile.TemporaryDirectory() as folder, bench_against.trees(None if args.alone else args.against) as sources:
@@ -54,7 +60,7 @@ def main() -> None:
         for name, per_tree in medians.items():
             figures = {label: json.loads(m["stdout"])["predicted"] for label, m in per_tree.items()}
             print(f"  {name}: mass gain " + ", ".join(f"{label} {f['mass_gain_g']:.5f} g" for label, f in figures.items())
-                  + "; largest material left " + ", ".join(f"{label} {1000 * f['max_deviation_mm']:.3f} um"
+                  + "; largest material left " + ", ".join(f"{label} {1000 * most_left_mm(f):.3f} um"
                                                          for label, f in figures.items()))
         demo_cli = medians["housing"]
         inner = {"simulate (demo)": bench_against.script_command(Path(__file__), {"job": str(DEMO)})}
