@@ -164,12 +164,18 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
 
 
 def run_prediction(job_file: str, show_progress: bool):
-    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction and its
-    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings)."""
+    """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
+    verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
+    findings and the job."""
+    from dataclasses import replace
+
     from deflect.decisions.conformance import verdict
+    from deflect.decisions.rules import check_rules
+    from deflect.job.dynamics import dynamics_from_job
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
+    from deflect.machining.chatter import prediction_warnings
     from deflect.machining.simulate import simulate
     from deflect.machining.targets import process_from_job
 
@@ -178,14 +184,17 @@ def run_prediction(job_file: str, show_progress: bool):
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
         tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
-        warn(job.warnings + process.warnings, job_file)
+        dynamics = dynamics_from_job(job.tables)
+        warn(job.warnings + process.warnings + list(dynamics.warnings), job_file)
 
         def progress(pass_name, cut):
             if show_progress:
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        return pred, verdict(job, process, pred, tolerances)
+        # the finishing passes' chatter, checked where each meets the most compliant wall
+        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics))
+        return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
@@ -210,8 +219,10 @@ def write_outputs(pred, csv_dir, plot_dir) -> list:
 @click.option("--figures", "plot_dir", type=click.Path(file_okay=False), default=None,
               help="Draw the section, the material left and the pass forces as PNG files into this folder.")
 @click.option("--plot", "old_plot_dir", type=click.Path(file_okay=False), default=None, hidden=True)  # earlier name
+@click.option("--dxf", "dxf_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
-def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -219,13 +230,17 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, quiet):
     """
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.rules_report import rules_payload, rules_summary
 
-    pred, judged = run_prediction(job_file, show_progress=not (quiet or as_json))
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
     written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
+    if dxf_file:
+        from deflect.output.dxf_files import prediction_dxf
+        written.append(prediction_dxf(pred, job.section, dxf_file))
     if as_json:
-        emit_json(prediction_payload(pred, judged.checks, judged.warnings))
+        emit_json({**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)})
     else:
-        click.echo(predict_report(pred, judged.checks, judged.warnings))
+        click.echo(predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -240,12 +255,13 @@ def demo(out_dir):
     from deflect.job.materials import library_path
     from deflect.output.predict_json import prediction_payload
     from deflect.output.predict_report import predict_report
+    from deflect.output.rules_report import rules_summary
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
     click.echo(f"deflect demo: predicting {job_file}", err=True)
-    pred, judged = run_prediction(job_file, show_progress=True)
+    pred, judged, rules, _ = run_prediction(job_file, show_progress=True)
     out = Path(out_dir)
-    report = predict_report(pred, judged.checks, judged.warnings)
+    report = predict_report(pred, judged.checks, judged.warnings, rules_summary(rules))
     try:
         out.mkdir(parents=True, exist_ok=True)
         (out / "report.txt").write_text(report + "\n")
@@ -322,7 +338,7 @@ def clamp(job_file, as_json, plot_file, plot_at):
 @click.argument("job_file", type=click.Path(dir_okay=False))
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--contour", "contour_dir", type=click.Path(file_okay=False), default=None,
-              help="Write the compensated finishing contour of each pass (CSV points and ISO 6983 moves) here.")
+              help="Write the compensated finishing contour of each pass (CSV points, ISO 6983 moves, DXF) here.")
 @click.option("--design", is_flag=True,
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
@@ -334,10 +350,13 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
+    from deflect.decisions.chatter_free import marked_for_chatter
+    from deflect.decisions.rules import check_rules
     from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
+    from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
     job = read_job(job_file)
@@ -349,16 +368,65 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
                                show_eta=False, hidden=quiet or as_json) as bar:
             result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+            result = marked_for_chatter(job, result)   # chatter: a limit with a given damping, else a note
             bar.update(SEARCH_STEPS_SHOWN - bar.pos)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         written = write_contours(job, result, contour_dir) if contour_dir else []
+        rules = check_rules(job, process)
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
     if as_json:
-        emit_json(tune_payload(result, surface_of, job.units, walls))
+        emit_json({**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)})
     else:
-        click.echo(tune_report(result, surface_of, job.units, job.title, walls))
+        click.echo(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
+        for path in written:
+            click.echo(f"wrote {path}")
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--pass", "pass_name", default=None, metavar="NAME",
+              help="Check this pass only (any pass); by default every finishing pass (allowance 0).")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--figures", "figures_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
+def chatter(job_file, pass_name, as_json, figures_dir):
+    """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
+
+    The wall's modes as held and as cut (the stock still ahead of the tool), the regenerative stability of each
+    pass at key stations with its worst station, the largest stable depth at its speed and the spindle-speed
+    windows where its depth is stable. Damping from [dynamics] (or a recalled default); a tap test's modes
+    replace the model's. Estimates: confirm with a tap test and a trial cut; the machine's limits come first.
+    """
+    from deflect.job.dynamics import dynamics_from_job
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.reader import read_job
+    from deflect.machining.chatter import chatter_study
+    from deflect.machining.targets import process_from_job
+    from deflect.output.chatter_report import chatter_payload, chatter_report
+
+    job = read_job(job_file)
+    try:
+        dynamics = dynamics_from_job(job.tables)
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        warn(job.warnings + process.warnings, job_file)
+        study = chatter_study(job, process, dynamics, pass_name, with_lobes=figures_dir is not None)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    written = []
+    if figures_dir:
+        from deflect.output.chatter_figures import chatter_figures
+        try:
+            written = chatter_figures(study, figures_dir)
+        except OSError as exc:
+            raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+    if as_json:
+        emit_json(chatter_payload(study))
+    else:
+        click.echo(chatter_report(study))
         for path in written:
             click.echo(f"wrote {path}")
 
@@ -385,6 +453,9 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    if job.drawing is not None:   # the walls are redrawn on the outline read from the drawing
+        from deflect.job.drawing import outline_in
+        data["part"] = {"outline": outline_in(job.drawing, job.units)}
     recommended = result.options[0].changes if result.options else ()
     with click.progressbar(length=WALL_STEPS_SHOWN, label="trying wall thicknesses", file=sys.stderr,
                            show_eta=False, hidden=quiet) as bar:
@@ -393,12 +464,13 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
 
 
 def write_contours(job, result, folder: str) -> list:
-    """CSV and ISO 6983 files of every compensated pass of the best option that has one."""
+    """CSV, ISO 6983 and DXF files of every compensated pass of the best option that has one."""
     from pathlib import Path
 
     from deflect.decisions.tune import job_with
     from deflect.machining.targets import process_from_job
     from deflect.machining.toolpath import compensated_contour
+    from deflect.output.dxf_files import contour_dxf
     from deflect.output.programs import contour_csv, iso6983_block
 
     option = next((o for o in result.options if any(c.key == "compensate" for c in o.changes)), None)
@@ -418,9 +490,88 @@ def write_contours(job, result, folder: str) -> list:
                 path = out / f"{stem}-contour{suffix}"
                 path.write_text(text)
                 written.append(path)
+            written.append(contour_dxf(rows, job.section, p.name, out / f"{stem}-contour.dxf"))
     except OSError as exc:
         raise InputError("--contour", f"cannot write into {folder}: {exc.strerror or exc}") from None
     return written
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+def rules(job_file, as_json):
+    """Design rules the part in JOB_FILE must meet: thinnest wall against the material's least, internal
+    corners sharper than the nose that finishes them (with the material the nose leaves), stretches the
+    finishing insert cannot reach, and what the drawing itself holds (splines, tiny segments, near-tangent
+    corners, a size that suggests the wrong unit)."""
+    from deflect.decisions.rules import check_rules
+    from deflect.job.reader import read_job
+    from deflect.machining.targets import process_from_job
+    from deflect.output.rules_report import rules_payload, rules_report
+
+    job = read_job(job_file)
+    warn(job.warnings, job_file)
+    try:
+        process = process_from_job(job) if "pass" in job.tables else None
+        result = check_rules(job, process)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    if as_json:
+        emit_json(rules_payload(result))
+    else:
+        click.echo(rules_report(result, job.title))
+
+
+@cli.command(name="import")
+@click.argument("drawing_file", type=click.Path(dir_okay=False))
+@click.option("--units", type=click.Choice(["mm", "inch"]), default=None,
+              help="The drawing's unit, whatever its header says (default: its $INSUNITS; unitless: mm).")
+@click.option("--layer", default=None, help="Read only this layer (default: every layer).")
+@click.option("--axis", default=None, metavar="y=VALUE|x=VALUE",
+              help="The spin axis in drawing coordinates (default: a centre line, else y = 0).")
+@click.option("--material", default=None, help="A library material to write into [material].")
+@click.option("--out", "out_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the job to this file (it must not exist yet) instead of printing it.")
+def import_drawing(drawing_file, units, layer, axis, material, out_file):
+    """Write a job whose [part] outline reproduces the DXF half-section in DRAWING_FILE (arcs as arcs).
+
+    Drawing x is read as z (along the spin axis) and y as r; a full profile mirrored about the axis gives
+    its half above it. Notes on what was joined, replaced or ignored go to stderr and into the job's header.
+    """
+    from pathlib import Path
+
+    from deflect.job.drawing import drawing_notes, drawing_section, read_drawing
+    from deflect.job.materials import material_from_job
+    from deflect.output.job_files import job_text
+
+    try:
+        drawing = read_drawing(drawing_file, units=units, layer=layer, axis=axis)
+        section = drawing_section(drawing, key="entities")
+    except InputError as exc:
+        exc.file = exc.file or drawing_file
+        raise
+    if material is not None:
+        try:
+            material_from_job({"name": material})
+        except InputError as exc:
+            raise InputError("--material", exc.message) from None
+    notes = drawing_notes(drawing, section)
+    warn(notes, drawing_file)
+    text = job_text(drawing, notes, material)
+    if out_file is None:
+        click.echo(text, nl=False)
+        return
+    out = Path(out_file)
+    if out.exists():
+        raise InputError("--out", f"{out_file} exists already; choose another name (a job file is never overwritten)")
+    try:
+        temporary = out.with_name(out.name + ".part")
+        temporary.write_text(text, encoding="utf-8")
+        temporary.replace(out)
+    except OSError as exc:
+        raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
+    click.echo(f"wrote {out_file}", err=True)
 
 
 def main(argv: list[str] | None = None) -> None:

@@ -1,6 +1,6 @@
 """The interface page and the code cannot drift apart (issue 10.8: one name per quantity, a unit on every number).
 
-Every command that prints JSON is run (section, compliance, predict, clamp, tune with --design), with every
+Every command that prints JSON is run (section, compliance, predict, clamp, tune with --design, chatter), with every
 CSV output (predict --csv, tune --contour); every JSON key and CSV column is listed, and:
 * each key or column that holds a number ends in a unit suffix from INTERFACE.md's "Unit suffixes" table, or
   sits in an object whose key does (`force_N.cutting`), or is in its "Keys without a unit suffix" table;
@@ -89,6 +89,7 @@ def outputs(tmp_path_factory) -> dict:
         "predict ring": ["predict", ring, "--quiet", "--csv", str(folder / "ring-csv")],
         "clamp": ["clamp", ring],
         "tune": ["tune", ring, "--quiet", "--design", "--contour", str(folder / "contour")],
+        "chatter": ["chatter", housing],
     }
     data = {}
     for name, args in runs.items():

@@ -593,6 +593,23 @@ def test_contour_moves_follow_the_compensated_target_between_points(run, request
         assert np.abs(programmed - expected).max() / 2.0 <= CONTOUR_CHORD_MM
 
 
+@pytest.mark.parametrize("run", RUNS)
+def test_contour_export_as_a_drawing(run, request):
+    """Beside the CSV and ISO 6983 files, a DXF with the same points (drawing x = Z, y = X / 2) on layer
+    COMPENSATED over the drawn section on layer SECTION."""
+    import ezdxf
+
+    _, data, contour = request.getfixturevalue(run)
+    for changed, p, pairs, rows, _ in contour_case(run, request):
+        stem = "".join(ch if ch.isalnum() else "-" for ch in p["name"]).strip("-")
+        doc = ezdxf.readfile(contour / f"{stem}-contour.dxf")
+        lines = [e for e in doc.modelspace() if e.dxftype() == "LWPOLYLINE" and e.dxf.layer == "COMPENSATED"]
+        assert len(lines) == 1
+        drawn = np.array([(x, y) for x, y in lines[0].get_points("xy")])
+        assert np.allclose(drawn, np.column_stack([rows[:, 0], 0.5 * rows[:, 1]]), rtol=0, atol=PRINTED_MM)
+        assert any(e.dxf.layer == "SECTION" for e in doc.modelspace())
+
+
 # ---------------------------------------------------------------------------------------------------
 # 7. the machinist's words
 

@@ -3,6 +3,8 @@
     conformance.py  prediction + tolerances -> each toleranced feature in or out, with its margin
     tune.py         ranked remedies (feed, spring cuts, allowance, tool, wear offset, compensation, order)
     design.py       the thinnest drawn wall that holds with the recommended finishing
+    chatter_free.py the ranked remedies checked for chatter (a limit with a given damping, a note otherwise)
+    rules.py        design rules: thinnest wall, internal corners against the nose, reach, the drawing
 
 May import every room below: `deflect.errors`, `geometry`, `job`, `mechanics`, `machining`.
 """

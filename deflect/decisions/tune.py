@@ -84,6 +84,7 @@ class Outcome:
     checks: list[FeatureCheck]
     broken: list[str]            # the limits it breaks, in words
     prediction: Prediction
+    notes: tuple[str, ...] = ()  # said beside the option without counting as broken (`chatter_free`)
 
     @property
     def meets(self) -> bool:

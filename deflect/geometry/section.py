@@ -71,8 +71,8 @@ _WALL_XATOL = 1e-11
 _RAYS_PER_BATCH = 256  # rays intersected with all segments at once (bounds the size of the work arrays)
 
 # unit_size_warning: a turned part smaller or larger than this [mm] was probably drawn in the other unit.
-_SMALLEST_PLAUSIBLE_MM = 2.5
-_LARGEST_PLAUSIBLE_MM = 2500.0
+SMALLEST_PLAUSIBLE_MM = 2.5
+LARGEST_PLAUSIBLE_MM = 2500.0
 _MM_PER_INCH = 25.4
 
 
@@ -820,24 +820,58 @@ def section_from_outline(outline: list, key: str = "part.outline") -> Section:
     return Section(tuple(segments))
 
 
-def unit_size_warning(section: Section, units: str) -> str | None:
+def part_size_mm(section: Section) -> float:
+    """The part's size for the unit check: the larger of its diameter and its length [mm]."""
+    r_min, r_max, z_min, z_max = section.bounds()
+    return max(2.0 * r_max, z_max - z_min)
+
+
+def unit_size_warning(section: Section, units: str, to_inch: str = 'set units = "inch" in [job]',
+                      to_mm: str = 'set units = "mm" in [job]') -> str | None:
     """A warning when the part's size suggests the outline was drawn in the other unit, else None.
 
     The size is the larger of the part's diameter and its length, in mm (inch jobs already converted).
+    `to_inch` and `to_mm` say how to switch the unit where the outline came from (the job, a drawing).
     """
-    r_min, r_max, z_min, z_max = section.bounds()
-    size_mm = max(2.0 * r_max, z_max - z_min)
+    size_mm = part_size_mm(section)
     if units == "mm":
-        if size_mm < _SMALLEST_PLAUSIBLE_MM:
+        if size_mm < SMALLEST_PLAUSIBLE_MM:
             return (f"the part is only {size_mm:.3g} mm across (largest of diameter and length); if the drawing "
-                    'is in inches, set units = "inch" in [job]')
+                    f"is in inches, {to_inch}")
         return None
     if units == "inch":
-        if size_mm > _LARGEST_PLAUSIBLE_MM:
+        if size_mm > LARGEST_PLAUSIBLE_MM:
             return (f"the part is {size_mm / _MM_PER_INCH:.4g} in ({size_mm:.4g} mm) across (largest of diameter "
-                    'and length); if the drawing is in millimetres, set units = "mm" in [job]')
+                    f"and length); if the drawing is in millimetres, {to_mm}")
         return None
     raise InputError("job.units", f'units must be "mm" or "inch", got {units!r}')
+
+
+def tangent_arc(seg_in: Segment, seg_out: Segment, radius_mm: float) -> tuple[Arc, float, float] | None:
+    """The arc of radius_mm tangent to both segments on the inside of the turn from seg_in to seg_out, as a
+    fillet rounds a corner: (arc from its point on seg_in to its point on seg_out, parameter of that point
+    on seg_in, on seg_out); None where no such arc fits on the two segments (or they do not turn).
+
+    The segments need not meet: with a drawn fillet between them, this is the larger arc a tool nose
+    leaves there.
+    """
+    size = max(abs(v) for seg in (seg_in, seg_out) for v in _bbox(seg))
+    try:
+        fillet = _round_corner(seg_in, seg_out, radius_mm, "", _REL_TOL * size)
+    except InputError:
+        return None
+    return None if fillet is None else (fillet.arc, fillet.t_in, fillet.t_out)
+
+
+def part_of(seg: Segment, t0: float, t1: float) -> Segment:
+    """The piece of a segment between the parameters t0 < t1."""
+    return _trimmed(seg, seg.point_at(t0) if t0 > 0.0 else None, seg.point_at(t1) if t1 < 1.0 else None)
+
+
+def region_moments(segments, z0: float = 0.0) -> np.ndarray:
+    """[A, integral r dA, integral r^3 dA, integral (z - z0) dA] over the region a closed chain of lines and
+    arcs encloses: positive for a counter-clockwise chain, negative for a clockwise one (see `_area_moments`)."""
+    return _area_moments(segments, z0)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -1001,8 +1035,21 @@ def _walls(section: Section, surfaces: _RayTargets, seg_ids: np.ndarray,
 
 
 def min_wall(section: Section) -> float:
+    """The thinnest wall [mm] (see `thinnest_wall`, which also says where it is)."""
+    return thinnest_wall(section).thickness_mm
+
+
+@dataclass(frozen=True)
+class WallReading:
+    """The thinnest wall of a section and the boundary point it is measured from."""
+
+    thickness_mm: float
+    point: Point                 # (r, z) on the boundary where the thinnest ray starts [mm]
+
+
+def thinnest_wall(section: Section) -> WallReading:
     """The thinnest wall [mm]: the smallest distance from a boundary point, along its inward normal
-    through the material, to the opposite boundary (for a tube OD/2 - ID/2).
+    through the material, to the opposite boundary (for a tube OD/2 - ID/2), and where it starts.
 
     The opposite boundary is one the ray meets within 20 degrees of head-on, i.e. a face within 20
     degrees of parallel to the one the ray starts from. A ray leaving through a face at a steeper angle
@@ -1043,12 +1090,15 @@ def min_wall(section: Section) -> float:
 
     # refine around the thinnest ray of each of the thinnest few segments
     per_segment = sorted((sampled[seg_ids == i].min(), i) for i in surface_ids)
-    thinnest = float(sampled.min())
+    first = int(np.argmin(sampled))
+    thinnest = (float(sampled[first]), int(seg_ids[first]), float(params[first]))
     for _, i in per_segment[:_WALL_REFINED_SEGMENTS]:
         t = grids[i]
         k = int(np.argmin(sampled[seg_ids == i]))
         lo, hi = t[max(k - 1, 0)], t[min(k + 1, len(t) - 1)]
         found = minimize_scalar(lambda x: wall_at(i, x), bounds=(lo, hi), method="bounded",
                                 options={"xatol": _WALL_XATOL})
-        thinnest = min(thinnest, float(found.fun), wall_at(i, lo), wall_at(i, hi))
-    return thinnest
+        thinnest = min(thinnest, (float(found.fun), i, float(found.x)), (wall_at(i, lo), i, float(lo)),
+                       (wall_at(i, hi), i, float(hi)))
+    thickness, i, t = thinnest
+    return WallReading(thickness_mm=thickness, point=section.segments[i].point_at(t))

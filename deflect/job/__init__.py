@@ -7,6 +7,8 @@
     process.py    [stock], [[pass]], [machine] -> `Process` (each key checked on its own)
     fits.py       [tolerance], ISO 286-1 fit codes -> `Tolerances`
     holding.py    [holding] -> `Holding`, and where the grip bears on the section
+    dynamics.py   [dynamics] -> `Dynamics`: modal damping, a tap test's modes
+    drawing.py    a DXF half-section ([part] drawing, `deflect import`) -> outline nodes, lines and arcs
 
 Bad input is an `InputError` naming the key. May import: `deflect.errors`, `deflect.geometry`.
 """

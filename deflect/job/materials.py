@@ -50,6 +50,7 @@ _FIELD_OF_KEY = {
     "ref_approach": "ref_approach_deg",
     "ref_speed": "ref_speed_m_min",
     "force_spread": "force_spread",
+    "min_wall_mm": "min_wall_mm",
 }
 NUMBER_KEYS = tuple(_FIELD_OF_KEY)
 JOB_KEYS = ("name", "description") + NUMBER_KEYS
@@ -78,6 +79,7 @@ class Material:
     ref_approach_deg: float = DEFAULT_REF_APPROACH_DEG
     ref_speed_m_min: float = DEFAULT_REF_SPEED_M_MIN
     force_spread: float = DEFAULT_FORCE_SPREAD
+    min_wall_mm: float | None = None      # the thinnest finished wall usually turned in it [mm]; None: not known
     sources: dict[str, str] = field(default_factory=dict, hash=False)
     description: str = ""
 
@@ -96,7 +98,7 @@ def library_path() -> Path:
 
 def _check_range(name: str, value: float, key: str) -> None:
     """Physical range of each material value; `name` is the job-file key."""
-    if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11"):
+    if name in ("E", "density", "ref_speed", "kc11", "kf11", "kp11", "min_wall_mm"):
         if value <= 0.0:
             raise InputError(key, f"must be > 0, got {value:g}")
     elif name == "nu":

@@ -1,7 +1,8 @@
 """Job file: TOML on disk -> a checked `Job` in mm, N, MPa.
 
 Takes the path of a job file (keys in INTERFACE.md) and gives a `Job`: the title, the nominal
-section (`deflect.geometry.section.Section`), the material (`deflect.job.materials.Material`), the held boxes (the
+section (`deflect.geometry.section.Section`, from `[part] outline` or from a DXF half-section named by
+`[part] drawing`, `deflect.job.drawing`), the material (`deflect.job.materials.Material`), the held boxes (the
 [[held]] boxes or, when there are none, the material under the [holding] contact,
 `deflect.job.holding.held_from_holding`), and the machining tables as read (checked by the modules that use
 them). An inch job (`units = "inch"`) has every length converted to mm here, so nothing downstream ever
@@ -20,15 +21,17 @@ from deflect.errors import InputError
 from deflect.geometry.boxes import HeldBox
 from deflect.geometry.section import Section, section_from_outline, unit_size_warning
 from deflect.job.checks import check_keys, check_range, check_table, is_number
+from deflect.job.drawing import Drawing, drawing_notes, drawing_section, read_drawing
 from deflect.job.holding import held_from_holding
 from deflect.job.materials import Material, material_from_job
 
 MM_PER_INCH = 25.4
 
 # Tables a job may hold. The machining ones are read by the simulation; here they only pass through.
-KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding")
+KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding",
+                "dynamics")
 JOB_KEYS = ("title", "units")
-PART_KEYS = ("outline",)
+PART_KEYS = ("outline", "drawing", "layer", "axis")
 HELD_KEYS = ("r", "z")
 
 # Lengths inside the machining tables, converted for inch jobs (key names as in INTERFACE.md).
@@ -51,6 +54,7 @@ class Job:
     held: list[HeldBox]
     tables: dict = field(default_factory=dict)   # machining tables (stock, tool, pass, ...), lengths in mm
     warnings: list[str] = field(default_factory=list)
+    drawing: Drawing | None = None   # the DXF the section was read from ([part] drawing), else None
 
 
 def scale_lengths(value, factor: float):
@@ -96,6 +100,8 @@ def convert_machining_tables(data: dict, factor: float) -> dict:
                                for k, v in tolerance.items()}
     if "machine" in data:
         tables["machine"] = check_table(data["machine"], "machine")
+    if "dynamics" in data:   # damping ratios and frequencies: no lengths
+        tables["dynamics"] = check_table(data["dynamics"], "dynamics")
     return tables
 
 
@@ -145,13 +151,21 @@ def parse_job(data: dict, path: str) -> Job:
         raise InputError("part", "missing; give [part] with outline = [[r, z], ...] (the finished half-section)")
     part = check_table(data["part"], "part")
     check_keys(part, PART_KEYS, "part")
-    if "outline" not in part:
-        raise InputError("part.outline", "missing; list the half-section's corners as [[r, z], ...]")
-    section = section_from_outline(scale_lengths(part["outline"], factor), "part.outline")
-    warnings = []
-    warning = unit_size_warning(section, units)
-    if warning:
-        warnings.append(f"part.outline: {warning}")
+    drawing = None
+    if "drawing" in part:
+        drawing, section, warnings = read_part_drawing(part, path, units)
+    else:
+        if "outline" not in part:
+            raise InputError("part.outline", "missing; list the half-section's corners as [[r, z], ...], or name "
+                                             'a DXF half-section with drawing = "part.dxf"')
+        for name in ("layer", "axis"):
+            if name in part:
+                raise InputError(f"part.{name}", "belongs to a drawing: give it with drawing = \"part.dxf\"")
+        section = section_from_outline(scale_lengths(part["outline"], factor), "part.outline")
+        warnings = []
+        warning = unit_size_warning(section, units)
+        if warning:
+            warnings.append(f"part.outline: {warning}")
 
     held = read_held(data, factor)
     tables = convert_machining_tables(data, factor)
@@ -159,7 +173,30 @@ def parse_job(data: dict, path: str) -> Job:
         # the material under the jaws' contact is what holds the part for the cutting stiffness
         held = held_from_holding(section, tables["holding"])
     return Job(path=path, title=title, units=units, section=section, material=material,
-               held=held, tables=tables, warnings=warnings)
+               held=held, tables=tables, warnings=warnings, drawing=drawing)
+
+
+def read_part_drawing(part: dict, path: str, units: str) -> tuple[Drawing, Section, list[str]]:
+    """[part] drawing = "file.dxf" (path relative to the job file), optional layer and axis: the drawing,
+    its section in mm and its notes. A unitless drawing is read in the job's unit."""
+    if "outline" in part:
+        raise InputError("part.drawing", "give the half-section once: either outline or drawing, not both")
+    name = part["drawing"]
+    if not isinstance(name, str) or not name.strip():
+        raise InputError("part.drawing", f'must be the DXF file\'s name in quotes, e.g. "housing.dxf"; got {name!r}')
+    for key in ("layer", "axis"):
+        if key in part and not isinstance(part[key], str):
+            raise InputError(f"part.{key}", f"must be text in quotes, got {part[key]!r}")
+    dxf = Path(path).parent / name
+    try:
+        drawing = read_drawing(dxf, layer=part.get("layer"), axis=part.get("axis"), unitless=units,
+                               axis_key="part.axis")
+    except InputError as exc:
+        if exc.key.startswith("part."):
+            raise
+        raise InputError("part.drawing", f"{name}: {exc.key}: {exc.message}") from None
+    section = drawing_section(drawing)
+    return drawing, section, [f"part.drawing: {name}: {note}" for note in drawing_notes(drawing, section)]
 
 
 def read_job(path: str | Path) -> Job:

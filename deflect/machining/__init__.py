@@ -7,6 +7,7 @@
     results.py    the prediction as plain data (read by every output)
     toolpath.py   the compensated finishing contour as points
     grip.py       the grip window: the least grip that holds the cuts, the most that keeps the tolerance
+    chatter.py    the wall's modes as it is cut and the chatter stability of each pass, its windows of speed
 
 May import: `deflect.errors`, `deflect.geometry`, `deflect.job`, `deflect.mechanics`.
 """

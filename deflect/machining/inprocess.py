@@ -31,13 +31,15 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from shapely.geometry import Point, Polygon
+from shapely.geometry import LineString, Point, Polygon
 from shapely.geometry.polygon import orient
 from shapely.ops import nearest_points
 
 from deflect.errors import ModelError
 from deflect.geometry.section import Section
 from deflect.job.process import SURFACES, Pass
+from deflect.job.tooling import Tool
+from deflect.machining.toolshape import ToolShape, shadow, tool_shape
 
 # Each side as a frame (u, v): u grows towards the tool, v runs along the surface. The maps are symmetric
 # reflections or the identity, so the same matrix takes (r, z) to (u, v) and back.
@@ -123,7 +125,10 @@ def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> 
     slanted = np.abs(v1 - v0) > tol
     u0, v0, u1, v1 = u0[slanted], v0[slanted], u1[slanted], v1[slanted]
     levels = np.concatenate([v0, v1])
-    levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo) & (levels < v_hi)]]))
+    levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo + tol) & (levels < v_hi - tol)]]))
+    # levels a rounding apart (a buffered outline's vertices) would make slabs that no edge of the surface
+    # spans; the slab keeps its lower level
+    levels = levels[np.concatenate([[True], np.diff(levels) > tol])]
     bottom, top = levels[:-1], levels[1:]
     lo_edge, hi_edge = np.minimum(v0, v1), np.maximum(v0, v1)
     slope = (u1 - u0) / (v1 - v0)
@@ -177,14 +182,16 @@ def _face_without_walls(envelope: np.ndarray, v_lo: float, v_hi: float, tol: flo
 
 
 def _offset_envelope(nominal_uv: np.ndarray, offset_mm: float, v_lo: float, v_hi: float, tol: float,
-                     hold_walls: bool = False) -> np.ndarray:
+                     hold_walls: bool = False, shape: ToolShape | None = None, feed_sign: float = 1.0) -> np.ndarray:
     """The nominal's visible envelope offset by offset_mm towards +u, over [v_lo, v_hi], in (u, v).
 
     The envelope is first carried on at constant u beyond the part's ends (the tool keeps its last
     position and feeds on to the end of the pass), closed far on the -u side into a region that holds
     everything the tool cannot see, and that region is dilated (offset > 0) or eroded (offset < 0) by a
     disc. Offsetting this region rather than the part moves only the surface on the pass's side, never the
-    opposite wall.
+    opposite wall. With the tool's shape, the region also takes in what the insert's edges cannot reach
+    (`toolshape.shadow`, feeding towards +v for feed_sign > 0) and is closed by the nose's disc, so internal
+    corners keep the nose radius (`_swept_by_nose`).
     """
     part_lo, part_hi = nominal_uv[:, 1].min(), nominal_uv[:, 1].max()
     envelope = _upper_envelope(np.column_stack([nominal_uv, np.roll(nominal_uv, -1, axis=0)]),
@@ -197,9 +204,93 @@ def _offset_envelope(nominal_uv: np.ndarray, offset_mm: float, v_lo: float, v_hi
     u_far_side = envelope[:, 0].min() - 2.0 * abs(offset_mm) - size - 1.0
     hidden = Polygon(np.vstack([[envelope[0, 0], ext_lo], envelope, [envelope[-1, 0], ext_hi],
                                 [u_far_side, ext_hi], [u_far_side, ext_lo]]))
-    if offset_mm != 0.0:
+    if shape is not None:
+        hidden = _swept_by_nose(hidden, nominal_uv, offset_mm, shape, feed_sign, tol)
+    elif offset_mm != 0.0:
         hidden = hidden.buffer(offset_mm, quad_segs=_quad_segs(offset_mm), join_style="round")
     return _upper_envelope(_ring_edges(hidden), v_lo, v_hi, tol)
+
+
+def _swept_by_nose(hidden: Polygon, nominal_uv: np.ndarray, offset_mm: float, shape: ToolShape, feed_sign: float,
+                   tol: float) -> Polygon:
+    """The hidden region offset by offset_mm, and where the tool's shape leaves more: the part's own side (the
+    region behind its visible envelope, without the path carried on beyond its ends, whose corner with the
+    part's end is no corner of the part) with what the insert's edges cannot reach beside it
+    (`toolshape.shadow`), offset too and closed by the nose's disc of radius r (dilated by offset + r, eroded
+    by r). A concave corner then keeps exactly the arc of radius r tangent to both walls.
+
+    The closing is done only in windows around the corners sharper than the nose (`_nose_corners`) and the
+    edges' shadows, each window wide enough that the disc does not feel its edges; elsewhere the surface is
+    the offset alone, exactly as without the tool's shape. The arcs are chords of at most BUFFER_CHORD_MM, so
+    a corner's polygon differs from the exact region by less than that chord error times the arc's length.
+    """
+    moved = hidden.buffer(offset_mm, quad_segs=_quad_segs(offset_mm), join_style="round") if offset_mm else hidden
+    u_far, v_low, u_near, v_high = hidden.bounds
+    part_lo, part_hi = nominal_uv[:, 1].min(), nominal_uv[:, 1].max()
+    envelope = _upper_envelope(np.column_stack([nominal_uv, np.roll(nominal_uv, -1, axis=0)]), part_lo, part_hi, tol)
+    part_side = Polygon(np.vstack([envelope, [u_far, envelope[-1, 1]], [u_far, envelope[0, 1]]]))
+    nose = shape.nose_radius_mm
+    windows = _nose_corners(envelope, nose + offset_mm)
+    surface = np.asarray(shapely.simplify(LineString(envelope), 0.1 * BUFFER_CHORD_MM).coords)
+    edges = shadow(surface, shape, feed_sign, (u_near - u_far) + (v_high - v_low))
+    if edges is not None:
+        beyond = edges.intersection(shapely.box(u_far, v_low, u_near, v_high)).difference(part_side)
+        pieces = [q for q in shapely.get_parts(beyond) if q.area > BUFFER_CHORD_MM * q.length]
+        if pieces:
+            part_side = part_side.union(shapely.union_all(pieces))
+            windows += [q.bounds for q in pieces]
+    reach = 2.0 * (abs(offset_mm) + nose) + 1.0
+    for lo_u, lo_v, hi_u, hi_v in windows:
+        near = shapely.box(lo_u - reach, lo_v - reach, hi_u + reach, hi_v + reach)
+        # long edges beside dense arcs make GEOS smooth its buffers' input by up to 1 % of the distance (a
+        # face moved micrometres); edges no longer than NOSE_EDGE_MM keep every face where it is
+        local = shapely.segmentize(part_side.intersection(near.buffer(reach, join_style="mitre")), NOSE_EDGE_MM)
+        if offset_mm < 0.0:
+            local = local.buffer(offset_mm, quad_segs=_quad_segs(offset_mm), join_style="round")
+        grown = max(offset_mm, 0.0) + nose
+        if grown > 0.0:
+            local = local.buffer(grown, quad_segs=_quad_segs(grown), join_style="round")
+        if nose > 0.0:
+            local = local.buffer(-nose, quad_segs=_quad_segs(nose), join_style="round")
+        moved = moved.union(local.intersection(near))
+    return moved
+
+
+# Longest edge handed to the nose's closing [mm] (see `_swept_by_nose`).
+NOSE_EDGE_MM = 0.05
+# A stretch of the surface turning this much more [rad] than an arc of the nose's radius would is a corner the
+# nose rounds off (less leaves a sliver below a nanometre: r (theta / 2)^2 / 2 for r = 1 mm).
+NOSE_CORNER_RAD = 0.01
+
+
+def _nose_corners(envelope: np.ndarray, radius_mm: float) -> list[tuple[float, float, float, float]]:
+    """Bounds (u_lo, v_lo, u_hi, v_hi) of the stretches of the envelope (v increasing, the hidden region on its
+    left) whose concave turning outruns an arc of radius_mm: sum of (turn - length / radius) over the stretch
+    above NOSE_CORNER_RAD (the largest such sums found by Kadane's scan). A sharp corner turns with no
+    length; a drawn arc of radius f turns length / f, more than the nose's only when f < radius."""
+    steps = np.diff(envelope, axis=0)
+    lengths = np.linalg.norm(steps, axis=1)
+    keep = lengths > 0.0
+    steps, lengths, points = steps[keep], lengths[keep], envelope[np.concatenate([[True], keep])]
+    # a right turn (clockwise) is concave for the region on the left
+    concave = -np.arctan2(steps[:-1, 0] * steps[1:, 1] - steps[:-1, 1] * steps[1:, 0],
+                          np.einsum("ij,ij->i", steps[:-1], steps[1:]))
+    per_length = 1.0 / radius_mm if radius_mm > 0.0 else 0.0
+    marked = np.zeros(len(points), bool)
+    run, start = 0.0, 1
+    for i, turn in enumerate(concave, start=1):      # vertex i lies between steps i - 1 and i
+        if run <= 0.0:
+            run, start = 0.0, i
+        run += turn
+        if run > NOSE_CORNER_RAD:
+            marked[start:i + 1] = True
+        run -= lengths[i] * per_length
+    boxes = []
+    for stretch in np.split(np.flatnonzero(marked), np.flatnonzero(np.diff(np.flatnonzero(marked)) > 1) + 1):
+        if len(stretch):
+            chosen = points[stretch]
+            boxes.append((*chosen.min(axis=0), *chosen.max(axis=0)))
+    return boxes
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -246,7 +337,7 @@ def _tolerance(rz: np.ndarray) -> float:
 
 
 def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start_mm: float, end_mm: float,
-                   spacing_mm: float) -> CutPath:
+                   spacing_mm: float, shape: ToolShape | None = None) -> CutPath:
     """The finished contour offset by offset_mm along its outward normal, seen from the pass's side.
 
     Parameters
@@ -260,6 +351,9 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
         or height (face); a face pass whose extent runs past the edge of its face carries on at the face's
         edge height rather than running down the wall beyond it.
     spacing_mm : most distance between two target points [mm]
+    shape : the tool's nose radius and edges (`toolshape.ToolShape`); the target then keeps the nose radius
+        in internal corners and stays out of what the edges cannot reach. None: a point tool with no edges
+        (the drawn contour itself, as a program gives it)
     """
     frame = _frame(surface)
     if not spacing_mm > 0.0:
@@ -268,7 +362,8 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
         raise ValueError("a pass needs a start and an end that differ")
     nominal_uv = np.asarray(nominal_rz, float) @ frame
     envelope = _offset_envelope(nominal_uv, float(offset_mm), min(start_mm, end_mm), max(start_mm, end_mm),
-                                _tolerance(nominal_uv), hold_walls=surface == "face")
+                                _tolerance(nominal_uv), hold_walls=surface == "face", shape=shape,
+                                feed_sign=1.0 if end_mm > start_mm else -1.0)
     return _cut_path(envelope, frame, start_mm, end_mm, spacing_mm)
 
 
@@ -298,7 +393,8 @@ def _in_feed(surface: str) -> np.ndarray:
     return np.array([1.0, 0.0]) @ _frame(surface)
 
 
-def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spacing_mm: float) -> list[CutPath]:
+def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spacing_mm: float,
+                  tool: Tool | None = None) -> list[CutPath]:
     """The cuts of one pass on the current part, in order.
 
     When the deepest stock beyond the final target exceeds the pass's most depth per cut, the stock is
@@ -307,10 +403,12 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
     axially for face): on the cylinders and faces a pass is for this is its normal, and unlike moving each
     point along its own normal it never folds the target over itself at a shoulder or a corner, nor counts
     the stock above a shoulder (which the tool takes radially) as depth. Then the final cut, then `spring`
-    more cuts on the final target.
+    more cuts on the final target. With the pass's tool, every target keeps its nose radius in internal corners
+    and stays out of what its edges cannot reach (`target_surface`).
     """
+    shape = tool_shape(tool, p.surface) if tool is not None else None
     final = compensated(target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm,
-                                       spacing_mm), p)
+                                       spacing_mm, shape), p)
     cuts = []
     if p.depth_mm is not None:
         in_feed = _in_feed(p.surface)

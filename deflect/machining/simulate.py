@@ -50,7 +50,9 @@ from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_prope
 from deflect.job.holding import holding_from_table
 from deflect.job.process import Pass, Process
 from deflect.machining.inprocess import CutPath, cuts_for_pass, depth_of_material, deviation_along, polygon_mass, remove
+from deflect.machining.leftover import corners_left, covered, finishing_targets, reach_left
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
+from deflect.machining.toolshape import tool_shape
 from deflect.mechanics.chuck import centrifugal_force_n, grip_in_cut_n
 from deflect.mechanics.clamping import released_deviation
 from deflect.mechanics.compliance import Patch, WallModel
@@ -283,16 +285,19 @@ def plan_compliance(job, process: Process, settings: SimulationSettings, nominal
     return plan
 
 
-def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict):
+def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict, tool_shapes: bool = True):
     """({i: the cuts of pass i}, {i: the part before each of them}): each pass's cuts laid out on the part
-    cut exactly to the earlier targets. Kept in memo by the part before the pass and the pass's geometry
-    (feed, speed and tool do not change where a pass cuts)."""
+    cut exactly to the earlier targets, each target swept by its tool's nose and edges (tool_shapes False: a
+    point tool, the drawn contour itself). Kept in memo by the part before the pass, the pass's geometry and
+    its tool's shape (feed and speed do not change where a pass cuts)."""
     paths, parts, current = {}, {}, process.stock_rz
     for i, p in enumerate(process.passes):
+        tool = process.tools[p.tool] if tool_shapes else None
+        shape = tool_shape(tool, p.surface) if tool is not None else None
         name = ("cuts", current.tobytes(), nominal_rz.tobytes(), spacing_mm, p.surface, p.allowance_mm, p.offset_mm,
-                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring)
+                p.compensation, p.start_mm, p.end_mm, p.depth_mm, p.spring, shape)
         if name not in memo:
-            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm), []
+            cuts, befores = cuts_for_pass(current, nominal_rz, p, spacing_mm, tool), []
             after = current
             for path in cuts:
                 befores.append(after)
@@ -300,6 +305,15 @@ def laid_out(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: 
             memo[name] = (cuts, befores, after)
         paths[i], parts[i], current = memo[name]
     return paths, parts
+
+
+def cut_to_targets(process: Process, nominal_rz: np.ndarray, spacing_mm: float, memo: dict,
+                   tool_shapes: bool = True) -> np.ndarray:
+    """The part every pass leaves when each cut goes exactly to its target (no push-off): what the tools'
+    shape alone leaves (tool_shapes False: the drawn contour wherever a pass runs)."""
+    paths, parts = laid_out(process, nominal_rz, spacing_mm, memo, tool_shapes)
+    last = len(process.passes) - 1
+    return cut_to_target(parts[last][-1], paths[last][-1], process.passes[last])
 
 
 def cut_to_target(current_rz: np.ndarray, path: CutPath, p: Pass, upto: int | None = None) -> np.ndarray:
@@ -711,6 +725,15 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     return rows
 
 
+def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict):
+    """(corners, reach): what the finishing tools' nose and edges leave beyond the drawing
+    (`deflect.machining.leftover`), on the part cut exactly to the targets."""
+    targets = finishing_targets(job, process, memo)
+    corners = corners_left(job, process, targets)
+    shaped = cut_to_targets(process, nominal_rz, settings.station_spacing_mm, memo)
+    return corners, reach_left(job, process, shaped, corners, targets)
+
+
 def simulate(job, process: Process, settings: SimulationSettings = SimulationSettings(), progress=None,
              memo: dict | None = None, with_ranges: bool = True) -> Prediction:
     """Machine the part pass by pass; the nominal constants and their +/- spread.
@@ -752,11 +775,19 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
             peak_power_kw=float(max(t.power_kw.max(initial=0.0) for t in tables)),
             mass_left_g=float(layer[mine].sum()) if mine.any() else 0.0))
 
+    # the tools' shape: the nose's material in internal corners (exact) and what the edges cannot reach are
+    # causes of their own; the layer on the surface is counted where they are not
+    corners, reach = shape_left(job, process, nominal_rz, settings, memo) if with_ranges else ([], [])
+    apart = covered(deviation.points_rz, corners, reach)
     by_surface = {}
     for name in ("od", "id", "face", "unmachined"):
-        mine = np.array([s == name for s in surfaces], bool)
+        mine = np.array([s == name for s in surfaces], bool) & ~apart
         if mine.any():
             by_surface[name] = float(layer[mine].sum())
+    if any(c.material is not None for c in corners):
+        by_surface["corners"] = float(sum(c.mass_g for c in corners))
+    if reach:
+        by_surface["reach"] = float(sum(piece.mass_g for piece in reach))
     checks = surface_checks(deviation, material.density_g_cm3)
     peak_power = max((p.peak_power_kw for p in passes), default=0.0)
     warnings = list(process.warnings)

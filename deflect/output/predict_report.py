@@ -10,7 +10,8 @@ from deflect.machining.results import PassResult, Prediction, SpreadValue, Surfa
 from deflect.output.tables import grid, table
 
 CHECK_ORDER = ("held end", "middle", "free end")
-SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "unmachined": "unmachined"}
+SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "unmachined": "unmachined",
+                 "corners": "nose in corners", "reach": "out of reach"}
 CAUTION = (
     "Caution: these are estimates from a model of the wall and of the cutting forces;\n"
     "confirm them on a first article before running the batch. The force constants should be calibrated\n"
@@ -107,9 +108,14 @@ def gain_table(pred: Prediction) -> str:
         if shown(total, 3) > 0.0 and shown(grams, 3) != 0.0:
             share = f" ({shown(100.0 * grams / total, 0):.0f} % of the gain)"
         rows.append((SURFACE_NAMES.get(surface, surface), f"{shown(grams, 3):.3f} g{share}"))
-    note = "\n(unmachined: stock no pass removed, counted as material left)" \
-        if "unmachined" in pred.mass_gain_by_surface_g else ""
-    return table(rows, title="Mass gain by surface") + note
+    notes = [note for key, note in GAIN_NOTES.items() if key in pred.mass_gain_by_surface_g]
+    return table(rows, title="Mass gain by surface") + "".join(f"\n({note})" for note in notes)
+
+
+# the causes that are no surface, said once under the gain table
+GAIN_NOTES = {"unmachined": "unmachined: stock no pass removed, counted as material left",
+              "corners": "nose in corners: the radius a nose leaves in internal corners drawn sharper, exact",
+              "reach": "out of reach: where the finishing insert's edges cannot follow the contour"}
 
 
 GRIP_CAUTION = (
@@ -154,10 +160,11 @@ def feature_table(features) -> str:
     return "Against the drawing\n" + grid(header, rows) + "\n" + "\n".join(f"({note})" for note in notes)
 
 
-def predict_report(pred: Prediction, features=(), warnings=()) -> str:
-    """The whole report: headline, passes, finished surfaces, wall, the toleranced features, mass gain by
-    surface, warnings (the simulation's, then the verdict's: grip and form), caution."""
-    blocks = [headline(pred)]
+def predict_report(pred: Prediction, features=(), warnings=(), rules_summary: str = "") -> str:
+    """The whole report: headline, the design rules' findings in brief, passes, finished surfaces, wall, the
+    toleranced features, mass gain by surface, warnings (the simulation's, then the verdict's: grip and form),
+    caution."""
+    blocks = [headline(pred), *([rules_summary] if rules_summary else [])]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
     checks = [c for c in pred.surfaces if c.surface in ("od", "id")]

@@ -122,9 +122,10 @@ def wall_records(walls) -> list[dict]:
              "note": w.note} for w in walls]
 
 
-def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None) -> str:
+def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None,
+                rules_summary: str = "") -> str:
     current = result.current
-    lines = [f"Remedies: {title}", "",
+    lines = [f"Remedies: {title}", "", *([rules_summary, ""] if rules_summary else []),
              f"as programmed: cycle time {duration_text(current.cycle_time_s)}, most off the drawing "
              f"{1000 * current.max_deviation_mm:.1f} um a side, {'meets' if current.meets else 'does NOT meet'} "
              "the drawing", feature_table(current.checks) if current.checks else "nothing toleranced", ""]
@@ -145,6 +146,7 @@ def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, wa
             lines.append(f"{rank}. {option_words(o, surface_of, units)}")
             if o.broken:
                 lines.append(f"   breaks: {'; '.join(o.broken)}")
+            lines += [f"   note: {note}" for note in o.notes]
     else:
         lines.append("no option could be predicted")
     if result.limiting:
@@ -175,7 +177,7 @@ def outcome_record(outcome: Outcome, units: str) -> dict:
             "max_deviation_mm": outcome.max_deviation_mm, "most_off_drawing_mm": outcome.max_deviation_mm,
             "least_margin_mm": outcome.least_margin_mm,
             "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
-            "breaks": outcome.broken,
+            "breaks": outcome.broken, "notes": list(outcome.notes),
             "features": [feature_record(c) for c in outcome.checks]}
 
 

@@ -31,6 +31,10 @@ of its displacement along d is g_n f^T U_n. Hence
 summed until the terms (with g_n^2 replaced by its envelope min(1, 1/(n a))^2, so that a zero of g_n does not
 stop the sum early) have been below `tol` of the sum for three harmonics in a row.
 
+Modes (test_against_3d_solid_modes.py): the consistent mass M = integral of rho N^T N r dr dz for each of U, V, W,
+the same for every harmonic (the circumferential factor pi, or 2 pi for n = 0, is common to K_n and M), and the
+lowest eigenpairs of K_n q = w^2 M q by scipy.sparse.linalg.eigsh in shift-invert mode (sigma = 0).
+
 Limits: rectangles only, a structured tensor grid (cells whose centre lies in a rectangle are material);
 unheld nodes on the spin axis are refused (no axis conditions are implemented; hold the hub or leave a hole).
 """
@@ -42,7 +46,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.linalg import splu
+from scipy.sparse.linalg import eigsh, splu
 
 GAUSS3_X = np.array([-math.sqrt(0.6), 0.0, math.sqrt(0.6)])
 GAUSS3_W = np.array([5.0, 8.0, 5.0]) / 9.0
@@ -240,6 +244,10 @@ class SolidOfRevolution:
         shape = (self.n_dofs, self.n_dofs)
         # one sparsity pattern for the three parts (explicit zeros kept), so K_n is a sum of data arrays
         self._parts = [sp.csr_matrix((k.ravel(), (rows, cols)), shape=shape) for k in (k0, k1, k2)]
+        # N^T N r dr dz of each element for one displacement component, kept for the mass
+        scalar = np.einsum("mg,gi,gj->mij", dv, n_ref, n_ref)
+        self._unit_mass = sp.csr_matrix((np.einsum("mij,ab->miajb", scalar, np.eye(DOFS)).ravel(), (rows, cols)),
+                                        shape=shape)
 
     def stiffness(self, n: int) -> sp.csr_matrix:
         """K_n over all DOFs [N/mm], nothing fixed; harmonic n stores pi q^T K_n q / 2 (2 pi for n = 0)."""
@@ -258,6 +266,19 @@ class SolidOfRevolution:
         q = np.zeros_like(loads)
         q[free] = self._factor(n).solve(loads[free])
         return q
+
+    # -- modes -------------------------------------------------------------------------------------
+    def mass(self, density_t_mm3: float) -> sp.csr_matrix:
+        """Consistent mass [t] over all DOFs, the same for every harmonic (no circumferential factor)."""
+        return density_t_mm3 * self._unit_mass
+
+    def natural_frequencies_hz(self, n: int, count: int, density_t_mm3: float) -> np.ndarray:
+        """The `count` lowest natural frequencies of harmonic n [Hz] (mm, N, t, s)."""
+        free = self.free[0 if n == 0 else 1]
+        k = self.stiffness(n)[free][:, free].tocsc()
+        m = self.mass(density_t_mm3)[free][:, free].tocsc()
+        values = eigsh(k, k=count, M=m, sigma=0.0, which="LM", return_eigenvectors=False)
+        return np.sqrt(np.sort(values)) / (2.0 * math.pi)
 
     # -- loads -------------------------------------------------------------------------------------
     def surface_load(self, start, end, inward, components) -> np.ndarray:

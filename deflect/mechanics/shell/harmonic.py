@@ -804,16 +804,61 @@ def tail_sums(n_last: int, exponent: np.ndarray, half_angle: np.ndarray) -> np.n
                                                                                        * (p + 1.0))
         out[picks] = explicit + beyond
     return out
-    extent = int(min(MOST_EXPLICIT, math.ceil(EXPLICIT_PERIODS / half_angle[patch].min())))
-    m = np.arange(n_last + 1, n_last + extent + 1, dtype=float)
-    log_ratio = np.log(m / n)
-    rows = max(1, TAIL_WORK // (extent * exponent.shape[1]))
-    for first in range(0, len(patch), rows):
-        picks = patch[first: first + rows]
-        a = half_angle[picks]
-        p = exponent[picks]  # (p, k)
-        weights = harmonic_weights(m[None, :], a[:, None])  # (p, M)
-        explicit = np.einsum("pm,pkm->pk", weights, np.exp(-p[:, :, None] * log_ratio[None, None, :]))
-        beyond = np.exp(p * math.log(n) - (p + 1.0) * math.log(m[-1] + 0.5)) / (2.0 * np.pi * a[:, None] ** 2 * (p + 1.0))
-        out[picks] = explicit + beyond
-    return out
+
+
+# ----------------------------------------------------------------------------------------------------
+# the consistent mass, for the wall's modes (`deflect.mechanics.modes`)
+
+_GAUSS4 = np.polynomial.legendre.leggauss(4)
+
+
+def _element_mass(mesh: ShellMesh, density_t_mm3: float) -> np.ndarray:
+    """(M, 12, 12) consistent mass of every element: integral of rho N^T N r ds dzeta (no circumferential factor).
+
+    N is the degenerated-solid displacement of the stiffness, U = u + zeta (omega x n) at the true radius
+    r(s, zeta), so the rotary inertia of the wall fibre, rho h^3 / 12 per unit area on a flat wall, comes with
+    it (Ahmad, Irons, Zienkiewicz 1970, the mass of the same element). In (r, theta, z):
+        U_r = u_r + zeta n_z w_theta,  U_theta = u_theta + zeta (t_r w_r + t_z w_z),  U_z = u_z - zeta n_r w_theta.
+    The rotation about the wall normal (drilling) moves no material and carries no mass. The displacement
+    amplitudes of harmonic n go with cos or sin n theta whose squares integrate to the same pi, so one mass
+    matrix serves every harmonic (2 pi for n = 0, as the stiffness). Exact quadrature: the integrand is of
+    degree 6 along the element (4-point Gauss) and 3 through the thickness (3-point Gauss).
+    """
+    g = _element_geometry(mesh)
+    t_r, t_z, n_r, n_z, length = g["t_r"], g["t_z"], g["n_r"], g["n_z"], g["L"]
+    mass = np.zeros((len(length), 12, 12))
+    for x, w in zip(*_GAUSS4):
+        s = length * (1.0 + x) / 2.0
+        h = g["h_a"] + (g["h_b"] - g["h_a"]) * s / length
+        for eta, w_eta in zip(*_GAUSS3):
+            zeta = eta * h / 2.0
+            r = g["r_a"] + s * t_r + zeta * n_r
+            shape_matrix = np.zeros((len(s), 3, 12))
+            for node, shape in enumerate((1.0 - s / length, s / length)):
+                ur, ut, uz, wr, wt, wz = (6 * node + k for k in range(6))
+                shape_matrix[:, 0, ur] = shape
+                shape_matrix[:, 0, wt] = zeta * n_z * shape
+                shape_matrix[:, 1, ut] = shape
+                shape_matrix[:, 1, wr] = zeta * t_r * shape
+                shape_matrix[:, 1, wz] = zeta * t_z * shape
+                shape_matrix[:, 2, uz] = shape
+                shape_matrix[:, 2, wt] = -zeta * n_r * shape
+            dv = density_t_mm3 * r * w * length / 2.0 * w_eta * h / 2.0
+            mass += dv[:, None, None] * np.einsum("mai,maj->mij", shape_matrix, shape_matrix)
+    return mass
+
+
+def mass_matrix(mesh: ShellMesh, density_t_mm3: float) -> sp.csr_matrix:
+    """Consistent mass [t] of the shell over all DOFs (fixed ones included), the same for every harmonic.
+
+    density_t_mm3 : density in tonnes per mm3 (1 g/cm3 = 1e-9 t/mm3), so that with mm, N and s the
+        eigenvalues of K_n phi = omega^2 M phi come out in rad^2/s^2 (1 N = 1 t mm / s^2).
+    """
+    if not (np.isfinite(density_t_mm3) and density_t_mm3 > 0.0):
+        raise ModelError(f"the density must be a positive number, got {density_t_mm3}")
+    me = _element_mass(mesh, float(density_t_mm3))
+    n_dofs = mesh.n_nodes * DOFS_PER_NODE
+    dofs = (DOFS_PER_NODE * mesh.elements[:, :, None] + np.arange(DOFS_PER_NODE)).reshape(-1, 12)
+    rows = np.broadcast_to(dofs[:, :, None], me.shape).ravel()
+    cols = np.broadcast_to(dofs[:, None, :], me.shape).ravel()
+    return sp.csr_matrix((me.ravel(), (rows, cols)), shape=(n_dofs, n_dofs))
