@@ -190,3 +190,42 @@ def test_cli_patch_that_is_not_positive(tmp_path, capsys):
 def test_cli_part_with_no_held_box(tmp_path, capsys):
     code, _, err = run(capsys, write_job(tmp_path, held=()), "--at", "20,38")
     assert_refused(code, err, "not held", "rigid body")
+
+
+# ----------------------------------------------------------------------------------------------------
+# a tool's patch near the axis (the simulation's WallModel, strict_patch=False)
+#
+# The command line refuses a patch wider than half the circumference (the user chose it); a tool facing to
+# the centre bears on what circumference there is: within W / pi of the axis its patch covers half of it.
+# Oracle: a circular plate of radius a under a central load deflects P a^2 / (16 pi D) when its edge is
+# clamped and (3 + nu) / (1 + nu) times that when simply supported (Timoshenko & Woinowsky-Krieger, Theory
+# of Plates and Shells, 2nd ed., 1959, sections 19 and 20), D = E t^3 / (12 (1 - nu^2)). A cup's 2 mm bottom
+# on a 2 mm wall restrains its edge partly, so its centre lies between the two.
+
+DIAPHRAGM = [[0.0, 28.0], [19.0, 28.0, 1.0], [19.0, 0.0], [21.0, 0.0], [21.0, 30.0], [0.0, 30.0]]
+TOOL_PATCH = Patch(length_mm=1.0, width_mm=2.0)
+
+
+def tool_compliance_at(r):
+    model = WallModel(section_from_outline(DIAPHRAGM), [HeldBox((20.0, 21.0), (0.0, 10.0), "held[0]")],
+                      E_MPA, NU, TOOL_PATCH, strict_patch=False)
+    return model.at_contacts([(r, 30.0)], [np.array([0.0, 1.0])])[0].matrix_mm_per_n
+
+
+def test_tool_patch_at_the_centre_of_a_diaphragm_lies_between_the_clamped_and_the_supported_plate():
+    rigidity = E_MPA * 2.0**3 / (12.0 * (1.0 - NU**2))
+    clamped = 20.0**2 / (16.0 * np.pi * rigidity)          # a = 20 mm, the wall's mid-surface
+    supported = (3.0 + NU) / (1.0 + NU) * clamped
+    for r in (0.1, 0.5):                                  # inside W / pi = 0.64 mm: the patch is half the circumference
+        matrix = tool_compliance_at(r)
+        assert clamped < matrix[0, 0] < supported
+        assert np.all(np.linalg.eigvalsh(0.5 * (matrix + matrix.T)) > 0.0)
+
+
+def test_tool_patch_shrinks_with_the_circumference_without_a_jump():
+    """Either side of r = W / pi, where the patch stops covering W and starts covering half the circumference,
+    the compliance changes as little as between two points on the same side."""
+    edge = TOOL_PATCH.width_mm / np.pi
+    below, above, further = (tool_compliance_at(r) for r in (edge - 0.005, edge + 0.005, edge + 0.015))
+    across = np.abs(above - below).max()
+    assert across <= 2.0 * np.abs(further - above).max() + 1e-3 * np.abs(above).max()

@@ -153,6 +153,10 @@ BAD_INPUTS = [
     ({"pass": with_pass(chuck=1)}, "pass[0].chuck", "unknown key"),
     ({"pass": with_pass(offset=-1.2)}, "pass[0].offset", "cut through the wall"),
     ({"pass": with_pass(offset=-1.0)}, "pass[0].offset", "cut through the wall"),
+    # a target past the spin axis (the axis is no surface): the key that takes it there
+    ({"pass": with_pass(offset=-25.0)}, "pass[0].offset", "past the spin axis"),
+    ({"pass": with_pass(surface="id", tool="B2", offset=20.0)}, "pass[0].offset", "past the spin axis"),
+    ({"pass": with_pass(surface="id", tool="B2", allowance=20.0)}, "pass[0].allowance", "past the spin axis"),
     ({"pass": [FINISH_OD, FINISH_OD]}, "pass[1].name", "own name"),
     ({"tool": [TABLES["tool"][0], TABLES["tool"][0]]}, "tool[1].name", "already defined at tool[0]"),
     ({"tool": [{"name": "T1", "approach": 93.0}]}, "tool[0].nose_radius", "missing"),
@@ -182,6 +186,21 @@ def test_wall_check_allows_a_thin_wall_and_a_necked_part():
     with pytest.raises(InputError, match="cut through the wall") as caught:
         process_from_job(SimpleNamespace(section=necked, tables=tables))
     assert caught.value.key == "pass[0].offset"
+
+
+def test_wall_check_refuses_a_deep_offset_on_a_short_cup_that_hangs_together_by_its_base():
+    """An offset deeper than half the part's length: the target lies in the air inside the cup, behind the
+    wall the pass would take away; the part left still hangs together by its base (regression: accepted,
+    since the heights checked shrank by the offset at both ends to nothing)."""
+    cup = section_from_outline([[0.0, 0.0], [20.0, 0.0], [20.0, 10.0], [19.0, 10.0], [19.0, 2.0], [0.0, 2.0]])
+    stock = {"bar": {"diameter": 41.0, "z": [0.0, 10.5]}}
+    for offset in (-6.0, -1.5):
+        tables = job(stock=stock, **{"pass": with_pass(z=[11.0, 0.0], offset=offset)}).tables
+        with pytest.raises(InputError, match="cut through the wall") as caught:
+            process_from_job(SimpleNamespace(section=cup, tables=tables))
+        assert caught.value.key == "pass[0].offset" and f"r = {20.0 + offset:g}" in caught.value.message
+    tables = job(stock=stock, **{"pass": with_pass(z=[11.0, 0.0], offset=-0.99)}).tables
+    assert process_from_job(SimpleNamespace(section=cup, tables=tables)).passes[0].offset_mm == -0.99
 
 
 def test_stock_fits_a_part_with_arcs_on_the_same_circle():

@@ -10,6 +10,7 @@ three PNG files. The magnification rule of the section figure is checked against
 import csv
 import math
 import re
+from dataclasses import replace
 
 import numpy as np
 import pytest
@@ -18,7 +19,7 @@ from deflect.errors import InputError
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
 from deflect.output.csv_files import DEVIATION_COLUMNS, PASS_COLUMNS, SECTION_COLUMNS, STATION_COLUMNS, write_csv
 from deflect.output.figures import magnification, predict_plots
-from deflect.output.predict_report import predict_report
+from deflect.output.predict_report import pass_row, predict_report
 
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 NICE_HALF_STEP = math.log10(math.sqrt(2.5))   # widest log gap between neighbours of 1, 2, 5, 10 is 2 -> 5
@@ -130,6 +131,15 @@ def test_predict_report_pass_row(prediction):
     cells = row.split()
     # rough OD: 2 cuts, max push-off 30.0 um, peak passive 5 stations x 8 N = 40 N, 1 rubbing station
     assert cells[4] == "2" and cells[7] == "30.0" and cells[8] == "40.0" and cells[-1] == "1"
+
+
+def test_predict_report_pass_row_shows_the_largest_push_off_with_its_sign(prediction):
+    """A face pass that leaves its face 2.7 um below its target and 0.1 um above elsewhere: its row shows
+    -2.7, the push-off of largest size with its sign, not the largest positive one (0.1)."""
+    face = replace(prediction.passes[2], max_deflection_mm=0.0001,
+                   cuts=[stations(np.linspace(10.5, 9.0, 3), 10.0, (0.0, 1.0), [0.0001, -0.0027, 0.00005])])
+    assert pass_row(face)[6] == "-2.7"
+    assert pass_row(prediction.passes[0])[6] == "30.0"
 
 
 def test_predict_report_warnings_and_caution(prediction):

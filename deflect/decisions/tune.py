@@ -44,7 +44,7 @@ from deflect.decisions.conformance import FeatureCheck, Verdict, finishing_passe
 from deflect.errors import InputError, ModelError
 from deflect.job.fits import Tolerances, tolerance_from_table
 from deflect.machining.results import Prediction
-from deflect.machining.simulate import CYLINDER_COS, kept_workers, simulate
+from deflect.machining.simulate import kept_workers, simulate, straight_points
 from deflect.machining.targets import process_from_job
 from deflect.mechanics.cutting import theoretical_roughness
 
@@ -151,6 +151,8 @@ def worst_deviation_mm(pred: Prediction) -> float:
     passes finished."""
     d = pred.deviation
     finished = np.array([s != "unmachined" for s in d.surface])
+    if d.corner is not None:
+        finished &= ~d.corner          # a corner of the drawing belongs to two surfaces (simulate.surface_checks)
     return float(np.abs(d.deviation_mm[finished]).max()) if finished.any() else 0.0
 
 
@@ -400,8 +402,7 @@ def surface_deviation(pred: Prediction, surface: Surface,
     cylindrical points the finishing pass finished: the material left itself, widened by the lobes the jaws
     leave with [holding] (`conformance.size_extremes`, by the drawing's rule for size)."""
     d = pred.deviation
-    mine = np.flatnonzero([n == surface.finish.name and abs(d.normals[k][0]) > CYLINDER_COS
-                           for k, n in enumerate(d.finished_by)])
+    mine = np.array([k for k in straight_points(d, surface.kind) if d.finished_by[k] == surface.finish.name], int)
     if not len(mine):
         return np.empty(0), np.empty(0), np.empty(0)
     mine = mine[np.argsort(d.points_rz[mine, 1])]

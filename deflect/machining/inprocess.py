@@ -31,12 +31,12 @@ from dataclasses import dataclass
 
 import numpy as np
 import shapely
-from shapely.geometry import LineString, Point, Polygon
+from shapely.geometry import LineString, Polygon
 from shapely.geometry.polygon import orient
 from shapely.ops import nearest_points
 
 from deflect.errors import ModelError
-from deflect.geometry.section import Section
+from deflect.geometry.section import POLYGON_CHORD_MM, Section
 from deflect.job.process import SURFACES, Pass
 from deflect.job.tooling import Tool
 from deflect.machining.toolshape import ToolShape, shadow, tool_shape
@@ -57,6 +57,9 @@ _MAX_QUAD_SEGS = 512
 CHIP_SHARE = 1e-3
 # Lengths below this fraction of the part's size count as zero (float rounding is ~1e-16 of it).
 _REL_TOL = 1e-9
+# Two segments whose directions differ by more than this [rad] meet in a corner (a fillet meets its
+# neighbours tangentially, to float rounding)
+_CORNER_RAD = 1e-6
 # Most entries of the (slabs x edges) and (rays x edges) work arrays handled at once.
 _WORK_ENTRIES = 2_000_000
 
@@ -78,6 +81,7 @@ class Deviation:
     normals: np.ndarray       # (N, 2) unit outward normal of the nominal boundary
     deviation_mm: np.ndarray  # (N,) material beyond the nominal surface along the normal [mm]; > 0 thicker
     segment: np.ndarray       # (N,) index of the section segment each point lies on
+    corner: np.ndarray        # (N,) bool: the point is a corner of the drawn outline (two surfaces meet there)
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -122,26 +126,30 @@ def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> 
     across at constant v (a shoulder as the tool sees it).
     """
     u0, v0, u1, v1 = edges.T
-    slanted = np.abs(v1 - v0) > tol
+    slanted = v1 != v0
     u0, v0, u1, v1 = u0[slanted], v0[slanted], u1[slanted], v1[slanted]
     levels = np.concatenate([v0, v1])
-    levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo + tol) & (levels < v_hi - tol)]]))
-    # levels a rounding apart (a buffered outline's vertices) would make slabs that no edge of the surface
-    # spans; the slab keeps its lower level
-    levels = levels[np.concatenate([[True], np.diff(levels) > tol])]
+    # every edge end is a level, however close to another (levels a rounding apart, a buffered outline's
+    # vertices, make thin slabs that the edges ending there span exactly)
+    levels = np.unique(np.concatenate([[v_lo, v_hi], levels[(levels > v_lo) & (levels < v_hi)]]))
     bottom, top = levels[:-1], levels[1:]
     lo_edge, hi_edge = np.minimum(v0, v1), np.maximum(v0, v1)
     slope = (u1 - u0) / (v1 - v0)
     chosen = np.empty(len(bottom), int)
     rows = max(1, _WORK_ENTRIES // max(1, len(u0)))
     for first in range(0, len(bottom), rows):
-        mid = 0.5 * (bottom[first:first + rows] + top[first:first + rows])[:, None]
-        spans = (lo_edge < mid) & (hi_edge > mid)
+        b, t = bottom[first:first + rows, None], top[first:first + rows, None]
+        # every edge end is a level, so an edge either covers a whole slab or none of its inside: compared
+        # exactly on the levels themselves (a midpoint of two levels one rounding step apart rounds onto one
+        # of them, and would find only edges that do not belong there)
+        spans = (lo_edge <= b) & (hi_edge >= t)
         if not spans.any(axis=1).all():
-            gap = float(mid[~spans.any(axis=1)][0, 0])
+            gap = float(b[~spans.any(axis=1)][0, 0])
             raise ModelError(f"the surface has a gap at {gap:.6g} mm along the pass")
-        u_mid = np.where(spans, u0 + (mid - v0) * slope, -np.inf)
-        chosen[first:first + rows] = np.argmax(u_mid, axis=1)
+        # outermost over the slab: the largest sum of the ends (edges do not cross inside a slab; two that
+        # meet at one end part at the other)
+        u_sum = np.where(spans, 2.0 * u0 + ((b - v0) + (t - v0)) * slope, -np.inf)
+        chosen[first:first + rows] = np.argmax(u_sum, axis=1)
     u_bottom = u0[chosen] + (bottom - v0[chosen]) * slope[chosen]
     u_top = u0[chosen] + (top - v0[chosen]) * slope[chosen]
     points = np.empty((2 * len(bottom), 2))
@@ -336,6 +344,54 @@ def _tolerance(rz: np.ndarray) -> float:
     return _REL_TOL * max(1.0, float(np.abs(rz).max()))
 
 
+class BeyondAxis(ModelError):
+    """A target that leaves the half-section's plane r >= 0 other than by running into the axis at an end."""
+
+
+def short_of_the_axis(path: CutPath, tol: float) -> CutPath:
+    """The path up to where it meets the spin axis, r = 0, at either end.
+
+    The half-section is bounded by the spin axis, which is no surface: a path that runs into the axis at
+    its start or end (a face pass to the centre or past it, a bore pass across a floor to the centre and
+    on along the axis into the bottom, or round the floor's end by its allowance) has covered its surface
+    there; beyond, it would run along the axis or over the other side of the same surface of revolution.
+    Such ends are cut off where the path first meets r = 0. A path that lies beyond the axis all along, or
+    crosses it and comes back, is wrong (an allowance or offset larger than the radius there): BeyondAxis
+    says where. A path on the axis all along is left as it is (it cuts nothing).
+    """
+    r = path.points_rz[:, 0]
+    off = np.flatnonzero(r > tol)
+    worst = int(np.argmin(r))
+    deepest = f"down to r = {r[worst]:.4g} mm, at z = {path.points_rz[worst, 1]:.4g} mm"
+    if off.size == 0:
+        if r[worst] < -tol:
+            raise BeyondAxis(f"lies beyond the axis all along ({deepest})")
+        return path
+    first, last = int(off[0]), int(off[-1])
+    if (r[first:last + 1] < -tol).any():
+        k = first + int(np.flatnonzero(r[first:last + 1] < -tol)[0])
+        raise BeyondAxis(f"crosses the axis at z = {path.points_rz[k, 1]:.4g} mm and comes back ({deepest})")
+    if first == 0 and last == len(r) - 1:
+        return path
+
+    def meeting(on: int, off_axis: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Where the segment from a point off the axis to one on or beyond it meets r = 0."""
+        t = r[off_axis] / (r[off_axis] - r[on])
+        point = path.points_rz[off_axis] + t * (path.points_rz[on] - path.points_rz[off_axis])
+        point[0] = 0.0
+        return point[None, :], path.normals[off_axis][None, :], path.feed_dir[off_axis][None, :]
+
+    rows = ([path.points_rz[first:last + 1]], [path.normals[first:last + 1]], [path.feed_dir[first:last + 1]])
+    if first > 0:
+        for column, value in zip(rows, meeting(first - 1, first)):
+            column.insert(0, value)
+    if last < len(r) - 1:
+        for column, value in zip(rows, meeting(last + 1, last)):
+            column.append(value)
+    points, normals, feed_dir = (np.concatenate(column) for column in rows)
+    return CutPath(points_rz=points, normals=normals, feed_dir=feed_dir)
+
+
 def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start_mm: float, end_mm: float,
                    spacing_mm: float, shape: ToolShape | None = None) -> CutPath:
     """The finished contour offset by offset_mm along its outward normal, seen from the pass's side.
@@ -354,6 +410,9 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
     shape : the tool's nose radius and edges (`toolshape.ToolShape`); the target then keeps the nose radius
         in internal corners and stays out of what the edges cannot reach. None: a point tool with no edges
         (the drawn contour itself, as a program gives it)
+
+    A target that runs into the spin axis at its start or end stops there (`short_of_the_axis`); one that
+    passes the axis elsewhere raises BeyondAxis.
     """
     frame = _frame(surface)
     if not spacing_mm > 0.0:
@@ -361,10 +420,11 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
     if start_mm == end_mm:
         raise ValueError("a pass needs a start and an end that differ")
     nominal_uv = np.asarray(nominal_rz, float) @ frame
+    tol = _tolerance(nominal_uv)
     envelope = _offset_envelope(nominal_uv, float(offset_mm), min(start_mm, end_mm), max(start_mm, end_mm),
-                                _tolerance(nominal_uv), hold_walls=surface == "face", shape=shape,
+                                tol, hold_walls=surface == "face", shape=shape,
                                 feed_sign=1.0 if end_mm > start_mm else -1.0)
-    return _cut_path(envelope, frame, start_mm, end_mm, spacing_mm)
+    return short_of_the_axis(_cut_path(envelope, frame, start_mm, end_mm, spacing_mm), tol)
 
 
 def compensated(target: CutPath, p: Pass) -> CutPath:
@@ -393,6 +453,16 @@ def _in_feed(surface: str) -> np.ndarray:
     return np.array([1.0, 0.0]) @ _frame(surface)
 
 
+def final_target(nominal_rz: np.ndarray, p: Pass, spacing_mm: float, shape: ToolShape | None = None) -> CutPath:
+    """The pass's final target: the finished contour offset by allowance + offset (with the tool's shape,
+    `target_surface`), with its programmed compensation, up to where it meets the spin axis (compensation
+    moves a bore's target towards the axis, and a floor run to the centre slides past it). Raises BeyondAxis
+    for a target beyond the axis."""
+    target = target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm, spacing_mm,
+                            shape)
+    return short_of_the_axis(compensated(target, p), _tolerance(nominal_rz))
+
+
 def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spacing_mm: float,
                   tool: Tool | None = None) -> list[CutPath]:
     """The cuts of one pass on the current part, in order.
@@ -406,18 +476,24 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
     more cuts on the final target. With the pass's tool, every target keeps its nose radius in internal corners
     and stays out of what its edges cannot reach (`target_surface`).
     """
+    tol = _tolerance(nominal_rz)
     shape = tool_shape(tool, p.surface) if tool is not None else None
-    final = compensated(target_surface(nominal_rz, p.surface, p.allowance_mm + p.offset_mm, p.start_mm, p.end_mm,
-                                       spacing_mm, shape), p)
-    cuts = []
-    if p.depth_mm is not None:
-        in_feed = _in_feed(p.surface)
-        along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
-        deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
-        n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
-        for k in range(1, n_cuts):
-            shift = (n_cuts - k) * deepest / n_cuts * in_feed
-            cuts.append(CutPath(points_rz=final.points_rz + shift, normals=final.normals, feed_dir=final.feed_dir))
+    try:
+        final = final_target(nominal_rz, p, spacing_mm, shape)
+        cuts = []
+        if p.depth_mm is not None:
+            in_feed = _in_feed(p.surface)
+            along_in_feed = np.tile(in_feed, (len(final.points_rz), 1))
+            deepest = float(_material_along(current_rz, final.points_rz, along_in_feed)[0].max())
+            n_cuts = max(1, math.ceil(deepest / p.depth_mm - _REL_TOL))
+            for k in range(1, n_cuts):
+                shift = (n_cuts - k) * deepest / n_cuts * in_feed
+                # a bore's roughing steps move towards the axis: a floor run to the centre slides past it
+                cuts.append(short_of_the_axis(CutPath(points_rz=final.points_rz + shift, normals=final.normals,
+                                                      feed_dir=final.feed_dir), tol))
+    except BeyondAxis as exc:   # machining/targets.py refuses such targets first; this is the last guard
+        raise ModelError(f"the target of '{p.name}' {exc.message}; check its allowance, offset and compensation",
+                         key=p.key) from None
     cuts.append(final)
     cuts.extend([final] * p.spring)
     return cuts
@@ -516,21 +592,52 @@ def deviation_along(nominal_section: Section, machined_rz: np.ndarray, spacing_m
     Positive where the machined part is thicker than drawn (stock no pass removed counts), negative where
     it is thinner (the distance from the drawn surface inwards to the machined one), 0 where the machined
     surface is the drawn one.
+
+    The machined surface met along the normal is this point's own only while the drawn surface nearest to
+    where it is met is this point (the normal line then stays in the point's own reach: it neither crosses
+    the drawn outline nor runs along or into another drawn surface). At a corner or a fillet smaller than
+    the deviation the normal's line can run along the wall beyond the corner, inside the material left on
+    it or in the air beside the part, to whatever surface it meets far away; there, and where the line meets
+    nothing, the deviation is the distance to the nearest machined surface (+ inside the machined part,
+    - outside it). On a stretch of constant normal both are the same length.
     """
     samples = nominal_section.sample(spacing_mm)
     machined_rz = np.asarray(machined_rz, float)
     keep = samples.points[:, 0] > _tolerance(np.vstack([machined_rz, samples.points]))
     points, normals, segment = samples.points[keep], samples.normals[keep], samples.segment[keep]
+    corner = _at_corner(nominal_section, samples.segment)[keep]
     beyond, _ = _material_along(machined_rz, points, normals)
     behind, gap = _material_along(machined_rz, points, -normals)
-    deviation = beyond.copy()                   # on the machined surface with the material inside: 0
+    along = beyond.copy()                       # on the machined surface with the material inside: 0
     in_air = (beyond == 0.0) & (behind == 0.0)  # cut below the drawing by the gap to the material
-    deviation[in_air] = -gap[in_air]
-    lost = np.flatnonzero(np.isinf(deviation))        # no material at all along the normal's line
-    if lost.size:
+    along[in_air] = -gap[in_air]
+    met = np.flatnonzero(np.isfinite(along))
+    drawn = shapely.LinearRing(nominal_section.polygon(POLYGON_CHORD_MM))
+    crossing = shapely.points(points[met] + along[met, None] * normals[met])
+    # chords of the drawn arcs stray up to POLYGON_CHORD_MM from the arcs the points lie on
+    reach_tol = 2.0 * POLYGON_CHORD_MM + _tolerance(np.vstack([machined_rz, samples.points]))
+    own = np.zeros(len(points), bool)
+    own[met] = shapely.distance(crossing, drawn) >= np.abs(along[met]) - reach_tol
+    deviation = along
+    elsewhere = np.flatnonzero(~own)
+    if elsewhere.size:
         machined = Polygon(machined_rz)
-        deviation[lost] = [-machined.distance(Point(p)) for p in points[lost]]
-    return Deviation(points_rz=points, normals=normals, deviation_mm=deviation, segment=segment)
+        where = shapely.points(points[elsewhere])
+        nearest = shapely.distance(where, machined.exterior)
+        deviation[elsewhere] = np.where(shapely.covers(machined, where), nearest, -nearest)
+    return Deviation(points_rz=points, normals=normals, deviation_mm=deviation, segment=segment, corner=corner)
+
+
+def _at_corner(section: Section, segment: np.ndarray) -> np.ndarray:
+    """(N,) True for the samples that sit on a corner of the outline: the first sample of a segment (its
+    start, `Section.sample`) where the segment before ends in another direction."""
+    corner = np.zeros(len(segment), bool)
+    for k in np.flatnonzero(np.r_[True, segment[1:] != segment[:-1]]):
+        i = int(segment[k])
+        before = section.segments[i - 1].tangents_at(np.array([1.0]))[0]
+        after = section.segments[i].tangents_at(np.array([0.0]))[0]
+        corner[k] = abs(math.atan2(before[0] * after[1] - before[1] * after[0], before @ after)) > _CORNER_RAD
+    return corner
 
 
 # ---------------------------------------------------------------------------------------------------

@@ -31,6 +31,9 @@ class StationTable:
     rubbing: np.ndarray              # bool: the wall gives way so far that the tool barely cuts
     cut: int                         # index of the cut within its pass, from 0 (roughing steps, finishing, spring
                                      # cuts); shown to users from 1 ("cut 1" is the first)
+    # the share of deflection_mm that the feed force makes, C_na s F_f (the rest is the passive force's): on a
+    # face it is < 0 where the feed force draws a free rim in, which lifts the face into the tool
+    feed_push_mm: np.ndarray | None = None
 
 
 @dataclass(frozen=True)
@@ -66,6 +69,7 @@ class SurfaceDeviation:
     lobe_peak_mm: np.ndarray | None = None
     two_point_low_mm: np.ndarray | None = None
     two_point_high_mm: np.ndarray | None = None
+    corner: np.ndarray | None = None     # (P,) bool: a corner of the drawn outline, where two surfaces meet
 
 
 @dataclass(frozen=True)
@@ -80,6 +84,7 @@ class SurfaceCheck:
     max_deviation_mm: float
     mass_left_g: float
     roundness_mm: dict[str, float] | None = None   # with [holding]: out of round after release, at the same places
+    max_at_rz: tuple[float, float] | None = None   # where the surface leaves max_deviation_mm
 
 
 @dataclass(frozen=True)
@@ -115,3 +120,4 @@ class Prediction:
     mass_gain_by_surface_g: dict[str, float]
     warnings: list[str] = field(default_factory=list)
     lobes: int = 0                            # with [holding]: lobes the jaws leave (0: none modelled)
+    max_deviation_at_rz: tuple[float, float] | None = None   # where max_deviation_mm is left

@@ -49,7 +49,15 @@ from deflect.errors import InputError, ModelError
 from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_properties
 from deflect.job.holding import holding_from_table
 from deflect.job.process import Pass, Process
-from deflect.machining.inprocess import CutPath, cuts_for_pass, depth_of_material, deviation_along, polygon_mass, remove
+from deflect.machining.inprocess import (
+    CutPath,
+    Deviation,
+    cuts_for_pass,
+    depth_of_material,
+    deviation_along,
+    polygon_mass,
+    remove,
+)
 from deflect.machining.leftover import corners_left, covered, finishing_targets, reach_left
 from deflect.machining.results import PassResult, Prediction, SpreadValue, StationTable, SurfaceCheck, SurfaceDeviation
 from deflect.machining.toolshape import tool_shape
@@ -82,6 +90,7 @@ MIN_CHIP_MM = 0.005             # stock thinner than this is not judged for rubb
 RUBBING_SHARE = 0.25            # rubbing: the wall gives way so far that the tool cuts less than this share
 ROOT_STEPS = 60                 # most steps of the bracketed root search (it takes about 10)
 ROOT_TOLERANCE = 1e-13          # relative residual the root search stops at
+FACING_DEG = 30.0               # a finished point faces the cut surface within this angle of its station's normal
 CYLINDER_COS = 0.999            # a finished od or bore point counts as cylindrical within 2.6 degrees of radial
 EQUILIBRIUM_TOLERANCE = 1e-9    # relative residual a + delta - a_met a balanced station must meet
 
@@ -562,7 +571,8 @@ def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarra
         cutting_n=np.where(met > 0.0, forces.cutting_n, 0.0), feed_n=np.where(met > 0.0, forces.feed_n, 0.0),
         passive_n=np.where(met > 0.0, forces.passive_n, 0.0), compliance_mm_per_n=compliance[:, 0, 0].copy(),
         tool_compliance_mm_per_n=tool_c, deflection_mm=left,
-        power_kw=np.where(met > 0.0, forces.power_kw, 0.0), rubbing=rubbing, cut=cut_index)
+        power_kw=np.where(met > 0.0, forces.power_kw, 0.0), rubbing=rubbing, cut=cut_index,
+        feed_push_mm=np.where(met > 0.0, compliance[:, 0, 2] * feed_sign * forces.feed_n, 0.0))
     return table, after
 
 
@@ -638,6 +648,36 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     return released, form, per_newton.lobes
 
 
+def faces_cut_below(process: Process, per_pass: list[list[StationTable]], raw: Deviation,
+                    finished_by_pass: list[str]) -> list[str]:
+    """A note for each face pass cut to the drawing (no allowance, offset or compensation) that leaves the face
+    it finished below the drawing by the mechanism this names: the feed force along the face draws a free rim
+    in, and the rim drawn in rises at the tool (it bends round the circumference without stretching;
+    tests/validation/test_against_3d_solid.py) by more than the passive force presses it down, so the face
+    springs back below its target when the tool has passed. raw: the deviation the cuts left (before any
+    spring-back of the jaws); finished_by_pass: the pass that finished each of its points."""
+    notes = []
+    for p, tables in zip(process.passes, per_pass):
+        final = tables[-1]
+        to_drawing = p.allowance_mm == 0.0 and p.offset_mm == 0.0 and not p.compensation
+        mine = np.flatnonzero(np.array([name == p.name for name in finished_by_pass], bool) & ~raw.corner)
+        if p.surface != "face" or not to_drawing or final.feed_push_mm is None or not mine.size:
+            continue
+        point = mine[np.argmin(raw.deviation_mm[mine])]
+        if raw.deviation_mm[point] >= 0.0:
+            continue
+        k = int(np.argmin(np.linalg.norm(np.column_stack([final.r_mm, final.z_mm]) - raw.points_rz[point], axis=1)))
+        lift, press = final.feed_push_mm[k], final.deflection_mm[k] - final.feed_push_mm[k]
+        if lift >= 0.0 or final.deflection_mm[k] >= 0.0:
+            continue   # below the drawing, but not by the feed force's lift
+        notes.append(f"'{p.name}' leaves its face up to {-1e3 * raw.deviation_mm[point]:.1f} um below the drawing "
+                     f"(at r {raw.points_rz[point, 0]:.2f} mm): its feed force along the face ({final.feed_n[k]:.0f} "
+                     f"N) moves the face {-1e3 * lift:.1f} um towards the tool (a free rim drawn in rises at the "
+                     f"tool), more than the passive force ({final.passive_n[k]:.0f} N) pushes it away "
+                     f"({1e3 * press:.1f} um); facing the other way round turns the feed force, and the lift, round")
+    return notes
+
+
 def pass_time_s(tables: list[StationTable], p: Pass, max_rpm: float) -> float:
     return float(sum(cutting_time_s(t.r_mm, t.z_mm, p.feed_mm, p.speed_m_min, max_rpm) for t in tables))
 
@@ -646,6 +686,7 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
     """For each deviation point: the kind of surface and the name of the last pass that cut there."""
     surfaces = ["unmachined"] * len(deviation.points_rz)
     names = [""] * len(deviation.points_rz)
+    cos_facing = math.cos(math.radians(FACING_DEG))
     for p, tables in zip(process.passes, per_pass):
         final = tables[-1]
         path = np.column_stack([final.r_mm, final.z_mm])
@@ -654,8 +695,10 @@ def finished_by(deviation, process: Process, per_pass: list[list[StationTable]])
         gap, nearest = cKDTree(path).query(deviation.points_rz)
         # a point this pass finished lies at its final target, across from a station between the path's
         # ends (at or beyond an end a surface an earlier pass finished may carry on, and the point where the
-        # two meet is their corner) and faces the way the cut surface faces
-        facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > 0.3
+        # two meet is their corner), and faces the way the cut surface faces there, within FACING_DEG (at a
+        # corner of the path, where the station's normal is the mean of the two sides', a point on the
+        # surface beyond the corner faces elsewhere)
+        facing = np.einsum("ij,ij->i", deviation.normals, final.normal_rz[nearest]) > cos_facing
         offset = deviation.points_rz - path[nearest]
         tangent = np.column_stack([-final.normal_rz[nearest, 1], final.normal_rz[nearest, 0]])
         across = np.abs(np.einsum("ij,ij->i", offset, tangent)) <= STATION_SPACING_MM
@@ -674,10 +717,13 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 
 
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
-    """Push-off at the held end (low z), the middle and the free end of each finished od and id."""
+    """Push-off at the held end (low z), the middle and the free end of each finished od and id, on the
+    surface's own cylindrical stretch (`straight_points`); its most material left and where it is, over the
+    points it finished, corners of the drawing left out (a corner belongs to two surfaces)."""
     checks = []
     released = 0.0 if deviation.released_mm is None else deviation.released_mm
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
+    corner = np.zeros(len(deviation.points_rz), bool) if deviation.corner is None else deviation.corner
     for surface in ("od", "id"):
         order = straight_points(deviation, surface)
         if len(order) < 3:
@@ -688,21 +734,26 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
         predicted = {name: 2.0 * (deviation.points_rz[k][0] + deviation.deviation_mm[k] * deviation.normals[k][0])
                      for name, k in picks.items()}
-        mine = [k for k, s in enumerate(deviation.surface) if s == surface]
+        mine = np.array([s == surface for s in deviation.surface], bool)
+        own = np.flatnonzero(mine & ~corner)
+        most = int(own[np.argmax(deviation.deviation_mm[own])])
         checks.append(SurfaceCheck(surface=surface, positions=positions, deviation_mm=left,
                                    nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
                                    predicted_diameter_mm={k: float(v) for k, v in predicted.items()},
-                                   max_deviation_mm=float(np.max(deviation.deviation_mm[mine])),
+                                   max_deviation_mm=float(deviation.deviation_mm[most]),
                                    mass_left_g=float(layer[mine].sum()),
                                    roundness_mm=None if deviation.roundness_mm is None else
-                                   {name: float(deviation.roundness_mm[k]) for name, k in picks.items()}))
+                                   {name: float(deviation.roundness_mm[k]) for name, k in picks.items()},
+                                   max_at_rz=tuple(map(float, deviation.points_rz[most]))))
     return checks
 
 
 def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
-    """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets), by z."""
+    """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets, not on
+    the corners where it meets another surface), by z."""
+    corner = np.zeros(len(deviation.points_rz), bool) if deviation.corner is None else deviation.corner
     chosen = np.array([k for k, s in enumerate(deviation.surface)
-                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS], int)
+                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS and not corner[k]], int)
     return chosen[np.argsort(deviation.points_rz[chosen, 1])] if len(chosen) else chosen
 
 
@@ -758,7 +809,8 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     released, form, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
-                                 surface=surfaces, finished_by=names, released_mm=released, **form)
+                                 surface=surfaces, finished_by=names, released_mm=released, corner=raw.corner,
+                                 **form)
     spring_back = 0.0 if released is None else released
     range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
                  for rz in ranges] or [float(np.max(deviation.deviation_mm))]
@@ -793,11 +845,13 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     warnings = list(process.warnings)
     if peak_power > process.machine.power_kw:
         warnings.append(f"peak cutting power {peak_power:.2f} kW exceeds the machine's {process.machine.power_kw:g} kW")
+    warnings += faces_cut_below(process, per_pass, raw, names)
     rubbing = sum(int(t.rubbing.sum()) for tables in per_pass for t in tables)
     if rubbing:
         warnings.append(f"{rubbing} station(s) rub rather than cut: the wall gives way so far that the tool "
                         "barely takes a chip (see the 'rubbing' column)")
-    max_dev = float(np.max(deviation.deviation_mm))
+    most = int(np.argmax(deviation.deviation_mm))
+    max_dev = float(deviation.deviation_mm[most])
     gains = [m - nominal.mass_g for m in range_masses]
     return Prediction(
         title=job.title, material=material.name, force_spread=spread,
@@ -810,4 +864,5 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
         machine_power_kw=process.machine.power_kw, peak_power_kw=peak_power,
         passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(deviation),
         machined_rz=machined, nominal_rz=nominal_rz, stock_rz=process.stock_rz,
-        mass_gain_by_surface_g=by_surface, warnings=warnings, lobes=lobes)
+        mass_gain_by_surface_g=by_surface, warnings=warnings, lobes=lobes,
+        max_deviation_at_rz=tuple(map(float, deviation.points_rz[most])))

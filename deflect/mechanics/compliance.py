@@ -81,8 +81,10 @@ class WallModel:
     def __init__(self, section: Section, held: list[HeldBox], E_mpa: float, nu: float,
                  patch: Patch = Patch(), tolerance: float = DEFAULT_TOLERANCE, strict_patch: bool = True,
                  element_mm: float | None = None):
-        """strict_patch: refuse a patch longer than the face it sits on (the command line's rule); the
-        machining simulation passes False, since a tool near the part's end bears on what face there is.
+        """strict_patch: refuse a patch longer than the face it sits on or wider than half the circumference
+        (the command line's rules: the user chose the patch); the machining simulation passes False, since a
+        tool near the part's end bears on what face there is, and near the axis on what circumference there
+        is (`half_angle_rad`).
         element_mm: meridian element length; by default `element_size_mm(section, patch)`."""
         check_patch(patch)
         self.strict_patch = strict_patch
@@ -159,13 +161,14 @@ class WallModel:
 
     def loads_at(self, arclengths: np.ndarray, points: np.ndarray, normals: np.ndarray,
                  skip_unfit: bool = False) -> list[ShellLoad | None]:
-        """`load_at` for many points at once. A point whose patch does not fit (too wide for the circumference
-        there, or, with strict_patch, longer than its face) raises InputError, the first such point's, or with
-        skip_unfit gets None."""
+        """`load_at` for many points at once. With strict_patch, a point whose patch does not fit (wider than
+        half the circumference there, or longer than its face) raises InputError, the first such point's, or
+        with skip_unfit gets None."""
         arclengths = np.asarray(arclengths, float)
         radius = points[:, 0]
         with np.errstate(divide="ignore"):
             too_wide = (radius <= 0.0) | (self.patch.width_mm / (2.0 * radius) > math.pi / 2.0)
+        too_wide &= self.strict_patch  # the simulation's tool bears on what circumference there is
         low, high, problems = self.patch_spans(arclengths, normals)
         for k in range(len(arclengths)):
             if too_wide[k] or problems[k]:
@@ -189,8 +192,19 @@ class WallModel:
         for row, k in enumerate(fit):
             loads[k] = ShellLoad(element=element.reshape(shape)[row], xi=xi.reshape(shape)[row],
                                  weight=weights[row] / weights[row].sum(), arm_rz=arm.reshape(*shape, 2)[row],
-                                 half_angle_rad=self.patch.width_mm / (2.0 * radius[k]))
+                                 half_angle_rad=self.half_angle_rad(float(radius[k])))
         return loads
+
+    def half_angle_rad(self, r_mm: float) -> float:
+        """The patch's half-width around the circumference at radius r_mm, as an angle: W / (2 r), but at most
+        a quarter turn (the command line refuses a wider patch, see `load_at`). Near the axis, where the
+        circumference 2 pi r is shorter than 2 W (r < W / pi), a tool's contact W wide covers the side of the
+        axis it bears on and no more: the patch shrinks with the circumference, to half of it (a flat contact
+        of width W at r subtends 2 atan(W / 2r), which tends to the same half turn as r -> 0). Equal to
+        W / (2 r) wherever the whole patch fits."""
+        if math.pi * r_mm <= self.patch.width_mm:
+            return math.pi / 2.0
+        return self.patch.width_mm / (2.0 * r_mm)
 
     def at_boundary(self, arclengths: list[float], normals: list | None = None) -> list[PointCompliance]:
         """Compliance at boundary points given by their arclength, loaded along the boundary's own inward

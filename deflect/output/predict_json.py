@@ -43,7 +43,8 @@ def deviation_records(deviation) -> list[dict]:
         r, z, left = float(point[0]), float(point[1]), float(deviation.deviation_mm[k])
         record = {"r": r, "z": z, "nr": float(normal[0]), "nz": float(normal[1]), "deviation_mm": left,
                   "r_mm": r, "z_mm": z, "material_left_mm": left, "surface": deviation.surface[k],
-                  "finished_by": deviation.finished_by[k]}
+                  "finished_by": deviation.finished_by[k],
+                  "corner": bool(deviation.corner is not None and deviation.corner[k])}
         if deviation.roundness_mm is not None:
             record["spring_back_mm"] = float(deviation.released_mm[k])
             record["roundness_mm"] = float(deviation.roundness_mm[k])
@@ -70,11 +71,16 @@ def feature_record(c) -> dict:
             "size_rule": c.size_rule or None}
 
 
+def point_record(rz: tuple[float, float] | None) -> dict | None:
+    """A point of the section, {r_mm, z_mm}; None for none."""
+    return None if rz is None else {"r_mm": rz[0], "z_mm": rz[1]}
+
+
 def surface_record(c) -> dict:
     return {"surface": c.surface, "position_rz_mm": c.positions, "material_left_mm": c.deviation_mm,
             "nominal_diameter_mm": c.nominal_diameter_mm, "predicted_diameter_mm": c.predicted_diameter_mm,
-            "most_material_left_mm": c.max_deviation_mm, "mass_left_g": c.mass_left_g,
-            "roundness_mm": c.roundness_mm}
+            "most_material_left_mm": c.max_deviation_mm, "most_material_left_at": point_record(c.max_at_rz),
+            "mass_left_g": c.mass_left_g, "roundness_mm": c.roundness_mm}
 
 
 def prediction_payload(pred: Prediction, features=(), warnings=()) -> dict:
@@ -83,7 +89,8 @@ def prediction_payload(pred: Prediction, features=(), warnings=()) -> dict:
         "nominal": {"mass_g": pred.nominal_mass_g, "inertia_axial_kg_mm2": pred.nominal_inertia_kg_mm2},
         "predicted": {"mass_g": pred.predicted_mass_g.value, "mass_gain_g": pred.mass_gain_g.value,
                       "inertia_axial_kg_mm2": pred.predicted_inertia_kg_mm2,
-                      "most_material_left_mm": pred.max_deviation_mm.value},
+                      "most_material_left_mm": pred.max_deviation_mm.value,
+                      "most_material_left_at": point_record(pred.max_deviation_at_rz)},
         "cycle_time_s": pred.cycle_time_s,
         "passes": [{"name": p.name, "surface": p.surface, "tool": p.tool, "cycle_time_s": p.cycle_time_s,
                     "max_deflection_mm": p.max_deflection_mm, "max_push_off_mm": p.max_deflection_mm,

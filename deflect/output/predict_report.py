@@ -33,6 +33,11 @@ def duration_text(seconds: float) -> str:
     return f"{seconds:.1f} s ({minutes} min {rest:02d} s)"
 
 
+def where_text(rz: tuple[float, float] | None) -> str:
+    """', at r .., z .. mm' for a point of the section, '' for none."""
+    return "" if rz is None else f", at r {rz[0]:.2f}, z {rz[1]:.2f} mm"
+
+
 def headline(pred: Prediction) -> str:
     """Masses, most material left, cycle time and power; each uncertain figure with its range."""
     gain = pred.mass_gain_g
@@ -44,7 +49,7 @@ def headline(pred: Prediction) -> str:
         ("predicted mass", f"{pred.predicted_mass_g.value:.3f} g {spread_text(pred.predicted_mass_g, 'g', 3)}"),
         ("mass gain", f"{gain.value:+.3f} g, {gain_pct:+.2f} % {spread_text(gain, 'g', 3, '+')}"),
         ("most material left", f"{pred.max_deviation_mm.value:.3f} mm a side "
-                               f"{spread_text(pred.max_deviation_mm, 'mm', 3)}"),
+                               f"{spread_text(pred.max_deviation_mm, 'mm', 3)}{where_text(pred.max_deviation_at_rz)}"),
         ("axial inertia", f"{pred.nominal_inertia_kg_mm2:.4g} kg mm2 nominal, "
                           f"{pred.predicted_inertia_kg_mm2:.4g} kg mm2 predicted"),
         ("cycle time (cutting)", duration_text(pred.cycle_time_s)),
@@ -58,15 +63,20 @@ def headline(pred: Prediction) -> str:
 def pass_row(p: PassResult) -> list[str]:
     peak_passive = max((float(c.passive_n.max(initial=0.0)) for c in p.cuts), default=0.0)
     rubbing = sum(int(c.rubbing.sum()) for c in p.cuts)
+    # the push-off of largest size with its sign: a face cut below its target shows as such, not as the
+    # largest positive push-off elsewhere on it
+    largest = max((float(v) for c in p.cuts for v in c.deflection_mm), key=abs, default=0.0)
     return [p.name, SURFACE_NAMES.get(p.surface, p.surface), p.tool, str(len(p.cuts)), f"{p.feed_mm:.3f}",
-            f"{p.speed_m_min:.0f}", f"{1e3 * p.max_deflection_mm:.1f}", f"{peak_passive:.1f}",
+            f"{p.speed_m_min:.0f}", f"{1e3 * largest:.1f}", f"{peak_passive:.1f}",
             f"{p.peak_power_kw:.2f}", f"{p.cycle_time_s:.1f}", f"{p.mass_left_g:.3f}", str(rubbing)]
 
 
 def pass_table(passes: list[PassResult]) -> str:
-    header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "max push-off um",
+    header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "largest push-off um",
               "peak passive force N", "peak power kW", "time s", "mass left g", "rubbing"]
-    note = "(rubbing: stations where the wall gives way so far that the tool barely cuts)"
+    note = ("(largest push-off: of largest size along the pass, negative where the surface came towards the tool "
+            "and was cut below its target; rubbing: stations where the wall gives way so far that the tool barely "
+            "cuts)")
     return "Passes, in order\n" + grid(header, [pass_row(p) for p in passes]) + "\n" + note
 
 
@@ -83,7 +93,8 @@ def surface_table(check: SurfaceCheck) -> str:
         if check.roundness_mm is not None:
             rows[-1].append(f"{1e3 * check.roundness_mm[where]:.1f}")
     title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: most material left "
-             f"{1e3 * check.max_deviation_mm:.1f} um a side, {check.mass_left_g:.3f} g left on it")
+             f"{1e3 * check.max_deviation_mm:.1f} um a side{where_text(check.max_at_rz)}, "
+             f"{check.mass_left_g:.3f} g left on it")
     return title + "\n" + grid(header, rows)
 
 
