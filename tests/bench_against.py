@@ -98,20 +98,28 @@ def compare(workloads: dict[str, list[str]], sources: dict[str, Path], runs: int
     part of its work timed in-process) instead of the whole child's.
     Returns {workload: {tree label: {"cpu_s": median, "wall_s": median, "stdout": last stdout}}}.
     """
-    results = {name: {label: {"cpu": [], "wall": [], "stdout": ""} for label in sources} for name in workloads}
+    results = {name: {label: {"cpu": [], "wall": [], "stdout": "", "failed": ""} for label in sources}
+               for name in workloads}
     for _ in range(runs):
         for name, args in workloads.items():
             for label, tree in sources.items():
-                cpu, wall, out = timed(args, tree)
+                entry = results[name][label]
+                if entry["failed"]:
+                    continue
+                try:
+                    cpu, wall, out = timed(args, tree)
+                except RuntimeError as exc:  # a job the earlier code cannot run (it says why)
+                    entry["failed"] = str(exc).strip().splitlines()[-1]
+                    continue
                 if reported:
                     inner = json.loads(out.strip().splitlines()[-1])
                     cpu, wall = inner["cpu_s"], inner["wall_s"]
-                entry = results[name][label]
                 entry["cpu"].append(cpu)
                 entry["wall"].append(wall)
                 entry["stdout"] = out
-    return {name: {label: {"cpu_s": statistics.median(e["cpu"]), "wall_s": statistics.median(e["wall"]),
-                           "stdout": e["stdout"]} for label, e in per_tree.items()}
+    return {name: {label: {"cpu_s": statistics.median(e["cpu"]) if e["cpu"] else None,
+                           "wall_s": statistics.median(e["wall"]) if e["wall"] else None,
+                           "stdout": e["stdout"], "failed": e["failed"]} for label, e in per_tree.items()}
             for name, per_tree in results.items()}
 
 
@@ -124,11 +132,15 @@ def print_table(title: str, medians: dict, runs: int) -> None:
         head += f"{'CPU ratio':>11}"
     print(head)
     for name, per_tree in medians.items():
-        line = f"{name:<28}" + "".join(f"{m['cpu_s']:>10.2f} s ({m['wall_s']:6.2f} s)" for m in per_tree.values())
-        if len(labels) == 2:
-            this, other = (per_tree[label]["cpu_s"] for label in labels)
+        line = f"{name:<28}" + "".join(f"{m['cpu_s']:>10.2f} s ({m['wall_s']:6.2f} s)" if m["cpu_s"] is not None
+                                       else f"{'fails':>22}" for m in per_tree.values())
+        this, other = (per_tree[label]["cpu_s"] for label in labels) if len(labels) == 2 else (None, None)
+        if this is not None and other is not None:
             line += f"{other / this:>10.2f}x"
         print(line)
+        for label, m in per_tree.items():
+            if m["failed"]:
+                print(f"{'':<28}{label}: {m['failed']}")
 
 
 # ---------------------------------------------------------------------------------------------------

@@ -58,7 +58,7 @@ def main() -> None:
         medians = bench_against.compare(workloads, sources, args.runs)
         bench_against.print_table("deflect predict JOB --json", medians, args.runs)
         for name, per_tree in medians.items():
-            figures = {label: json.loads(m["stdout"])["predicted"] for label, m in per_tree.items()}
+            figures = {label: json.loads(m["stdout"])["predicted"] for label, m in per_tree.items() if m["stdout"]}
             print(f"  {name}: mass gain " + ", ".join(f"{label} {f['mass_gain_g']:.5f} g" for label, f in figures.items())
                   + "; largest material left " + ", ".join(f"{label} {1000 * most_left_mm(f):.3f} um"
                                                          for label, f in figures.items()))
