@@ -163,10 +163,41 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
             click.echo(f"compliance map drawn in {plot_file}")
 
 
-def run_prediction(job_file: str, show_progress: bool):
+CALIBRATION_HELP = ("A first article's calibration (as `deflect explain --save` writes it) to use instead of the "
+                    "job's [job] calibration, if any.")
+
+
+def read_calibrated_job(job_file: str, calibration_file: str | None):
+    """The job, with the calibration file given on the command line (it wins over a [job] calibration key)."""
+    from deflect.job.calibration import read_calibration, with_calibration
+    from deflect.job.reader import read_job
+
+    if calibration_file is None:
+        return read_job(job_file)
+    job = read_job(job_file, calibrated=False)
+    try:
+        return with_calibration(job, read_calibration(calibration_file), key="--calibration")
+    except InputError as exc:
+        exc.file = exc.file or job_file
+        raise
+
+
+def state_calibration(job, payload: dict | None = None) -> None:
+    """A calibrated report states itself: a line before the report, or the `calibration` key of the JSON."""
+    if job.calibration is None:
+        return
+    from deflect.output.explain_report import calibration_note, calibration_record
+
+    if payload is None:
+        click.echo(calibration_note(job.calibration))
+    else:
+        payload["calibration"] = calibration_record(job.calibration)
+
+
+def run_prediction(job_file: str, show_progress: bool, calibration_file: str | None = None):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
     verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
-    findings and the job."""
+    findings and the job (with the calibration of `--calibration` or [job] calibration, if any)."""
     from dataclasses import replace
 
     from deflect.decisions.conformance import verdict
@@ -174,12 +205,11 @@ def run_prediction(job_file: str, show_progress: bool):
     from deflect.job.dynamics import dynamics_from_job
     from deflect.job.fits import tolerance_from_table
     from deflect.job.materials import require_cutting_constants
-    from deflect.job.reader import read_job
     from deflect.machining.chatter import prediction_warnings
     from deflect.machining.simulate import simulate
     from deflect.machining.targets import process_from_job
 
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     try:
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
@@ -222,7 +252,8 @@ def write_outputs(pred, csv_dir, plot_dir) -> list:
 @click.option("--dxf", "dxf_file", type=click.Path(dir_okay=False), default=None,
               help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
-def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet):
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, calibration_file):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -232,14 +263,18 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet)
     from deflect.output.predict_report import predict_report
     from deflect.output.rules_report import rules_payload, rules_summary
 
-    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json))
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
+                                              calibration_file=calibration_file)
     written = write_outputs(pred, csv_dir, plot_dir or old_plot_dir)
     if dxf_file:
         from deflect.output.dxf_files import prediction_dxf
         written.append(prediction_dxf(pred, job.section, dxf_file))
     if as_json:
-        emit_json({**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)})
+        payload = {**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)}
+        state_calibration(job, payload)
+        emit_json(payload)
     else:
+        state_calibration(job)
         click.echo(predict_report(pred, judged.checks, judged.warnings, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
@@ -283,7 +318,8 @@ def demo(out_dir):
               help="Draw the released shape of one finished section around the circumference into this PNG file.")
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
-def clamp(job_file, as_json, plot_file, plot_at):
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
     From [holding]: the least grip that holds the heaviest cut (friction, safety factor, the jaws' loss of grip
@@ -291,11 +327,11 @@ def clamp(job_file, as_json, plot_file, plot_at):
     go, the roundness and lobes after release, and what widens the window, each computed. Estimates: the chuck
     maker's limits and the machine's interlocks come first.
     """
-    from deflect.job.reader import MM_PER_INCH, read_job
+    from deflect.job.reader import MM_PER_INCH
     from deflect.machining.grip import clamp_study, nearest_point, released_profile
     from deflect.output.clamp_report import clamp_payload, clamp_report
 
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
     try:
@@ -327,8 +363,11 @@ def clamp(job_file, as_json, plot_file, plot_at):
         except OSError as exc:
             raise InputError("--plot", f"cannot write {plot_file}: {exc.strerror or exc}") from None
     if as_json:
-        emit_json(clamp_payload(study))
+        payload = clamp_payload(study)
+        state_calibration(job, payload)
+        emit_json(payload)
     else:
+        state_calibration(job)
         click.echo(clamp_report(study))
         if profile is not None:
             click.echo(f"released shape drawn in {plot_file}")
@@ -343,7 +382,8 @@ def clamp(job_file, as_json, plot_file, plot_at):
               help="Also find, for each wall, the thinnest drawn wall that holds with the recommended finishing "
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
-def tune(job_file, as_json, contour_dir, design, quiet):
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
     Tries feeds, spring cuts, the finishing allowance, the job's other tools, a wear offset, a compensated
@@ -354,12 +394,11 @@ def tune(job_file, as_json, contour_dir, design, quiet):
     from deflect.decisions.rules import check_rules
     from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
-    from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
     from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     try:
         require_cutting_constants(job.material)
@@ -377,8 +416,11 @@ def tune(job_file, as_json, contour_dir, design, quiet):
         exc.file = exc.file or job_file
         raise
     if as_json:
-        emit_json({**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)})
+        payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
+        state_calibration(job, payload)
+        emit_json(payload)
     else:
+        state_calibration(job)
         click.echo(tune_report(result, surface_of, job.units, job.title, walls, rules_summary(rules)))
         for path in written:
             click.echo(f"wrote {path}")
@@ -453,6 +495,8 @@ def revise_walls_of(job_file: str, job, result, quiet: bool):
     from deflect.job.fits import tolerance_from_table
 
     data = tomllib.loads(Path(job_file).read_text(encoding="utf-8"))
+    if job.calibration is not None:      # the redrawn jobs carry the same calibration (--calibration or the key)
+        data.setdefault("job", {})["calibration"] = str(Path(job.calibration.path).resolve())
     if job.drawing is not None:   # the walls are redrawn on the outline read from the drawing
         from deflect.job.drawing import outline_in
         data["part"] = {"outline": outline_in(job.drawing, job.units)}
@@ -482,8 +526,8 @@ def write_contours(job, result, folder: str) -> list:
     try:
         out.mkdir(parents=True, exist_ok=True)
         for p in changed.passes:
-            if not p.compensation:
-                continue
+            if not any(c != p.size_error_mm for _, c in p.compensation):   # nothing programmed (a calibrated
+                continue                                                   # size error alone is not a program)
             rows = compensated_contour(job, changed, p)
             stem = "".join(ch if ch.isalnum() else "-" for ch in p.name).strip("-")
             for suffix, text in ((".csv", contour_csv(rows)), (".nc", iso6983_block(rows, p))):
@@ -572,6 +616,111 @@ def import_drawing(drawing_file, units, layer, axis, material, out_file):
     except OSError as exc:
         raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
     click.echo(f"wrote {out_file}", err=True)
+
+
+@cli.command()
+@click.argument("job_file", type=click.Path(dir_okay=False))
+@click.argument("measured_file", type=click.Path(dir_okay=False))
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--save", "save_file", type=click.Path(dir_okay=False), default=None,
+              help="Write the calibration (factors and size errors with their intervals, where they came from) "
+                   "to this TOML file, for `predict`, `tune` and `clamp --calibration FILE` or [job] calibration.")
+@click.option("--figures", "figure_dir", type=click.Path(file_okay=False), default=None,
+              help="Draw the profiles and the mass split as a PNG file into this folder.")
+@click.option("--per-pass", is_flag=True, help="One force factor per finishing pass instead of per finishing tool.")
+@click.option("--search", is_flag=True,
+              help="For the next part, run the whole remedy search of `deflect tune` with the calibrated constants "
+                   "(its slowest step: tens of seconds) instead of the wear offsets alone.")
+@click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, search, quiet):
+    """A measured first article (MEASURED_FILE) of JOB_FILE: what caused its extra material, the force constants
+    calibrated on it, and what to change for the next part.
+
+    Fits a force factor per finishing tool (on its three Kienzle constants together), a size error per finished
+    surface and, with [holding] and roundness measured, a grip factor, by weighted least squares with 95 %
+    intervals; splits the measured mass gain by cause; gives the wear offsets that centre the next part (with
+    --search, the whole remedy search of `deflect tune`) with the calibrated constants.
+    """
+    from datetime import date
+
+    from deflect.decisions.first_article import explain as explain_first_article
+    from deflect.decisions.first_article import next_part
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.measured import read_measured
+    from deflect.job.reader import read_job
+    from deflect.machining.simulate import kept_workers
+    from deflect.machining.targets import process_from_job
+    from deflect.output.explain_report import explain_payload, explain_report
+
+    job = read_job(job_file, calibrated=False)
+    warn(job.warnings, job_file)
+    measured = read_measured(measured_file, job)
+    try:
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        warn(process.warnings, job_file)
+        memo: dict = {}
+        with kept_workers():
+            result = explain_first_article(job, process, measured, "pass" if per_pass else "tool", memo,
+                                           date=date.today().isoformat())
+            with click.progressbar(length=SEARCH_STEPS_SHOWN, label="next part: searching remedies", file=sys.stderr,
+                                   show_eta=False, hidden=quiet or as_json or not search) as bar:
+                remedies = next_part(job, result.calibration, memo, search, short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+                bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    written = []
+    if figure_dir:
+        written.append(draw_first_article(result, figure_dir))
+    if save_file:
+        written.append(save_calibration(result.calibration, save_file))
+    surface_of = {p.name: p.surface for p in process.passes}
+    if as_json:
+        emit_json(explain_payload(result, remedies, surface_of, job.units, search,
+                                  str(save_file) if save_file else None))
+    else:
+        click.echo(explain_report(result, remedies, surface_of, job.units, search))
+        for path in written:
+            click.echo(f"wrote {path}")
+
+
+def draw_first_article(result, folder: str):
+    from pathlib import Path
+
+    from deflect.output.figures import first_article_plot
+
+    out = Path(folder)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+        return first_article_plot(result, out / "first-article.png")
+    except OSError as exc:
+        raise InputError("--figures", f"cannot write into {folder}: {exc.strerror or exc}") from None
+
+
+def save_calibration(calibration, path_text: str):
+    """The calibration as TOML, written whole or not at all (a temporary file moved into place); a file that is
+    not a calibration this command wrote is never overwritten."""
+    import os
+    import tempfile
+    from pathlib import Path
+
+    from deflect.job.calibration import CALIBRATION_HEADER, calibration_toml
+
+    path = Path(path_text)
+    temporary = None
+    try:
+        if path.exists() and not path.read_text(encoding="utf-8", errors="replace").startswith(CALIBRATION_HEADER):
+            raise InputError("--save", f"{path} exists and is not a deflect calibration; give another file name")
+        handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=".deflect-", suffix=".toml")
+        with os.fdopen(handle, "w", encoding="utf-8") as stream:
+            stream.write(calibration_toml(calibration))
+        os.replace(temporary, path)
+    except OSError as exc:
+        if temporary is not None and os.path.exists(temporary):
+            os.remove(temporary)
+        raise InputError("--save", f"cannot write {path}: {exc.strerror or exc}") from None
+    return path
 
 
 def main(argv: list[str] | None = None) -> None:

@@ -106,6 +106,25 @@ def test_target_surface_keeps_the_offset_distance_round_the_shoulder(offset):
     assert path.points_rz[on_face, 0].min() <= 20.0 + max(offset, 0.0) + ROUNDING
 
 
+# A wall on a flange with rounded corners (the demo housing's OD side): a pass that ends at the flange's height
+# runs, with a target a micrometre out, along the offset flange face 1 um above its end.
+FLANGED = section_from_outline([[8.0, 0.0], [30.0, 0.0, 0.5], [30.0, 5.0, 0.5], [25.0, 5.0, 1.0], [25.0, 45.0, 0.2],
+                                [23.8, 45.0, 0.2], [23.8, 6.0, 1.0], [8.0, 6.0]], "part.outline").polygon(1e-5)
+
+
+@pytest.mark.parametrize("offset", [1e-5, 1e-4, 0.001, 0.002, 0.005])
+def test_small_offset_target_stays_at_its_distance_by_a_shoulder(offset):
+    # levels of the envelope closer than its tolerance are one: a slab thinner than that once let the target
+    # jump to the far side of the part (r = -21 mm) and the cut "cut the part in two"
+    path = target_surface(FLANGED, "od", offset, 46.0, 5.0, 0.1)
+    assert path.points_rz[:, 0].min() > 24.0             # never on the far side of the part
+    boundary = Polygon(FLANGED).exterior
+    along_the_part = path.points_rz[path.points_rz[:, 1] <= 45.0]      # above the rim it carries on straight
+    distance = np.array([boundary.distance(Point(p)) for p in along_the_part])
+    assert np.abs(distance - offset).max() <= BUFFER_CHORD_MM
+    remove(FLANGED, path, np.zeros(len(path.points_rz)), "od")
+
+
 def test_target_surface_carries_on_beyond_the_part():
     path = target_surface(NOMINAL, "od", 0.3, 45.0, -5.0, SPACING)
     assert np.allclose(path.points_rz[:, 0], R_OD + 0.3)

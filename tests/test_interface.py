@@ -1,6 +1,7 @@
 """The interface page and the code cannot drift apart (issue 10.8: one name per quantity, a unit on every number).
 
-Every command that prints JSON is run (section, compliance, predict, clamp, tune with --design, chatter), with every
+Every command that prints JSON is run (section, compliance, predict (also calibrated), clamp, tune with --design,
+chatter, explain), with every
 CSV output (predict --csv, tune --contour); every JSON key and CSV column is listed, and:
 * each key or column that holds a number ends in a unit suffix from INTERFACE.md's "Unit suffixes" table, or
   sits in an object whose key does (`force_N.cutting`), or is in its "Keys without a unit suffix" table;
@@ -79,10 +80,13 @@ def keys_of(data, parent: str | None = None, found: dict | None = None) -> dict:
 
 @pytest.fixture(scope="module")
 def outputs(tmp_path_factory) -> dict:
-    """Every command's JSON and every CSV file, on the shipped examples (about 20 s)."""
+    """Every command's JSON and every CSV file, on the shipped examples (about 30 s)."""
     folder = tmp_path_factory.mktemp("interface")
     housing, ring = str(EXAMPLES / "housing.toml"), str(EXAMPLES / "ring.toml")
+    calibration = str(folder / "calibration.toml")
     runs = {
+        "explain": ["explain", housing, str(EXAMPLES / "housing-first-article.toml"), "--save", calibration],
+        "predict calibrated": ["predict", housing, "--quiet", "--calibration", calibration],
         "section": ["section", housing],
         "compliance": ["compliance", housing, "--at", "25,40", "--at", "24.4,20"],
         "predict housing": ["predict", housing, "--quiet", "--csv", str(folder / "housing-csv")],

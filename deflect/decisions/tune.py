@@ -514,17 +514,39 @@ def order_change(process, surfaces: list[Surface]) -> tuple[Change, ...]:
     return (Change(names[b], "order", tuple(names), tuple(swapped)),)
 
 
-def tune(job, progress=None) -> TuneResult:
-    """Search the remedies and rank them (module docstring)."""
+def tune(job, progress=None, memo: dict | None = None) -> TuneResult:
+    """Search the remedies and rank them (module docstring). memo: key-station compliances already computed
+    for this job (`simulate.plan_compliance`), e.g. by `deflect explain`."""
     with kept_workers():
-        return search_remedies(job, progress)
+        return search_remedies(job, progress, {} if memo is None else memo)
 
 
-def search_remedies(job, progress) -> TuneResult:
+def wear_offsets_only(job, memo: dict | None = None) -> TuneResult:
+    """The cheapest remedy alone, without the search: a wear offset on every finishing pass at its present
+    settings, centred in its band (`offset_wear_only`), predicted in full. The first thing to change on the
+    next part once a first article has calibrated the constants."""
     if "tolerance" not in job.tables:
         raise InputError("tolerance", "missing; give [tolerance] (od, id, wall, ra) for the remedies to aim at")
     tolerances = tolerance_from_table(job.tables["tolerance"])
-    given = Search(job=job, tolerances=tolerances, progress=progress)
+    with kept_workers():
+        search = Search(job=job, tolerances=tolerances, memo={} if memo is None else memo)
+        current = search.evaluate((), with_ranges=True)
+        if current is None:
+            process_from_job(job)
+            raise ModelError("the job as given cannot be predicted")
+        changes = offset_wear_only(search, surfaces_of(search.process, current.prediction))
+        outcome = search.evaluate(changes, with_ranges=True) if changes else None
+    options = [outcome] if outcome is not None else []
+    return TuneResult(current=current, options=options, limiting=limiting_text(current, options),
+                      offset_note=offset_note(outcome), evaluations=len(search.seen),
+                      warnings=list(search.process.warnings))
+
+
+def search_remedies(job, progress, memo: dict) -> TuneResult:
+    if "tolerance" not in job.tables:
+        raise InputError("tolerance", "missing; give [tolerance] (od, id, wall, ra) for the remedies to aim at")
+    tolerances = tolerance_from_table(job.tables["tolerance"])
+    given = Search(job=job, tolerances=tolerances, memo=memo, progress=progress)
     current = given.evaluate((), with_ranges=True)
     if current is None:
         process_from_job(job)          # raises the job's own error, if that is what failed

@@ -9,6 +9,8 @@
     holding.py    [holding] -> `Holding`, and where the grip bears on the section
     dynamics.py   [dynamics] -> `Dynamics`: modal damping, a tap test's modes
     drawing.py    a DXF half-section ([part] drawing, `deflect import`) -> outline nodes, lines and arcs
+    measured.py   a first article's measurement file -> `Measured` (mass, diameters, wall, faces, roundness)
+    calibration.py  a first article's calibration file -> `Calibration` (force factors, size errors, grip)
 
 Bad input is an `InputError` naming the key. May import: `deflect.errors`, `deflect.geometry`.
 """

@@ -7,6 +7,8 @@ Each takes a parsed TOML value and the dotted key it came from, and returns the 
 from __future__ import annotations
 
 import math
+import tomllib
+from pathlib import Path
 
 from deflect.errors import InputError
 
@@ -46,3 +48,29 @@ def check_range(value, key: str) -> tuple[float, float]:
     if low > high:
         raise InputError(key, f"range [{low:g}, {high:g}] runs backwards; write the smaller number first")
     return low, high
+
+
+def read_toml(path: str, what: str = "file") -> dict:
+    """A TOML file parsed; an InputError naming the file (key `file`) when it is missing, not UTF-8 text or not
+    TOML. `what` names the kind of file in the "no such" message."""
+    try:
+        text = Path(path).read_bytes().decode("utf-8")
+    except FileNotFoundError:
+        raise InputError("file", f"no such {what}", file=path) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError("file", f"not valid TOML: {exc}", file=path) from None
+
+
+def required_number(table: dict, name: str, key: str, what: str) -> float:
+    """table[name] as a float; an InputError on `key.name` saying what to give when it is missing or not a
+    finite number."""
+    if name not in table:
+        raise InputError(f"{key}.{name}", f"missing; give {what}")
+    value = table[name]
+    if not is_number(value):
+        raise InputError(f"{key}.{name}", f"must be a number ({what}), got {value!r}")
+    return float(value)

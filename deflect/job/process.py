@@ -22,7 +22,7 @@ from shapely.geometry import Point, Polygon
 
 from deflect.errors import InputError
 from deflect.geometry.section import POLYGON_CHORD_MM, section_from_outline
-from deflect.job.checks import check_keys, check_table, is_number
+from deflect.job.checks import check_keys, check_table, is_number, required_number
 from deflect.job.tooling import Tool, tool_from_job
 
 STOCK_KINDS = ("outline", "bar", "tube")
@@ -66,6 +66,12 @@ class Pass:
     # side for od / id (outwards from the material, like `offset` on a cylinder) and in Z for a face,
     # interpolated between and held beyond; () for none
     compensation: tuple[tuple[float, float], ...] = ()
+    # from a first article's calibration (`deflect.job.calibration`; 1 and 0 without one): the factor on this
+    # pass's forces (its tool's kc1.1, kf1.1 and kp1.1 together), and the size error of the surface it finishes
+    # (wear, tool setting, thermal growth), which is already inside `compensation`: the target is where the
+    # machine really cuts; the program's compensation is each pair's offset less size_error_mm
+    force_factor: float = 1.0
+    size_error_mm: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -91,17 +97,8 @@ class Process:
 # ---------------------------------------------------------------------------------------------------
 # small checks
 
-def _number(table: dict, name: str, key: str, what: str) -> float:
-    if name not in table:
-        raise InputError(f"{key}.{name}", f"missing; give {what}")
-    value = table[name]
-    if not is_number(value):
-        raise InputError(f"{key}.{name}", f"must be a number ({what}), got {value!r}")
-    return float(value)
-
-
 def _positive(table: dict, name: str, key: str, what: str) -> float:
-    value = _number(table, name, key, what)
+    value = required_number(table, name, key, what)
     if value <= 0.0:
         raise InputError(f"{key}.{name}", f"must be more than 0, got {value:g}; give {what}")
     return value
@@ -230,11 +227,11 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
     if tool not in tools:
         defined = f"defined tools: {', '.join(tools)}" if tools else "no [[tool]] is defined"
         raise InputError(f"{key}.tool", f"no tool named {tool!r}; {defined}")
-    allowance = _number(table, "allowance", key, "the stock the pass leaves over the finished contour, mm")
+    allowance = required_number(table, "allowance", key, "the stock the pass leaves over the finished contour, mm")
     if allowance < 0.0:
         raise InputError(f"{key}.allowance", f"must not be negative, got {allowance:g}; "
                                              "to cut below the finished contour use offset")
-    feed = _number(table, "feed", key, "the feed per revolution, mm/rev")
+    feed = required_number(table, "feed", key, "the feed per revolution, mm/rev")
     if feed <= 0.0:
         raise InputError(f"{key}.feed", f"must be more than 0 mm/rev, got {feed:g} (zero feed: the tool "
                                         "would never advance); give e.g. feed = 0.1")
@@ -248,7 +245,7 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
     start, end = _extent(table, surface, key)
     depth = None
     if "depth" in table:
-        depth = _number(table, "depth", key, "the most depth per cut, mm")
+        depth = required_number(table, "depth", key, "the most depth per cut, mm")
         if depth <= 0.0:
             raise InputError(f"{key}.depth", f"must be more than 0 mm, got {depth:g}; "
                                              "leave depth out to take the stock in one cut")
@@ -256,7 +253,7 @@ def _pass_from_job(table, index: int, tools: dict[str, Tool]) -> Pass:
     if isinstance(spring, bool) or not isinstance(spring, int) or spring < 0:
         raise InputError(f"{key}.spring", f"must be a whole number 0 or more (extra cuts over the same target), "
                                           f"got {spring!r}")
-    offset = _number(table, "offset", key, "the wear offset along the outward normal, mm") \
+    offset = required_number(table, "offset", key, "the wear offset along the outward normal, mm") \
         if "offset" in table else 0.0
     compensation = _compensation(table["compensate"], surface, f"{key}.compensate") if "compensate" in table else ()
     return Pass(name=name.strip(), surface=surface, tool=tool, allowance_mm=allowance, feed_mm=feed,
@@ -345,5 +342,8 @@ def read_process(job) -> Process:
     warnings: list[str] = []
     machine = _machine_from_job(tables, warnings)
     tolerance = dict(check_table(tables.get("tolerance", {}), "tolerance"))
+    calibration = getattr(job, "calibration", None)     # a Job has one (None without); a bare section may not
+    if calibration is not None:
+        passes = calibration.applied_to(passes)
     return Process(stock_rz=stock_rz, tools=tools, passes=passes, machine=machine, tolerance=tolerance,
                    warnings=warnings)

@@ -13,14 +13,14 @@ Every problem is raised as `InputError` carrying the file name, the dotted key a
 
 from __future__ import annotations
 
-import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from deflect.errors import InputError
 from deflect.geometry.boxes import HeldBox
 from deflect.geometry.section import Section, section_from_outline, unit_size_warning
-from deflect.job.checks import check_keys, check_range, check_table, is_number
+from deflect.job.calibration import Calibration, read_calibration, with_calibration
+from deflect.job.checks import check_keys, check_range, check_table, is_number, read_toml
 from deflect.job.drawing import Drawing, drawing_notes, drawing_section, read_drawing
 from deflect.job.holding import held_from_holding
 from deflect.job.materials import Material, material_from_job
@@ -30,7 +30,7 @@ MM_PER_INCH = 25.4
 # Tables a job may hold. The machining ones are read by the simulation; here they only pass through.
 KNOWN_TABLES = ("job", "material", "part", "held", "stock", "tool", "pass", "machine", "tolerance", "holding",
                 "dynamics")
-JOB_KEYS = ("title", "units")
+JOB_KEYS = ("title", "units", "calibration")
 PART_KEYS = ("outline", "drawing", "layer", "axis")
 HELD_KEYS = ("r", "z")
 
@@ -55,6 +55,7 @@ class Job:
     tables: dict = field(default_factory=dict)   # machining tables (stock, tool, pass, ...), lengths in mm
     warnings: list[str] = field(default_factory=list)
     drawing: Drawing | None = None   # the DXF the section was read from ([part] drawing), else None
+    calibration: Calibration | None = None       # a first article's (`deflect.job.calibration`), if given
 
 
 def scale_lengths(value, factor: float):
@@ -128,8 +129,9 @@ def read_held(data: dict, factor: float) -> list[HeldBox]:
     return boxes
 
 
-def parse_job(data: dict, path: str) -> Job:
-    """Check a parsed TOML document and build the Job (InputError without the file name)."""
+def parse_job(data: dict, path: str, calibrated: bool = True) -> Job:
+    """Check a parsed TOML document and build the Job (InputError without the file name); calibrated False
+    leaves out a `[job] calibration` (the job with its recalled constants)."""
     for name in data:
         if name not in KNOWN_TABLES:
             raise InputError(name, f"unknown table; a job holds {', '.join(KNOWN_TABLES)}")
@@ -172,8 +174,12 @@ def parse_job(data: dict, path: str) -> Job:
     if "holding" in tables and not held:
         # the material under the jaws' contact is what holds the part for the cutting stiffness
         held = held_from_holding(section, tables["holding"])
-    return Job(path=path, title=title, units=units, section=section, material=material,
-               held=held, tables=tables, warnings=warnings, drawing=drawing)
+    where = calibration_path(job_table["calibration"], path) if "calibration" in job_table else None
+    if where is not None and not calibrated:
+        warnings.append(f"job.calibration: {where} is left out here; the job's recalled constants are used")
+    job = Job(path=path, title=title, units=units, section=section, material=material,
+              held=held, tables=tables, warnings=warnings, drawing=drawing)
+    return with_calibration(job, read_calibration(where)) if where is not None and calibrated else job
 
 
 def read_part_drawing(part: dict, path: str, units: str) -> tuple[Drawing, Section, list[str]]:
@@ -199,21 +205,21 @@ def read_part_drawing(part: dict, path: str, units: str) -> tuple[Drawing, Secti
     return drawing, section, [f"part.drawing: {name}: {note}" for note in drawing_notes(drawing, section)]
 
 
-def read_job(path: str | Path) -> Job:
-    """Read and check a job file; every problem is an InputError naming this file."""
+def calibration_path(value, job_path: str) -> Path:
+    """`[job] calibration = "file.toml"`: the calibration file, a path relative to the job's folder."""
+    if not isinstance(value, str) or not value.strip():
+        raise InputError("job.calibration", "must be the path of a calibration file in quotes, as written by "
+                                            "`deflect explain --save`")
+    return Path(job_path).parent / value
+
+
+def read_job(path: str | Path, calibrated: bool = True) -> Job:
+    """Read and check a job file; every problem is an InputError naming this file. calibrated False leaves
+    out its `[job] calibration`."""
     path = str(path)
+    data = read_toml(path)
     try:
-        text = Path(path).read_bytes().decode("utf-8")
-    except FileNotFoundError:
-        raise InputError("file", "no such file", file=path) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError("file", f"cannot be read as UTF-8 text ({exc})", file=path) from None
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError("file", f"not valid TOML: {exc}", file=path) from None
-    try:
-        return parse_job(data, path)
+        return parse_job(data, path, calibrated)
     except InputError as exc:
-        exc.file = path
+        exc.file = exc.file or path          # a problem in the calibration file names that file
         raise

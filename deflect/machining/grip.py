@@ -53,6 +53,7 @@ import numpy as np
 
 from deflect.errors import InputError
 from deflect.geometry.section import POLYGON_CHORD_MM
+from deflect.job.calibration import grip_factor_of
 from deflect.job.fits import tolerance_from_table
 from deflect.job.holding import Contact, Holding, contact_of, holding_from_table, surface_points
 from deflect.machining.simulate import CYLINDER_COS, laid_out, met_depth
@@ -105,7 +106,7 @@ def cut_loads(job, process, spacing_mm: float = HOLD_STATION_MM, memo: dict | No
         pieces = []
         for path, current in zip(paths[i], parts[i]):
             depth = np.atleast_1d(met_depth(current, path, p))
-            forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min)
+            forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min, force_scale=p.force_factor)
             r = path.points_rz[:, 0] + 0.5 * into * depth
             rpm = np.atleast_1d(spindle_speed_rpm(p.speed_m_min, 2.0 * np.maximum(r, 0.0), process.machine.max_rpm))
             axial = forces.passive_n if p.surface == "face" else forces.feed_n
@@ -332,6 +333,8 @@ class _Setup:
         contact = contact_of(self.job.section, holding)
         surfaces = finished_surfaces(self.job.section, contact, self.process)
         squeeze = self.model(contact).squeeze(holding, surfaces.points_rz, surfaces.normals)
+        calibrated = grip_factor_of(self.job)     # a first article's calibration of the squeeze (1 without one)
+        squeeze = replace(squeeze, amplitudes_mm_per_n=calibrated * squeeze.amplitudes_mm_per_n)
         centrifugal = centrifugal_force_n(holding.centrifugal_moment_kg_m, surfaces.rpm)
         in_cut = grip_in_cut_n(holding.force_n, centrifugal, holding.grip)
         limits = form_limits(self.tolerance, surfaces)

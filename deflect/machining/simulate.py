@@ -47,6 +47,7 @@ from threadpoolctl import threadpool_limits
 
 from deflect.errors import InputError, ModelError
 from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_properties
+from deflect.job.calibration import grip_factor_of
 from deflect.job.holding import holding_from_table
 from deflect.job.process import Pass, Process
 from deflect.machining.inprocess import (
@@ -507,7 +508,8 @@ def equilibrium(met_depth_mm: np.ndarray, compliance: np.ndarray, feed_sign: np.
     c_na = compliance[:, 0, 2]
 
     def push_off(depth):
-        forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min, force_scale=force_scale)
+        forces = cutting_forces(job.material, tool, depth, p.feed_mm, p.speed_m_min,
+                                force_scale=force_scale * p.force_factor)
         passive, feed = np.asarray(forces.passive_n), np.asarray(forces.feed_n)
         return (c_nn + tool_c) * passive + c_na * feed_sign * feed, forces
 
@@ -579,7 +581,8 @@ def run_cut(job, process: Process, p: Pass, path: CutPath, current_rz: np.ndarra
 def run_passes(job, process: Process, force_scale: float, plan: dict, progress=None, memo: dict | None = None):
     """All passes in order on the planned cuts (`plan_compliance`); returns the per-pass station tables and
     the as-machined polygon. memo (shared by variants of one job, `deflect.decisions.tune`) keeps each cut's result by
-    everything it depends on: the part it meets, its path, its pass, its compliance and the force scale, so a
+    everything it depends on: the part it meets, its path, its pass (with its calibrated force factor), its
+    compliance, the force scale and the material's constants, so a
     variant that changes a late pass does not machine the earlier ones again."""
     memo = {} if memo is None else memo
     current = process.stock_rz
@@ -596,7 +599,7 @@ def run_passes(job, process: Process, force_scale: float, plan: dict, progress=N
                 plan[("met", i, j)] = memo[met_name]
             met = plan[("met", i, j)]
             name = ("cut", current.tobytes(), path.points_rz.tobytes(), replace(p, key=""), j, force_scale,
-                    plan[(i, j)].tobytes(), met.tobytes())
+                    plan[(i, j)].tobytes(), met.tobytes(), job.material)
             if name not in memo:
                 memo[name] = run_cut(job, process, p, path, current, plan[(i, j)], met, force_scale, j)
             table, current = memo[name]
@@ -642,9 +645,10 @@ def released_by_the_jaws(job, process: Process, raw, surfaces: list[str], names:
     rpm = np.array([float(spindle_speed_rpm(p.speed_m_min, 2.0 * r, process.machine.max_rpm))
                     for p, r in zip(passes, raw.points_rz[machined, 0])])
     grip_n = grip_in_cut_n(holding.force_n, centrifugal_force_n(holding.centrifugal_moment_kg_m, rpm), holding.grip)
-    released[machined] = grip_n * per_newton.mean_mm
+    squeeze = grip_factor_of(job) * grip_n       # a first article's calibration of the squeeze (1 without one)
+    released[machined] = squeeze * per_newton.mean_mm
     for name, field_name in FORM_FIELDS.items():
-        form[name][machined] = grip_n * getattr(per_newton, field_name)
+        form[name][machined] = squeeze * getattr(per_newton, field_name)
     return released, form, per_newton.lobes
 
 

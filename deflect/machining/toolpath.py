@@ -12,6 +12,8 @@ compensation, as for the drawn contour.
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
 from deflect.geometry.section import POLYGON_CHORD_MM
@@ -25,8 +27,10 @@ KEEP_STRAIGHT_MM = 0.0005         # a point within this of the line through its 
 def compensated_contour(job, process: Process, p: Pass) -> np.ndarray:
     """(K, 3): Z, X (diameter) and the compensation a side [mm] along the pass's final target, in feed order."""
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
-    final = cuts_for_pass(nominal_rz, nominal_rz, p, CONTOUR_SPACING_MM)[-1]
-    shift = compensation_mm(final.points_rz, p)
+    # the program's contour: a calibrated size error is where the machine cuts of itself, not programmed
+    programmed = replace(p, compensation=tuple((at, c - p.size_error_mm) for at, c in p.compensation))
+    final = cuts_for_pass(nominal_rz, nominal_rz, programmed, CONTOUR_SPACING_MM)[-1]
+    shift = compensation_mm(final.points_rz, programmed)
     keep = _corners(final.points_rz)
     r, z = final.points_rz[keep].T
     return np.column_stack([z, 2.0 * r, shift[keep]])

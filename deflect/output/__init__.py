@@ -7,6 +7,7 @@
     tune_report.py     the terminal report and JSON of `deflect tune`
     chatter_report.py  the terminal report and JSON of `deflect chatter`
     chatter_figures.py the lobes of each pass and the mode shapes (PNG)
+    explain_report.py  the terminal report and JSON of `deflect explain`, and a calibrated report's own line
     csv_files.py       CSV tables of a prediction
     figures.py         PNG figures (matplotlib, imported only when a figure is drawn)
     programs.py        the compensated contour as CSV points and ISO 6983 moves

@@ -269,3 +269,60 @@ def released_shape_plot(profile, title: str, path: str) -> None:
     ax.set_title(f"{title}\nreleased shape of the {SURFACE_LABELS.get(profile.surface, profile.surface)} at "
                  f"z = {profile.z_mm:.2f} mm (deviation magnified x {factor:g})", fontsize=10)
     _save(plt, fig, path)
+
+
+PROFILE_PANELS = {"od": "OD diameter", "id": "ID diameter", "wall": "wall thickness"}
+FIGURE_CAUSES = {"push-off": "push-off", "size error": "size error", "unmachined": "unmachined",
+                 "density": "batch density", "layers": "layer sums"}
+
+
+def first_article_plot(result, path) -> Path:
+    """The first article: measured, uncalibrated and calibrated diameters and wall along z (against the drawing,
+    um; the measured ones with their 95 % bars), and the measured mass gain split by cause."""
+    plt = _pyplot()
+    panels = list(result.profiles)
+    rows = (len(panels) + 2) // 2          # two panels a row: the profiles, then the mass
+    fig, axes = plt.subplots(rows, 2, figsize=(12, 4.6 * rows + 0.6), squeeze=False)
+    axes = axes.ravel()
+    for ax in axes[len(panels) + 1:]:
+        ax.set_axis_off()
+    for ax, profile in zip(axes, panels):
+        ax.plot(1000 * profile.uncalibrated_mm, profile.z_mm, "--", color="0.55", label="uncalibrated")
+        ax.plot(1000 * profile.calibrated_mm, profile.z_mm, "-", color="tab:blue", label="calibrated")
+        mine = [r for r in result.readings if r.reading.kind in ("diameter", "wall")
+                and (r.reading.surface if r.reading.kind == "diameter" else "wall") == profile.surface]
+        if mine:
+            ax.errorbar([1000 * (r.reading.value_mm - r.reading.nominal_mm) for r in mine],
+                        [r.reading.at_mm for r in mine], xerr=[2000 * r.uncertainty_mm for r in mine], fmt="o",
+                        color="tab:red", capsize=3, label="measured (+/- 2 u)")
+        ax.axvline(0.0, color="0.2", lw=0.8)
+        ax.set_xlabel(f"{PROFILE_PANELS[profile.surface]} - drawn [um]")
+        ax.set_ylabel("z [mm]")
+        ax.set_title(PROFILE_PANELS[profile.surface])
+        ax.grid(True, alpha=0.3)
+        ax.legend(loc="best", fontsize=8)
+    ax = axes[len(panels)]
+    mass = result.mass
+    if mass is None:
+        ax.text(0.5, 0.5, "the part was not weighed", ha="center", va="center", transform=ax.transAxes)
+        ax.set_axis_off()
+    else:
+        labels = [FIGURE_CAUSES[s.cause] + (f", {s.where.split(' (')[0]}" if s.where else "") for s in mass.shares]
+        values = [s.mass_g for s in mass.shares]
+        labels += ["rest"]
+        values += [mass.rest_g]
+        colours = ["tab:blue" if s.cause == "push-off" else "tab:orange" if s.cause == "size error" else "0.6"
+                   for s in mass.shares] + ["tab:red"]
+        y = np.arange(len(values))[::-1]
+        ax.barh(y, values, color=colours)
+        ax.errorbar([mass.rest_g], [y[-1]], xerr=[mass.rest_allowed_g], fmt="none", color="k", capsize=4,
+                    label="what the measurement allows (95 %)")
+        ax.set_yticks(y, labels, fontsize=8)
+        ax.axvline(0.0, color="0.2", lw=0.8)
+        ax.set_xlabel("mass [g]")
+        ax.set_title(f"measured gain {mass.measured_g - mass.nominal_g:+.3f} g by cause")
+        ax.grid(True, axis="x", alpha=0.3)
+        ax.legend(loc="best", fontsize=8)
+    fig.suptitle(f"First article: {result.title}")
+    _save(plt, fig, path)
+    return Path(path)
