@@ -148,8 +148,8 @@ def point_record(point) -> dict:
               help="Contact patch: A along the section boundary, W around the circumference, in the job's units "
                    "[default: 2 mm by 2 mm, in an inch job too].")
 @click.option("--harmonic-tol", "tolerance", default=1e-3, show_default=True, type=float,
-              help="Where the Fourier-harmonic sum stops: its estimated tail, relative to the sum (not a drawing "
-                   "tolerance).")
+              help="Where the Fourier-harmonic sum stops: the estimated error of the whole sum (its fitted tail "
+                   "included), relative to the sum (not a drawing tolerance).")
 @click.option("--tol", "old_tolerance", type=float, default=None, hidden=True)   # the earlier spelling
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
 @click.option("--plot", "plot_file", default=None,

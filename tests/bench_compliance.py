@@ -1,36 +1,47 @@
-"""Benchmark: the harmonic compliance sum on a cup-sized shell, on one core (a plain script, not a test).
+"""Benchmark: compliance at many boundary points, on one core (a plain script, not a test).
 
-A cup of aluminium (E 70000 MPa, nu 0.33): wall mid radius 24.5 mm, wall 1 mm, height 40 mm, bottom 3 mm,
-held by jaws on the lowest 8 mm of the wall; elements 0.4 mm along the wall and 0.5 mm across the bottom
-(146 nodes).
-The compliance along the surface normal is computed at 200 points spread along the free meridian, each under
-a 2 mm x 2 mm patch, tol 1e-3. Prints the seconds, the harmonics used and the DOFs. Target: <= 0.5 s.
+Two workloads, each timed in-process in fresh child processes (CPU seconds), in this tree and in a
+temporary worktree of an earlier revision (`--against REV`, by default the commit the speed work started
+from), alternating; the medians and their ratio are printed (bench_against.py):
 
-Run:  python tests/bench_compliance.py
+* "1000 points, demo": `deflect compliance`'s model of the demo housing (data/examples/housing.toml, a
+  2 x 2 mm patch, tolerance 1e-3) asked for the compliance at about 1000 points along its whole boundary
+  (`WallModel.map`): the shell model, placing the loads and the harmonic sums. The target of issue 16: at
+  least 3 times faster than the starting revision.
+* "200 loads, cup": the harmonic sum alone on a cup-sized shell of aluminium (E 70000 MPa, nu 0.33): wall
+  mid radius 24.5 mm, wall 1 mm, height 40 mm, bottom 3 mm, held by jaws on the lowest 8 mm of the wall;
+  elements 0.4 mm along the wall and 0.5 mm across the bottom (146 nodes); the normal compliance at 200
+  points along the free meridian, each under a 2 mm x 2 mm patch, tol 1e-3.
+
+Each child prints its figures (points, harmonics, a few compliances), which must agree between the trees.
+
+Run:  python tests/bench_compliance.py [--against REV | --alone] [--runs N]
 """
 
+import json
 import os
+import sys
+import time
+from pathlib import Path
 
-for _name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
-    os.environ[_name] = "1"  # one core, set before numpy is imported
+import bench_against
 
-import time  # noqa: E402
-
-import numpy as np  # noqa: E402
-
-import deflect.mechanics.shell.harmonic as harmonic  # noqa: E402
-from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad, compliance  # noqa: E402
-from deflect.mechanics.shell.mesh import ShellMesh  # noqa: E402
-
+DEMO = bench_against.EXAMPLES / "housing.toml"
+MAP_POINTS = 1000
 E_MPA, NU = 70000.0, 0.33
 WALL_R, WALL_T, HEIGHT, BOTTOM_T = 24.5, 1.0, 40.0, 3.0
 HELD_Z = 8.0
 PATCH_MM = 2.0
 N_POINTS = 200
+TARGET_RATIO = 3.0
 
 
-def cup_mesh() -> ShellMesh:
+def cup_mesh():
     """Bottom mid-surface from the axis to the wall, then the wall up to the rim (one chain of nodes)."""
+    import numpy as np
+
+    from deflect.mechanics.shell.mesh import ShellMesh
+
     z_bottom = BOTTOM_T / 2.0
     r = np.linspace(0.0, WALL_R, 50)
     z = np.linspace(z_bottom, HEIGHT, 97)[1:]
@@ -43,11 +54,15 @@ def cup_mesh() -> ShellMesh:
     return ShellMesh(nodes, thickness, elements, fixed)
 
 
-def patch_loads(mesh: ShellMesh, n_points: int):
+def patch_loads(mesh, n_points: int):
     """Unit loads pushing into the outside face: the underside of the bottom and the wall above the jaws.
 
     n = (t_z, -t_r) points out of the cup on both (down under the bottom, outward on the wall), so each patch
     sits at the arm +h/2 n and pushes along -n. Eight sub-points over the 2 mm, weights proportional to r."""
+    import numpy as np
+
+    from deflect.mechanics.shell.harmonic import ShellLoad
+
     a, b = mesh.nodes_rz[mesh.elements[:, 0]], mesh.nodes_rz[mesh.elements[:, 1]]
     length = np.linalg.norm(b - a, axis=1)
     arc = np.r_[0.0, np.cumsum(length)]  # arc length from the axis, along the bottom and up the wall
@@ -71,38 +86,55 @@ def patch_loads(mesh: ShellMesh, n_points: int):
     return loads, np.array(directions)
 
 
-def main() -> None:
+def cup_child() -> dict:
+    from deflect.mechanics.shell.harmonic import HarmonicShell, compliance
+
     mesh = cup_mesh()
     loads, directions = patch_loads(mesh, N_POINTS)
-    t0 = time.process_time()
+    compliance(HarmonicShell(mesh, E_MPA, NU), loads[:2], directions[:2], tol=1e-3)   # numpy's warm-up
+    start, wall = time.process_time(), time.perf_counter()
     shell = HarmonicShell(mesh, E_MPA, NU)
-    setup = time.process_time() - t0
-    runs = []
-    for _ in range(3):  # the first call in a process also pays numpy's and the allocator's warm-up
-        w0, c0 = time.perf_counter(), time.process_time()
-        c, n_used = compliance(shell, loads, directions, tol=1e-3)
-        runs.append((time.perf_counter() - w0, time.process_time() - c0))
-    free = int((~mesh.fixed).sum())
-    print(f"nodes {mesh.n_nodes}, DOFs {shell.n_dofs} ({free} free), points {len(loads)}, harmonics 0..{n_used}")
-    # CPU time of this process is the figure to compare: wall time grows when other work shares the core
-    print(f"stiffness set-up {setup:.3f} s; compliance: first call {runs[0][1]:.3f} s cpu ({runs[0][0]:.3f} wall), "
-          f"best of 3 {min(r[1] for r in runs):.3f} s cpu")
+    c, n_used = compliance(shell, loads, directions, tol=1e-3)
     normal = c[:, 0, 0]
-    print(f"normal compliance [mm/N]: rim {normal[-1]:.4e}, lowest wall point {normal[N_POINTS // 4]:.4e}, "
-          f"bottom near the axis {normal[0]:.4e}")
-    # the alternative: a banded Cholesky factor per harmonic and 3 right-hand sides per load (forced by
-    # letting no load count as local); timed on 20 harmonics and scaled to the harmonics used above
-    sample = np.arange(100, 120)
-    fast = shell.harmonic_terms(loads, directions, sample)
-    saved, harmonic.WIDEST_WINDOW = harmonic.WIDEST_WINDOW, -1
-    c0 = time.process_time()
-    direct = shell.harmonic_terms(loads, directions, sample)
-    per_harmonic = (time.process_time() - c0) / len(sample)
-    harmonic.WIDEST_WINDOW = saved
-    agree = abs(direct - fast).max() / abs(fast).max()
-    print(f"banded Cholesky per harmonic instead: {per_harmonic * 1e3:.1f} ms per harmonic, "
-          f"{per_harmonic * (n_used + 1):.2f} s for 0..{n_used}; the same terms to {agree:.1e}")
+    return {"cpu_s": time.process_time() - start, "wall_s": time.perf_counter() - wall,
+            "figures": f"{len(loads)} loads, harmonics to {n_used}; normal compliance rim {normal[-1]:.4e}, lowest "
+                       f"wall point {normal[N_POINTS // 4]:.4e}, bottom near the axis {normal[0]:.4e} mm/N"}
+
+
+def map_child() -> dict:
+    from deflect.job.reader import read_job
+    from deflect.mechanics.compliance import WallModel
+
+    job = read_job(DEMO)
+    start, wall = time.process_time(), time.perf_counter()
+    model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu)
+    points = model.map(job.section.perimeter() / MAP_POINTS)
+    normal = [p.normal_mm_per_n for p in points]
+    return {"cpu_s": time.process_time() - start, "wall_s": time.perf_counter() - wall,
+            "figures": f"{len(points)} points, harmonics to {points[0].harmonics}; normal compliance largest "
+                       f"{max(normal):.4e}, median {sorted(normal)[len(normal) // 2]:.4e} mm/N"}
+
+
+def main() -> None:
+    args = bench_against.options(__doc__.splitlines()[0]).parse_args()
+    workloads = {f"{MAP_POINTS} points, demo": bench_against.script_command(Path(__file__), {"work": "map"}),
+                 f"{N_POINTS} loads, cup": bench_against.script_command(Path(__file__), {"work": "cup"})}
+    with bench_against.trees(None if args.alone else args.against) as sources:
+        print(f"{os.cpu_count()} cores; trees: " + ", ".join(f"{k} = {v}" for k, v in sources.items()))
+        medians = bench_against.compare(workloads, sources, args.runs, reported=True)
+        bench_against.print_table("compliance, in-process", medians, args.runs)
+        for name, per_tree in medians.items():
+            for label, m in per_tree.items():
+                print(f"  {name}, {label}: {json.loads(m['stdout'])['figures']}")
+        if len(sources) == 2:
+            this, other = (m["cpu_s"] for m in medians[f"{MAP_POINTS} points, demo"].values())
+            verdict = "meets" if other / this >= TARGET_RATIO else "misses"
+            print(f"\n{MAP_POINTS} points: {other / this:.2f}x faster: {verdict} the {TARGET_RATIO:g}x target")
 
 
 if __name__ == "__main__":
-    main()
+    if len(sys.argv) == 3 and sys.argv[1] == "--child":
+        work = json.loads(sys.argv[2])["work"]
+        print(json.dumps(map_child() if work == "map" else cup_child()))
+    else:
+        main()

@@ -253,3 +253,19 @@ def test_wide_loads_take_the_direct_path_with_the_same_answer(monkeypatch):
     monkeypatch.setattr(harmonic, "WIDEST_WINDOW", 2)
     direct = shell.harmonic_terms([wide], directions, n)
     assert np.allclose(selected, direct, rtol=1e-9, atol=1e-14 * abs(direct).max())
+
+
+def test_a_loads_compliance_does_not_depend_on_the_loads_summed_with_it():
+    """Each load stops on its own error estimate and sums its own tail (its patch's own extent): five loads
+    summed together (the batched selected inverse) give what each gives alone (a direct solve per harmonic),
+    to round-off."""
+    mesh = branched_cup()
+    shell = HarmonicShell(mesh, E_MPA, NU)
+    loads = [ShellLoad(np.array([e, e + 1]), np.array([0.3, 0.6]), np.array([0.4, 0.6]),
+                       np.array([[0.5, 0.0], [0.5, 0.1]]), a) for e, a in ((0, 0.1), (12, 0.05), (33, 0.02),
+                                                                           (40, 0.2), (53, 0.08))]
+    directions = np.array([[[-1.0, 0.0], [0.0, 1.0]]] * len(loads))
+    together, _ = compliance(shell, loads, directions, tol=1e-3)
+    for p, load in enumerate(loads):
+        alone, _ = compliance(shell, [load], directions[p:p + 1], tol=1e-3)
+        assert np.allclose(together[p], alone[0], rtol=1e-9, atol=1e-14 * abs(together).max())

@@ -415,3 +415,16 @@ def test_section_is_plain_frozen_data():
     assert isinstance(section, Section)
     with pytest.raises(AttributeError):
         section.segments = ()
+
+
+def test_points_at_is_point_at_for_many_arclengths():
+    """The vectorised lookup gives each arclength's point and outward normal as point_at does, on lines and
+    arcs, across corners (a corner belongs to the segment starting there) and past the perimeter (wraps)."""
+    section = section_from_outline([[19.0, 0.0], [20.0, 0.0, 0.3], [20.0, 40.0], {"to": [19.0, 40.0], "radius": 0.5}])
+    starts = np.cumsum([0.0] + [seg.length() for seg in section.segments])
+    arclengths = np.r_[np.linspace(-3.0, 1.3 * section.perimeter(), 997), starts]
+    points, normals = section.points_at(arclengths)
+    for s, point, normal in zip(arclengths, points, normals):
+        expected_point, expected_normal = section.point_at(float(s))
+        assert point == pytest.approx(expected_point, abs=1e-12)
+        assert normal == pytest.approx(expected_normal, abs=1e-12)

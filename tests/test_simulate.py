@@ -573,6 +573,22 @@ def test_predict_refuses_a_bad_pass(folder, keys, key, words):
     assert lines[0].startswith(f"error: {path}: {key}: ") and words in lines[0], lines[0]
 
 
+def test_monotone_cubic_is_the_pchip_interpolant():
+    """Fritsch & Butland (1984) slopes with the three-point ends: the same interpolant as scipy's independent
+    PchipInterpolator, on monotone data and data with extrema, 2 to 9 keys, columns of one and of many."""
+    from scipy.interpolate import PchipInterpolator
+
+    from deflect.machining.simulate import monotone_cubic
+
+    rng = np.random.default_rng(7)
+    for count in range(2, 10):
+        x = np.sort(rng.choice(np.arange(400), count, replace=False)).astype(float)
+        for y in (rng.normal(size=(count, 9)).cumsum(axis=0), np.abs(rng.normal(size=(count, 1))).cumsum(axis=0)):
+            at = np.linspace(x[0], x[-1], 97)
+            expected = PchipInterpolator(x, y, axis=0)(at)
+            assert np.allclose(monotone_cubic(x, y, at), expected, rtol=1e-12, atol=1e-12 * np.abs(y).max())
+
+
 # ---------------------------------------------------------------------------------------------------
 # facing to the centre: the tool's patch shrinks with the circumference near the axis, and a pass
 # programmed past the centre stops at the axis

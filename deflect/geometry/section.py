@@ -37,7 +37,6 @@ from functools import cached_property
 
 import numpy as np
 import shapely
-from scipy.optimize import minimize_scalar
 
 from deflect.errors import InputError, ModelError, shown
 
@@ -356,6 +355,19 @@ class Section:
         i, t = self._locate(arclength_mm)
         seg = self.segments[i]
         return seg.point_at(t), seg.normal_at(t)
+
+    def points_at(self, arclengths_mm: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """`point_at` for many arclengths at once: (points (N, 2), unit outward normals (N, 2))."""
+        s = np.mod(np.asarray(arclengths_mm, float).ravel(), self.perimeter())
+        starts, lengths = np.asarray(self._starts), np.asarray(self._lengths)
+        index = np.maximum(0, np.searchsorted(starts, s, side="right") - 1)  # a corner: the segment starting there
+        t = np.minimum(1.0, (s - starts[index]) / lengths[index])
+        points, tangents = np.empty((len(s), 2)), np.empty((len(s), 2))
+        for i in np.unique(index):
+            mine = index == i
+            points[mine] = self.segments[i].points_at(t[mine])
+            tangents[mine] = self.segments[i].tangents_at(t[mine])
+        return points, np.column_stack([tangents[:, 1], -tangents[:, 0]])
 
     def sample(self, spacing_mm: float) -> BoundarySamples:
         """Points along every segment at most `spacing_mm` apart, each segment end included once.
@@ -1150,6 +1162,9 @@ def thinnest_wall(section: Section) -> WallReading:
     seg_ids = np.concatenate([np.full(len(t), i) for i, t in grids.items()])
     params = np.concatenate(list(grids.values()))
     hit, facing = _walls(section, surfaces, seg_ids, params)
+    # imported here: scipy.optimize costs about 0.1 s of start-up that every other command would pay
+    from scipy.optimize import minimize_scalar
+
     least_facing = math.cos(math.radians(_WALL_MAX_INCIDENCE_DEG))
     if not np.isfinite(hit[facing >= least_facing]).any():
         least_facing = -1.0  # no two faces are near parallel: every ray counts

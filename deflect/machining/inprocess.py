@@ -513,6 +513,56 @@ def cuts_for_pass(current_rz: np.ndarray, nominal_rz: np.ndarray, p: Pass, spaci
 # ---------------------------------------------------------------------------------------------------
 # rays through the material
 
+def _edge_tree(polygon_rz: np.ndarray) -> shapely.STRtree:
+    """An R-tree of the polygon's edges, built once per polygon: the same in-process part is asked for its
+    depth of material, its deviation and its corners many times (kept by the exact points, a bounded few)."""
+    key = polygon_rz.tobytes()
+    if key not in _EDGE_TREES:
+        if len(_EDGE_TREES) >= _KEPT_TREES:
+            del _EDGE_TREES[next(iter(_EDGE_TREES))]  # the oldest
+        edges = np.stack([polygon_rz, np.roll(polygon_rz, -1, axis=0)], axis=1)
+        _EDGE_TREES[key] = shapely.STRtree(shapely.linestrings(edges))
+    return _EDGE_TREES[key]
+
+
+_EDGE_TREES: dict[bytes, shapely.STRtree] = {}
+_KEPT_TREES = 64
+
+
+def _ray_crossings(polygon_rz: np.ndarray, origins: np.ndarray, directions: np.ndarray):
+    """Every (ray, edge) pair whose bounding boxes meet, for rays from origins (K, 2) along unit directions
+    (K, 2) through a polygon (N, 2): (ray (P,), side of the edge's ends a and b (P,) each, the distance along
+    the ray to where the edge meets its line (P,), tolerance [mm]); see `_ray_hits`."""
+    a, b = polygon_rz, np.roll(polygon_rz, -1, axis=0)
+    both = np.vstack([polygon_rz, origins])
+    tol = _tolerance(both)
+    # only edges whose bounding box meets the ray (cut at twice the size of everything) can cross it: an
+    # R-tree of the edges gives those pairs, so the work grows with the crossings, not rays x edges
+    reach = 2.0 * float(np.ptp(both, axis=0).max()) + 1.0
+    rays = shapely.linestrings(np.stack([origins, origins + reach * directions], axis=1))
+    ray, edge = _edge_tree(polygon_rz).query(rays)
+    o, d, a, b = origins[ray], directions[ray], a[edge], b[edge]
+    # cross(d, p - o): > 0 on the ray's left
+    side_a = d[:, 0] * (a[:, 1] - o[:, 1]) - d[:, 1] * (a[:, 0] - o[:, 0])
+    side_b = d[:, 0] * (b[:, 1] - o[:, 1]) - d[:, 1] * (b[:, 0] - o[:, 0])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        share = side_a / (side_a - side_b)          # where along the edge it meets the ray's line
+    t = (d[:, 0] * (a[:, 0] - o[:, 0]) + d[:, 1] * (a[:, 1] - o[:, 1])
+         + share * (d[:, 0] * (b[:, 0] - a[:, 0]) + d[:, 1] * (b[:, 1] - a[:, 1])))
+    return ray, side_a, side_b, t, tol
+
+
+def _hits(crossings, count: int, lean: float) -> tuple[np.ndarray, np.ndarray]:
+    """(inside, first crossing) of `_ray_hits` from the pairs of `_ray_crossings`."""
+    ray, side_a, side_b, t, tol = crossings
+    crosses = (lean * side_a > 0.0) != (lean * side_b > 0.0)
+    ahead = crosses & (t > tol)
+    inside = np.bincount(ray[ahead], minlength=count) % 2 == 1
+    first = np.full(count, np.inf)
+    np.minimum.at(first, ray[ahead], t[ahead])
+    return inside, first
+
+
 def _ray_hits(polygon_rz: np.ndarray, origins: np.ndarray, directions: np.ndarray,
               lean: float) -> tuple[np.ndarray, np.ndarray]:
     """For rays from origins (K, 2) along unit directions (K, 2) through a polygon (N, 2): whether each
@@ -524,38 +574,17 @@ def _ray_hits(polygon_rz: np.ndarray, origins: np.ndarray, directions: np.ndarra
     origin are the origin's own surface and do not count: a point on the boundary is read as lying on the
     side the ray goes into.
     """
-    a, b = polygon_rz, np.roll(polygon_rz, -1, axis=0)
-    both = np.vstack([polygon_rz, origins])
-    tol = _tolerance(both)
-    # only edges whose bounding box meets the ray (cut at twice the size of everything) can cross it: an
-    # R-tree of the edges gives those pairs, so the work grows with the crossings, not rays x edges
-    reach = 2.0 * float(np.ptp(both, axis=0).max()) + 1.0
-    rays = shapely.linestrings(np.stack([origins, origins + reach * directions], axis=1))
-    ray, edge = shapely.STRtree(shapely.linestrings(np.stack([a, b], axis=1))).query(rays)
-    o, d, a, b = origins[ray], directions[ray], a[edge], b[edge]
-    # lean * cross(d, p - o): > 0 on the side the ray is shifted away from
-    side_a = lean * (d[:, 0] * (a[:, 1] - o[:, 1]) - d[:, 1] * (a[:, 0] - o[:, 0]))
-    side_b = lean * (d[:, 0] * (b[:, 1] - o[:, 1]) - d[:, 1] * (b[:, 0] - o[:, 0]))
-    crosses = (side_a > 0.0) != (side_b > 0.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        share = side_a / (side_a - side_b)          # where along the edge it meets the ray's line
-    t = (d[:, 0] * (a[:, 0] - o[:, 0]) + d[:, 1] * (a[:, 1] - o[:, 1])
-         + share * (d[:, 0] * (b[:, 0] - a[:, 0]) + d[:, 1] * (b[:, 1] - a[:, 1])))
-    ahead = crosses & (t > tol)
-    inside = np.bincount(ray[ahead], minlength=len(origins)) % 2 == 1
-    first = np.full(len(origins), np.inf)
-    np.minimum.at(first, ray[ahead], t[ahead])
-    return inside, first
+    return _hits(_ray_crossings(np.asarray(polygon_rz, float), origins, directions), len(origins), lean)
 
 
 def _material_along(polygon_rz: np.ndarray, origins: np.ndarray,
                     directions: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(length of material from each origin along its ray [mm], 0 in air; distance to the first material
     ahead of an origin in air [mm], inf if none), the polygon taken with its boundary (a ray along an edge
-    runs in the material)."""
-    polygon_rz = np.asarray(polygon_rz, float)
-    left_inside, left_first = _ray_hits(polygon_rz, origins, directions, +1.0)
-    right_inside, right_first = _ray_hits(polygon_rz, origins, directions, -1.0)
+    runs in the material). Both readings of `_ray_hits` (leaning left and right) from one set of pairs."""
+    crossings = _ray_crossings(np.asarray(polygon_rz, float), origins, directions)
+    left_inside, left_first = _hits(crossings, len(origins), +1.0)
+    right_inside, right_first = _hits(crossings, len(origins), -1.0)
     length = np.maximum(np.where(left_inside, left_first, 0.0), np.where(right_inside, right_first, 0.0))
     gap = np.minimum(np.where(left_inside, np.inf, left_first), np.where(right_inside, np.inf, right_first))
     return length, np.where(length > 0.0, 0.0, gap)

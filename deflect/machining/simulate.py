@@ -26,16 +26,20 @@ range of every headline figure.
 
 from __future__ import annotations
 
+import ctypes
 import math
 import multiprocessing
 import os
+import signal
+import sys
+import threading
+import time
 from concurrent.futures import ProcessPoolExecutor
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
 
 import numpy as np
 import shapely
-from scipy.interpolate import PchipInterpolator
 from scipy.spatial import cKDTree
 from shapely.geometry import Polygon
 from shapely.geometry.polygon import orient
@@ -72,11 +76,13 @@ KEY_STATIONS = 8                # compliance evaluations per cut, interpolated b
 # patch reads about 2 % more compliant on a 1.2 mm aluminium wall, well inside the force constants' spread.
 CONTACT_PATCH = Patch(length_mm=1.0, width_mm=2.0)
 ELEMENT_MM = 0.5                # meridian elements: within 0.3 % of a 4x finer mesh on thin walls, 2 % at junctions
-HARMONIC_TOLERANCE = 1e-2       # bound on the series' tail; the true truncation error is far smaller
+HARMONIC_TOLERANCE = 1e-2       # the harmonic sum's estimated error; measured, at most a third of it
 RUN_TURN_DEG = 10.0             # a path's stretch of constant normal ends where the normal has turned this much
 MET_TURN_DEG = 30.0             # where the path turns this much, the depth met is measured on the part as cut so far
 SHORTEST_RUN_SHARE = 0.1        # stretches shorter than this share of a cut get no key station of their own
 MAX_WORKERS = 4                 # processes for the key stations' shell models
+PR_SET_PDEATHSIG = 1            # prctl(2) option: the signal a Linux process gets when its parent dies
+PARENT_WATCH_S = 0.5            # how often a worker checks that the process that started it is still there
 KEEP_MM = 1e-6                  # the in-process part keeps its shape to this (far below any push-off)
 SLIVER_MM = 0.005               # half the thickness of the thinnest sliver the shell model is given
 SIMPLIFY_MM = 1e-4              # collinear station points dropped before the shell is derived
@@ -222,10 +228,47 @@ def interpolated(count: int, keys: np.ndarray, at_keys: np.ndarray) -> np.ndarra
         return np.broadcast_to(at_keys[0], (count, 3, 3)).copy()
     ratios = at_keys / normal[:, None, None]
     ratios[:, 0, 0] = np.log(normal)
-    values = PchipInterpolator(keys, ratios.reshape(len(keys), 9), axis=0)(stations).reshape(count, 3, 3)
+    values = monotone_cubic(keys, ratios.reshape(len(keys), 9), stations).reshape(count, 3, 3)
     normal_at = np.exp(values[:, 0, 0])
     values[:, 0, 0] = 1.0
     return normal_at[:, None, None] * values
+
+
+def monotone_cubic(x: np.ndarray, y: np.ndarray, at: np.ndarray) -> np.ndarray:
+    """(len(at), m) piecewise cubic Hermite interpolant of the columns of y (K, m) at x (K,, increasing),
+    with the slopes that keep it monotone where the data are (F. N. Fritsch, J. Butland, "A method for
+    constructing local monotone piecewise cubic interpolants", SIAM J. Sci. Stat. Comput. 5, 1984: at an
+    interior point the weighted harmonic mean of the neighbouring secants, 0 at a local extremum; at the ends
+    the three-point one-sided slope, limited to keep its sign and at most three secants (C. B. Moler,
+    "Numerical Computing with MATLAB", 2004, sec. 3.4). The same interpolant as scipy's PchipInterpolator,
+    whose import costs a tenth of a second of every run's start-up."""
+    x, y = np.asarray(x, float), np.asarray(y, float)
+    h = np.diff(x)
+    secant = np.diff(y, axis=0) / h[:, None]
+    slope = np.zeros_like(y)
+    if len(x) == 2:
+        slope[:] = secant
+    else:
+        w1, w2 = (2.0 * h[1:] + h[:-1])[:, None], (h[1:] + 2.0 * h[:-1])[:, None]
+        flat = (np.sign(secant[1:]) != np.sign(secant[:-1])) | (secant[1:] == 0.0) | (secant[:-1] == 0.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            harmonic = (w1 + w2) / (w1 / secant[:-1] + w2 / secant[1:])
+        slope[1:-1] = np.where(flat, 0.0, harmonic)
+        slope[0] = _end_slope(h[0], h[1], secant[0], secant[1])
+        slope[-1] = _end_slope(h[-1], h[-2], secant[-1], secant[-2])
+    i = np.clip(np.searchsorted(x, at, side="right") - 1, 0, len(x) - 2)
+    t = ((at - x[i]) / h[i])[:, None]
+    step = h[i][:, None]
+    # cubic Hermite basis on [x_i, x_i+1]
+    return (y[i] * (1.0 + 2.0 * t) * (1.0 - t) ** 2 + y[i + 1] * t * t * (3.0 - 2.0 * t)
+            + step * (slope[i] * t * (1.0 - t) ** 2 - slope[i + 1] * t * t * (1.0 - t)))
+
+
+def _end_slope(h0: float, h1: float, m0: np.ndarray, m1: np.ndarray) -> np.ndarray:
+    """One-sided three-point slope at an end of the data, kept monotone (see `monotone_cubic`)."""
+    d = ((2.0 * h0 + h1) * m0 - h0 * m1) / (h0 + h1)
+    d = np.where(np.sign(d) != np.sign(m0), 0.0, d)
+    return np.where((np.sign(m0) != np.sign(m1)) & (np.abs(d) > 3.0 * np.abs(m0)), 3.0 * m0, d)
 
 
 def plan_compliance(job, process: Process, settings: SimulationSettings, nominal_rz: np.ndarray,
@@ -373,7 +416,7 @@ def parallel_map(function, tasks: list[tuple]):
     """function(*task) for every task, on the machine's cores (each key station is its own shell model, so
     they are independent; the results come back in order, so the answer does not depend on the core count).
     Inside `kept_workers` the same worker processes serve every call."""
-    workers = min(len(tasks), os.cpu_count() or 1, MAX_WORKERS)
+    workers = min(len(tasks), free_cores(), MAX_WORKERS)
     if workers < 2:
         return [function(*task) for task in tasks]
     if _KEPT_POOL:
@@ -385,16 +428,36 @@ def parallel_map(function, tasks: list[tuple]):
 _KEPT_POOL: list = []
 
 
+def free_cores() -> int:
+    """Cores free for worker processes: the machine's, less the busy ones (the 1-minute load average).
+
+    Workers only pay on idle cores. On this project's shared 2-core machine (load 8 to 12) a pool of 2 gave
+    the demo no gain in wall-clock time and cost 10 to 20 % more CPU (forking, pickling each key station's
+    part); on idle cores the key stations, about three quarters of the demo's simulation, run side by side.
+    Results do not depend on it (they come back in order). IDLE_CORES_ONLY = False counts every core."""
+    cores = os.cpu_count() or 1
+    if not IDLE_CORES_ONLY:
+        return cores
+    try:
+        busy = os.getloadavg()[0]
+    except (OSError, AttributeError):   # no load average on this system: take the cores as free
+        busy = 0.0
+    return max(1, int(cores - busy))
+
+
+IDLE_CORES_ONLY = True
+
+
 def new_pool(workers: int) -> ProcessPoolExecutor:
     return ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"),
-                               initializer=one_blas_thread)
+                               initializer=start_worker, initargs=(os.getpid(),))
 
 
 @contextmanager
 def kept_workers():
     """One set of worker processes for many predictions (the remedy search predicts dozens of plans, most
     with a few new key stations each; starting workers for each costs more than the stations)."""
-    workers = min(os.cpu_count() or 1, MAX_WORKERS)
+    workers = min(free_cores(), MAX_WORKERS)
     if workers < 2 or _KEPT_POOL:
         yield
         return
@@ -407,11 +470,31 @@ def kept_workers():
         pool.shutdown()
 
 
-def one_blas_thread() -> None:
-    """In each worker: BLAS on one thread. The shell models' matrices are small, and workers that each start
-    a BLAS thread per core fight over the cores (tests/bench_predict.py: 15 s instead of 2.2 s on 2 cores
-    when simulate is called from a script that left the BLAS threads unlimited)."""
+def start_worker(parent_pid: int) -> None:
+    """In each worker: BLAS on one thread, and the worker ends with the process that started it.
+
+    BLAS: the shell models' matrices are small, and workers that each start a BLAS thread per core fight over
+    the cores (15 s instead of 2.2 s for the demo on 2 cores when simulate was called from a script that left
+    the BLAS threads unlimited). Ending with the parent: a prediction killed by SIGTERM or SIGKILL has no
+    chance to shut its pool down, and its idle workers, blocked on a queue whose other end they hold
+    themselves, were left running under init (issue 17, item 3)."""
     threadpool_limits(limits=1)
+    if sys.platform.startswith("linux"):
+        # the kernel kills this process the moment its parent dies (prctl(2), PR_SET_PDEATHSIG)
+        try:
+            ctypes.CDLL(None, use_errno=True).prctl(PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0)
+        except (OSError, AttributeError):
+            pass
+    if os.getppid() != parent_pid:  # the parent died before the signal was asked for
+        os._exit(1)
+    # everywhere (and as a second guard on Linux): a thread that ends the worker once it is orphaned
+    threading.Thread(target=watch_parent, args=(parent_pid,), daemon=True).start()
+
+
+def watch_parent(parent_pid: int) -> None:
+    while os.getppid() == parent_pid:
+        time.sleep(PARENT_WATCH_S)
+    os._exit(1)
 
 
 def key_compliance(job, current_rz: np.ndarray, path: CutPath, p: Pass, k: int, behind_mm: float,

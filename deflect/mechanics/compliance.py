@@ -28,10 +28,11 @@ from deflect.mechanics.shell.harmonic import HarmonicShell, ShellLoad
 from deflect.mechanics.shell.harmonic import compliance as harmonic_compliance
 from deflect.mechanics.shell.midsurface import ShellGeometry, shell_from_section
 
-DEFAULT_TOLERANCE = 1e-3          # relative truncation error of the harmonic series
+DEFAULT_TOLERANCE = 1e-3          # estimated relative error of the summed harmonic series
 CORNER_ANGLE_DEG = 45.0           # the patch stays on its face: it stops where the boundary turns more than this
 PATCH_POINTS = 8                  # Gauss-Legendre points along the patch (meridian direction)
 FAR_FROM_BOUNDARY_MM = 1.0        # an --at point farther than this (or 2 % of the part's size) is refused
+_GAUSS_NODES, _GAUSS_WEIGHTS = np.polynomial.legendre.leggauss(PATCH_POINTS)
 
 
 @dataclass(frozen=True)
@@ -114,53 +115,89 @@ class WallModel:
 
     def patch_span(self, arclength: float, normal: np.ndarray) -> tuple[float, float]:
         """Arclength interval of the patch: centred on the point, clipped where the face ends at a corner."""
+        low, high, problem = self.patch_spans(np.array([arclength]), np.asarray(normal, float)[None])
+        if problem[0]:
+            raise InputError("--patch", problem[0])
+        return float(low[0]), float(high[0])
+
+    def patch_spans(self, arclengths: np.ndarray, normals: np.ndarray) -> tuple[np.ndarray, np.ndarray, list[str]]:
+        """`patch_span` of many points: (low (P,), high (P,), the problem with each point's patch or "")."""
         half = self.patch.length_mm / 2.0
-        low, high = self.face_span(arclength, normal, half)
-        if self.strict_patch and min(arclength - low, high - arclength) < half:
-            # the whole patch must lie on the point's face: near a corner it slides away from the corner so
-            # that all A mm of it bear on the face (the load's centre moves by the overhang, under A/2)
-            face = self.face_span(arclength, normal, 1.5 * self.patch.length_mm)
-            if face[1] - face[0] < self.patch.length_mm * (1.0 - 1e-6):
-                raise InputError("--patch", f"the patch is {self.patch.length_mm:g} mm long but the face it sits "
-                                            f"on is only {face[1] - face[0]:.3g} mm between its corners; "
-                                            "give a shorter patch")
-            low = min(max(arclength - half, face[0]), face[1] - self.patch.length_mm)
-            high = low + self.patch.length_mm
-        return low, high
+        low, high = self.face_spans(arclengths, normals, half)
+        problems = [""] * len(arclengths)
+        if not self.strict_patch:
+            return low, high, problems
+        # the whole patch must lie on the point's face: near a corner it slides away from the corner so that all
+        # A mm of it bear on the face (the load's centre moves by the overhang, under A/2)
+        near = np.flatnonzero(np.minimum(arclengths - low, high - arclengths) < half)
+        if len(near):
+            face_low, face_high = self.face_spans(arclengths[near], normals[near], 1.5 * self.patch.length_mm)
+            short = face_high - face_low < self.patch.length_mm * (1.0 - 1e-6)
+            for k in np.flatnonzero(short):
+                problems[near[k]] = (f"the patch is {self.patch.length_mm:g} mm long but the face it sits on is only "
+                                     f"{face_high[k] - face_low[k]:.3g} mm between its corners; give a shorter patch")
+            low[near] = np.minimum(np.maximum(arclengths[near] - half, face_low), face_high - self.patch.length_mm)
+            high[near] = low[near] + self.patch.length_mm
+        return low, high, problems
 
     def face_span(self, arclength: float, normal: np.ndarray, limit_mm: float) -> tuple[float, float]:
         """Arclength interval of the face a point lies on, up to limit_mm each way: as far as the boundary
         turns less than CORNER_ANGLE_DEG from the point's normal."""
+        low, high = self.face_spans(np.array([arclength]), np.asarray(normal, float)[None], limit_mm)
+        return float(low[0]), float(high[0])
+
+    def face_spans(self, arclengths: np.ndarray, normals: np.ndarray, limit_mm: float) -> tuple[np.ndarray, np.ndarray]:
+        """`face_span` of many points (P,), (P, 2) at once: each side is walked in steps of step_mm (the last
+        one shortened to end at limit_mm) and stops before the first step whose normal has turned too far."""
         cos_corner = math.cos(math.radians(CORNER_ANGLE_DEG))
+        reach = np.minimum(self.step_mm * np.arange(1, math.ceil(limit_mm / self.step_mm) + 1), limit_mm)
+        before = np.r_[0.0, reach[:-1]]
         ends = []
         for sign in (-1.0, 1.0):
-            reach = 0.0
-            while reach < limit_mm:
-                step = min(self.step_mm, limit_mm - reach)
-                _, n_next = self.section.point_at(arclength + sign * (reach + step))
-                if np.dot(n_next, normal) < cos_corner:
-                    break
-                reach += step
-            ends.append(reach)
-        return arclength - ends[0], arclength + ends[1]
+            _, turned = self.section.points_at(arclengths[:, None] + sign * reach[None, :])
+            corner = np.einsum("pkj,pj->pk", turned.reshape(len(arclengths), len(reach), 2), normals) < cos_corner
+            ends.append(np.where(corner.any(axis=1), before[corner.argmax(axis=1)], limit_mm))
+        return arclengths - ends[0], arclengths + ends[1]
 
     def load_at(self, arclength: float, point: np.ndarray, normal: np.ndarray) -> ShellLoad:
         """The unit load spread over the patch, as load points on the shell's mid-surface."""
-        if self.strict_patch and (point[0] <= 0.0 or self.patch.width_mm / (2.0 * point[0]) > math.pi / 2.0):
-            raise InputError("--patch", f"the patch is {self.patch.width_mm:g} mm wide but the circumference at "
-                                        f"r = {point[0]:.3g} mm is only {2 * math.pi * point[0]:.3g} mm; "
-                                        "give a narrower patch or a point at a larger radius")
-        low, high = self.patch_span(arclength, normal)
-        nodes, gauss_weights = np.polynomial.legendre.leggauss(PATCH_POINTS)
-        arclengths = 0.5 * (low + high) + 0.5 * (high - low) * nodes
-        samples = [self.section.point_at(s) for s in arclengths]
-        points = np.array([p for p, _ in samples], float)
-        normals = np.array([n for _, n in samples], float)
+        return self.loads_at(np.array([arclength]), np.asarray(point, float)[None], np.asarray(normal, float)[None])[0]
+
+    def loads_at(self, arclengths: np.ndarray, points: np.ndarray, normals: np.ndarray,
+                 skip_unfit: bool = False) -> list[ShellLoad | None]:
+        """`load_at` for many points at once. With strict_patch, a point whose patch does not fit (wider than
+        half the circumference there, or longer than its face) raises InputError, the first such point's, or
+        with skip_unfit gets None."""
+        arclengths = np.asarray(arclengths, float)
+        radius = points[:, 0]
+        with np.errstate(divide="ignore"):
+            too_wide = (radius <= 0.0) | (self.patch.width_mm / (2.0 * radius) > math.pi / 2.0)
+        too_wide &= self.strict_patch  # the simulation's tool bears on what circumference there is
+        low, high, problems = self.patch_spans(arclengths, normals)
+        for k in range(len(arclengths)):
+            if too_wide[k] or problems[k]:
+                if skip_unfit:
+                    continue
+                if too_wide[k]:
+                    raise InputError("--patch", f"the patch is {self.patch.width_mm:g} mm wide but the circumference "
+                                                f"at r = {radius[k]:.3g} mm is only {2 * math.pi * radius[k]:.3g} mm; "
+                                                "give a narrower patch or a point at a larger radius")
+                raise InputError("--patch", problems[k])
+        fit = np.flatnonzero(~too_wide & np.array([not problem for problem in problems], bool))
+        if not len(fit):
+            return [None] * len(arclengths)
+        gauss = 0.5 * (low[fit] + high[fit])[:, None] + 0.5 * (high[fit] - low[fit])[:, None] * _GAUSS_NODES
+        at, outward = self.section.points_at(gauss)
         # uniform traction: each point carries a share proportional to the area it stands for, r ds
-        weights = gauss_weights * points[:, 0]
-        element, xi, arm = self.geometry.attach(points, -normals)
-        return ShellLoad(element=element, xi=xi, weight=weights / weights.sum(), arm_rz=arm,
-                         half_angle_rad=self.half_angle_rad(float(point[0])))
+        weights = (_GAUSS_WEIGHTS * at[:, 0].reshape(len(fit), PATCH_POINTS))
+        element, xi, arm = self.geometry.attach(at, -outward)
+        shape = (len(fit), PATCH_POINTS)
+        loads: list[ShellLoad | None] = [None] * len(arclengths)
+        for row, k in enumerate(fit):
+            loads[k] = ShellLoad(element=element.reshape(shape)[row], xi=xi.reshape(shape)[row],
+                                 weight=weights[row] / weights[row].sum(), arm_rz=arm.reshape(*shape, 2)[row],
+                                 half_angle_rad=self.half_angle_rad(float(radius[k])))
+        return loads
 
     def half_angle_rad(self, r_mm: float) -> float:
         """The patch's half-width around the circumference at radius r_mm, as an angle: W / (2 r), but at most
@@ -176,14 +213,11 @@ class WallModel:
     def at_boundary(self, arclengths: list[float], normals: list | None = None) -> list[PointCompliance]:
         """Compliance at boundary points given by their arclength, loaded along the boundary's own inward
         normal there, or along the given outward normals (a tool bearing on a corner of the cut)."""
-        placed = []
-        for i, s in enumerate(arclengths):
-            point, normal = self.section.point_at(s)
-            if normals is not None:
-                normal = normals[i]
-            point, normal = np.asarray(point, float), np.asarray(normal, float)
-            placed.append((self.load_at(s, point, normal), point, normal))
-        return self.solve(placed, arclengths)
+        arclengths = np.asarray(arclengths, float)
+        points, boundary_normals = self.section.points_at(arclengths)
+        normals = boundary_normals if normals is None else np.asarray(normals, float).reshape(-1, 2)
+        loads = self.loads_at(arclengths, points, normals)
+        return self.solve(list(zip(loads, points, normals)), arclengths)
 
     def solve(self, placed: list[tuple[ShellLoad, np.ndarray, np.ndarray]],
               arclengths: list[float] | None = None) -> list[PointCompliance]:
@@ -219,17 +253,13 @@ class WallModel:
         """Compliance along the whole boundary (not on the axis, not where the patch does not fit its face)."""
         spacing = spacing_mm or max(self.patch.length_mm / 2.0, self.section.perimeter() / 300.0)
         samples = self.section.sample(spacing)
-        placed, arclengths = [], []
-        for s, segment in zip(samples.arclength, samples.segment):
-            if self.section.on_axis(int(segment)):
-                continue
-            point, normal = (np.asarray(v, float) for v in self.section.point_at(float(s)))
-            try:
-                placed.append((self.load_at(float(s), point, normal), point, normal))
-            except InputError:
-                continue   # a face shorter than the patch (a thin rim face): no value there
-            arclengths.append(float(s))
-        if not placed:
+        surface = np.array([not self.section.on_axis(int(segment)) for segment in samples.segment], bool)
+        arclengths = samples.arclength[surface]
+        points, normals = self.section.points_at(arclengths)
+        loads = self.loads_at(arclengths, points, normals, skip_unfit=True)
+        # a face shorter than the patch (a thin rim face): no value there
+        fit = [k for k, load in enumerate(loads) if load is not None]
+        if not fit:
             raise InputError("--patch", f"a patch of {self.patch.length_mm:g} by {self.patch.width_mm:g} mm fits no "
                                         "face of the part; give a smaller patch")
-        return self.solve(placed, arclengths)
+        return self.solve([(loads[k], points[k], normals[k]) for k in fit], arclengths[fit])
