@@ -25,6 +25,8 @@ import click  # noqa: E402  (after the thread settings, before numpy is first im
 from deflect.errors import InputError, ModelError
 
 EXIT_BAD_INPUT = 2
+HTML_HELP = ("Also write the report as one self-contained HTML file: key figures, every table and figure, the "
+             "inputs and the cautions; it prints to clean A4 or Letter pages.")
 EXIT_CANNOT_WRITE = 1     # stdout could not be written: not the input's fault
 
 
@@ -308,8 +310,9 @@ def write_outputs(pred, csv_dir, plot_dir, csv_key: str = "--csv", plot_key: str
               help="Write the drawn and the predicted section (and the material left, magnified) as a DXF drawing.")
 @click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
 @names_the_job
-def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, calibration_file):
+def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet, calibration_file, html_file):
     """Machine the part in JOB_FILE pass by pass, with the wall giving way under the tool.
 
     Reports the push-off at every station, the material left on each finished surface, the mass gain over
@@ -330,6 +333,7 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet,
         csv_temp = outputs.folder(csv_dir, "--csv", CSV_FILES) if csv_dir else None
         plot_temp = outputs.folder(plot_dir, figures_option, PREDICT_FIGURES) if plot_dir else None
         dxf_temp = outputs.file(dxf_file, "--dxf") if dxf_file else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         pred, judged, rules, job = run_prediction(job_file, show_progress=not (quiet or as_json),
                                                   calibration_file=calibration_file)
         write_outputs(pred, csv_temp, plot_temp, plot_key=figures_option)
@@ -339,6 +343,10 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet,
                 prediction_dxf(pred, job.section, dxf_temp)
             except OSError as exc:
                 raise InputError("--dxf", f"cannot write {dxf_file} ({exc.strerror or exc})") from None
+        if html_temp:
+            from deflect.output.html_chapters import predict_chapter
+            write_html(html_temp, pred.title, "machining prediction", [job_file],
+                       [predict_chapter(pred, judged.checks, judged.warnings, rules)])
         written = outputs.commit()
     if as_json:
         payload = {**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)}
@@ -353,7 +361,7 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet,
 
 @cli.command()
 @click.option("--out", "out_dir", default="deflect-demo", show_default=True,
-              help="Folder for the demo's report, JSON, CSV files and figures.")
+              help="Folder for the demo's report (text and HTML), JSON, CSV files and figures.")
 def demo(out_dir):
     """Predict the shipped example: a thin-walled aluminium instrument housing (data/examples/housing.toml)."""
     from pathlib import Path
@@ -367,7 +375,7 @@ def demo(out_dir):
     from deflect.output.rules_report import rules_summary
 
     job_file = str(library_path().parent / "examples" / "housing.toml")
-    names = ("report.txt", "prediction.json", *(f"csv/{n}" for n in CSV_FILES),
+    names = ("report.txt", "report.html", "prediction.json", *(f"csv/{n}" for n in CSV_FILES),
              *(f"figures/{n}" for n in PREDICT_FIGURES))
     with Outputs() as outputs:
         folder = outputs.folder(out_dir, "--out", names)
@@ -381,6 +389,9 @@ def demo(out_dir):
         except OSError as exc:
             raise InputError("--out", f"cannot write into {out_dir}: {exc.strerror or exc}") from None
         write_outputs(pred, folder / "csv", folder / "figures", "--out", "--out")
+        from deflect.output.html_chapters import predict_chapter
+        write_html(folder / "report.html", pred.title, "machining prediction", [job_file],
+                   [predict_chapter(pred, judged.checks, judged.warnings, rules)], key="--out")
         written = outputs.commit()
     out(report)
     out(f"\nreport, JSON, CSV and figures written to {Path(out_dir).resolve()}:")
@@ -397,8 +408,9 @@ def demo(out_dir):
 @click.option("--plot-at", "plot_at", default=None, metavar="SURFACE,Z",
               help="The section --plot draws: od or id and z in the job's units (default: the least round one).")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
 @names_the_job
-def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
+def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
     """Work holding: the grip window and the shape the grip leaves on surfaces finished in the chuck.
 
     From [holding]: the least grip that holds the heaviest cut (friction, safety factor, the jaws' loss of grip
@@ -421,6 +433,7 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
     outputs = Outputs()
     try:
         figure = outputs.file(plot_file, "--plot") if plot_file else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         study = clamp_study(job)
         profile = None
         if plot_file:
@@ -441,6 +454,8 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
             profile = released_profile(study.given, index)
             from deflect.output.figures import released_shape_plot
             released_shape_plot(profile, job.title, figure)
+        if html_temp:
+            write_html(html_temp, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
         outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -456,6 +471,8 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
         out(units_note(job.units) + clamp_report(study))
         if profile is not None:
             out(f"released shape drawn in {plot_file}")
+        if html_file:
+            out(f"wrote {html_file}")
 
 
 @cli.command()
@@ -468,40 +485,48 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file):
                    "(a few more predictions per wall).")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
 @click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@click.option("--apply", "apply_number", type=int, default=None, metavar="N",
+              help="Write option N's changes into a copy of the job (--out), comments and layout kept.")
+@click.option("--out", "out_file", default=None, metavar="NEW.toml",
+              help="The job file --apply writes (a new file; the job itself is never changed).")
 @names_the_job
-def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
+def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_file, apply_number, out_file):
     """Remedies that hold the drawing in JOB_FILE's [tolerance], ranked by cycle time.
 
     Tries feeds, spring cuts, the finishing allowance, the job's other tools, a wear offset, a compensated
     finishing contour and the order of the finishing passes; the first line is the cheapest that meets
     everything. Each option's figures come from a full prediction of the job with its changes written in.
     """
-    from deflect.decisions.chatter_free import marked_for_chatter
     from deflect.decisions.rules import check_rules
-    from deflect.decisions.tune import tune as search_remedies
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.targets import process_from_job
     from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_summary
     from deflect.output.tune_report import tune_payload, tune_report
 
+    check_apply(job_file, apply_number, out_file)
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     outputs = Outputs()
     try:
         contour_temp = outputs.folder(contour_dir, "--contour") if contour_dir else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        out_temp = outputs.file(out_file, "--out") if out_file else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         surface_of = {p.name: p.surface for p in process.passes}
-        with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
-                               show_eta=False, hidden=quiet or as_json) as bar:
-            result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
-            result = marked_for_chatter(job, result)   # chatter: a limit with a given damping, else a note
-            bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+        result = searched_with_progress(job, hidden=quiet or as_json)
         walls = revise_walls_of(job_file, job, result, quiet or as_json) if design else None
         if contour_temp:
             write_contours(job, result, contour_temp)
         rules = check_rules(job, process)
+        if out_temp:
+            apply_option(job_file, job, result, apply_number, out_file, out_temp, calibration_file)
+        if html_temp:
+            from deflect.output.html_chapters import tune_chapter
+            write_html(html_temp, job.title, "remedies", [job_file],
+                       [tune_chapter(result, surface_of, job.units, walls, rules)])
         written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -510,6 +535,8 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
         outputs.discard()
     if as_json:
         payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
+        if out_file:
+            payload["applied"] = {"rank": apply_number, "file": str(out_file)}
         state_calibration(job, payload)
         emit_json(payload)
     else:
@@ -526,8 +553,9 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file):
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
 @click.option("--figures", "figures_dir", default=None,
               help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
 @names_the_job
-def chatter(job_file, pass_name, as_json, figures_dir):
+def chatter(job_file, pass_name, as_json, figures_dir, html_file):
     """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
 
     The wall's modes as held and as cut (the stock still ahead of the tool), the regenerative stability of each
@@ -547,17 +575,22 @@ def chatter(job_file, pass_name, as_json, figures_dir):
     outputs = Outputs()
     try:
         figures_temp = outputs.folder(figures_dir, "--figures") if figures_dir else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         dynamics = dynamics_from_job(job.tables)
         require_cutting_constants(job.material)
         process = process_from_job(job)
         warn(job.warnings + process.warnings, job_file)
-        study = chatter_study(job, process, dynamics, pass_name, with_lobes=figures_dir is not None)
+        study = chatter_study(job, process, dynamics, pass_name,
+                              with_lobes=figures_dir is not None or html_file is not None)
         if figures_temp:
             from deflect.output.chatter_figures import chatter_figures
             try:
                 chatter_figures(study, figures_temp)
             except OSError as exc:
                 raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
+        if html_temp:
+            from deflect.output.html_chapters import chatter_chapter
+            write_html(html_temp, study.title, "chatter check", [job_file], [chatter_chapter(study)])
         written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
@@ -570,6 +603,20 @@ def chatter(job_file, pass_name, as_json, figures_dir):
         out(chatter_report(study))
         for path in written:
             out(f"wrote {path}")
+
+
+def searched_with_progress(job, hidden: bool):
+    """The remedy search (`deflect.decisions.tune`) with a progress bar on stderr, its options marked for
+    chatter (`deflect.decisions.chatter_free`: a limit with a given damping, else a note)."""
+    from deflect.decisions.chatter_free import marked_for_chatter
+    from deflect.decisions.tune import tune as search_remedies
+
+    with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
+                           show_eta=False, hidden=hidden) as bar:
+        result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+        result = marked_for_chatter(job, result)
+        bar.update(SEARCH_STEPS_SHOWN - bar.pos)
+    return result
 
 
 def short_of_the_end(bar, length: int):
@@ -641,8 +688,9 @@ def write_contours(job, result, folder: str) -> list:
 @cli.command()
 @click.argument("job_file")
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
 @names_the_job
-def rules(job_file, as_json):
+def rules(job_file, as_json, html_file):
     """Design rules the part in JOB_FILE must meet: thinnest wall against the material's least, internal
     corners sharper than the nose that finishes them (with the material the nose leaves), stretches the
     finishing insert cannot reach, and what the drawing itself holds (splines, tiny segments, near-tangent
@@ -650,20 +698,29 @@ def rules(job_file, as_json):
     from deflect.decisions.rules import check_rules
     from deflect.job.reader import read_job
     from deflect.machining.targets import process_from_job
+    from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_report
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
-    try:
-        process = process_from_job(job) if "pass" in job.tables else None
-        result = check_rules(job, process)
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
+    with Outputs() as outputs:
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        try:
+            process = process_from_job(job) if "pass" in job.tables else None
+            result = check_rules(job, process)
+        except (InputError, ModelError) as exc:
+            exc.file = exc.file or job_file
+            raise
+        if html_temp:
+            from deflect.output.html_chapters import rules_chapter
+            write_html(html_temp, job.title, "design rules", [job_file], [rules_chapter(result)])
+        written = outputs.commit()
     if as_json:
         emit_json(rules_payload(result))
     else:
         out(rules_report(result, job.title))
+        for path in written:
+            out(f"wrote {path}")
 
 
 @cli.command(name="import")
@@ -732,8 +789,9 @@ def import_drawing(drawing_file, units, layer, axis, material, out_file):
               help="For the next part, run the whole remedy search of `deflect tune` with the calibrated constants "
                    "(its slowest step: tens of seconds) instead of the wear offsets alone.")
 @click.option("--quiet", is_flag=True, help="No progress bar on stderr.")
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
 @names_the_job
-def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, search, quiet):
+def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, search, quiet, html_file):
     """A measured first article (MEASURED_FILE) of JOB_FILE: what caused its extra material, the force constants
     calibrated on it, and what to change for the next part.
 
@@ -764,6 +822,7 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
         # the outputs are checked before the fit: a name taken by a file of the user's is refused at once
         figures_temp = outputs.folder(figure_dir, "--figures", ("first-article.png",)) if figure_dir else None
         save_temp = outputs.file(save_file, "--save") if save_file else None
+        html_temp = outputs.file(html_file, "--html") if html_file else None
         require_cutting_constants(job.material)
         process = process_from_job(job)
         warn(process.warnings, job_file)
@@ -782,18 +841,278 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
                 save_temp.write_text(calibration_toml(result.calibration), encoding="utf-8")
             except OSError as exc:
                 raise InputError("--save", f"cannot write {save_file} ({exc.strerror or exc})") from None
+        surface_of = {p.name: p.surface for p in process.passes}
+        if html_temp:
+            from deflect.output.html_chapters import explain_chapter
+            write_html(html_temp, result.title, "first article explained", [job_file, measured_file],
+                       [explain_chapter(result, remedies, surface_of, job.units, search)])
         written = outputs.commit()
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise
     finally:
         outputs.discard()
-    surface_of = {p.name: p.surface for p in process.passes}
     if as_json:
         emit_json(explain_payload(result, remedies, surface_of, job.units, search,
                                   str(save_file) if save_file else None))
     else:
         out(explain_report(result, remedies, surface_of, job.units, search))
+        for path in written:
+            out(f"wrote {path}")
+
+
+# ---------------------------------------------------------------------------------------------------
+# the HTML report, a remedy written into a job
+
+def write_html(path, title: str, what: str, job_files: list, chapters: list, notes=(), remarks=(),
+               key: str = "--html") -> None:
+    """The chapters as one HTML report (`deflect.output.html_report`), written to `path`: the staging place
+    `Outputs.file` gave for the option `key`, moved into place with the command's other files."""
+    from pathlib import Path
+
+    from deflect import __version__
+    from deflect.output.html_report import JobSource, Report, render, report_date
+
+    jobs = tuple(JobSource(Path(f).name, Path(f).read_text(encoding="utf-8", errors="replace")) for f in job_files)
+    report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), tuple(notes), tuple(remarks))
+    try:
+        Path(path).write_text(render(report), encoding="utf-8")
+    except OSError as exc:
+        raise InputError(key, f"cannot write the report ({exc.strerror or exc})") from None
+
+
+def clamp_chapter_of(study):
+    """The work-holding chapter, with the released shape of the least round section finished in the chuck."""
+    from deflect.machining.grip import released_profile
+    from deflect.output.html_chapters import clamp_chapter
+
+    index = study.given.worst
+    return clamp_chapter(study, released_profile(study.given, index) if index is not None else None)
+
+
+def explained(job_file: str, measured_file: str):
+    """The first article's chapter and JSON for `deflect report --measured` (`deflect explain` without --search:
+    the next part's wear offsets with the calibrated constants)."""
+    from datetime import date
+
+    from deflect.decisions.first_article import explain as explain_first_article
+    from deflect.decisions.first_article import next_part
+    from deflect.job.materials import require_cutting_constants
+    from deflect.job.measured import read_measured
+    from deflect.job.reader import read_job
+    from deflect.machining.simulate import kept_workers
+    from deflect.machining.targets import process_from_job
+    from deflect.output.explain_report import explain_payload
+    from deflect.output.html_chapters import explain_chapter
+
+    job = read_job(job_file, calibrated=False)
+    measured = read_measured(measured_file, job)
+    try:
+        require_cutting_constants(job.material)
+        process = process_from_job(job)
+        memo: dict = {}
+        with kept_workers():
+            result = explain_first_article(job, process, measured, "tool", memo, date=date.today().isoformat())
+            remedies = next_part(job, result.calibration, memo, False, None)
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    surface_of = {p.name: p.surface for p in process.passes}
+    return (explain_chapter(result, remedies, surface_of, job.units, False),
+            explain_payload(result, remedies, surface_of, job.units, False, None))
+
+
+def chatter_of(job):
+    """The chatter study of every finishing pass, with its lobes (`deflect.machining.chatter`)."""
+    from deflect.job.dynamics import dynamics_from_job
+    from deflect.machining.chatter import chatter_study
+    from deflect.machining.targets import process_from_job
+
+    return chatter_study(job, process_from_job(job), dynamics_from_job(job.tables), None, with_lobes=True)
+
+
+def check_apply(job_file: str, number, out_file) -> None:
+    """Before the search: --apply and --out come together, N counts from 1, the new job is not the job itself
+    (whether it can be written, `Outputs.file` checks)."""
+    from pathlib import Path
+
+    if number is None and out_file is None:
+        return
+    if number is None:
+        raise InputError("--out", "writes the job with an option's changes: give the option with --apply N")
+    if out_file is None:
+        raise InputError("--apply", "give the file to write the changed job to with --out NEW.toml")
+    if number < 1:
+        raise InputError("--apply", f"options are numbered from 1 as the table ranks them, got {number}")
+    if Path(out_file).resolve() == Path(job_file).resolve():
+        raise InputError("--out", "is the job file itself; write the changed job to a new file")
+
+
+def apply_option(job_file: str, job, result, number: int, out_file, path, calibration_file=None) -> None:
+    """Write option `number`'s changes into a copy of the job file (`deflect.output.remedy_job`), with the
+    calibration given on the command line, if any, named in it: to `path`, the staging place of `out_file`."""
+    from pathlib import Path
+
+    from deflect import __version__
+    from deflect.output.html_report import report_date
+    from deflect.output.remedy_job import job_text_with, written_header
+    from deflect.output.tune_report import change_record
+
+    if number > len(result.options):
+        found = f"options 1 to {len(result.options)}" if result.options else "no option"
+        raise InputError("--apply", f"there is no option {number}: the search found {found}")
+    option = result.options[number - 1]
+    if not option.meets:
+        warn([f"option {number} does not hold the drawing ({'; '.join(option.broken) or 'see the table'})"],
+             job_file)
+    label = f"deflect tune option {number}"
+    calibration = Path(calibration_file) if calibration_file else None
+    text = job_text_with(Path(job_file).read_text(encoding="utf-8"),
+                         [change_record(c, job.units) for c in option.changes], label, job.units,
+                         Path(job_file).parent, Path(out_file).parent, calibration)
+    try:
+        Path(path).write_text(written_header(label, Path(job_file).name, __version__, report_date()) + text,
+                              encoding="utf-8")
+    except OSError as exc:
+        raise InputError("--out", f"cannot write {out_file} ({exc.strerror or exc})") from None
+
+
+@cli.command()
+@click.argument("job_file")
+@click.option("--html", "html_file", required=True,
+              help="The HTML file to write: one self-contained page that prints to clean A4 or Letter pages.")
+@click.option("--json", "as_json", is_flag=True,
+              help="Also print one JSON object: each part's JSON under its command's name (predict, rules, clamp, "
+                   "chatter, tune).")
+@click.option("--measured", "measured_file", default=None,
+              help="A measured first article of the job (as `deflect explain` reads it): its explanation is added.")
+@click.option("--quiet", is_flag=True, help="No progress on stderr.")
+@names_the_job
+def report(job_file, html_file, measured_file, as_json, quiet):
+    """One report of JOB_FILE to hand over, as a single HTML file.
+
+    The prediction and the design rules; with [holding], the work holding; with [dynamics], the chatter check;
+    with [tolerance], the remedies ranked by cycle time; with --measured, the first article explained (the other
+    parts keep the job's constants as given; the first article's part gives them calibrated). Key figures and
+    cautions first, then the inputs, every table and figure of those commands, and the job file as given; the
+    tool's version and the date. No scripts and nothing fetched: it reads and prints anywhere.
+    """
+    from deflect.output.files import Outputs
+
+    outputs = Outputs()
+    html_temp = outputs.file(html_file, "--html")       # checked before any work
+    try:
+        chapters, payload, remarks = report_parts(job_file, measured_file, quiet or as_json)
+        sources = [job_file, measured_file] if measured_file else [job_file]
+        write_html(html_temp, payload["title"], "report", sources, chapters, remarks=remarks)
+        outputs.commit()
+    finally:
+        outputs.discard()
+    if as_json:
+        emit_json(payload)
+    else:
+        out(f"wrote {html_file}: " + ", ".join(chapter.title.lower() for chapter in chapters))
+
+
+def report_parts(job_file: str, measured_file: str | None, quiet: bool):
+    """The chapters, the JSON and the remarks of `deflect report` (its docstring)."""
+    from deflect.job.materials import require_cutting_constants
+    from deflect.machining.grip import clamp_study
+    from deflect.machining.targets import process_from_job
+    from deflect.output.chatter_report import chatter_payload
+    from deflect.output.clamp_report import clamp_payload
+    from deflect.output.html_chapters import chatter_chapter, predict_chapter, rules_chapter, tune_chapter
+    from deflect.output.predict_json import prediction_payload
+    from deflect.output.rules_report import rules_payload
+    from deflect.output.tune_report import tune_payload
+
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not quiet)
+    chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
+    payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
+               "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
+    remarks = []
+    if job.calibration is not None:
+        from deflect.output.explain_report import calibration_note
+        remarks.append(calibration_note(job.calibration))
+    if measured_file:
+        chapter, payload["explain"] = explained(job_file, measured_file)
+        chapters.append(chapter)
+    try:
+        if "holding" in job.tables:
+            study = clamp_study(job)
+            chapters.append(clamp_chapter_of(study))
+            payload["clamp"] = clamp_payload(study)
+        else:
+            remarks.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no "
+                           "work-holding study is made.")
+        if "dynamics" in job.tables:
+            study = chatter_of(job)
+            chapters.append(chatter_chapter(study))
+            payload["chatter"] = chatter_payload(study)
+        else:
+            remarks.append("No [dynamics] in the job: the chatter check (which needs the wall's damping) is left out; "
+                           "deflect chatter JOB --html FILE runs it with a recalled damping.")
+        if "tolerance" in job.tables:
+            require_cutting_constants(job.material)
+            surface_of = {p.name: p.surface for p in process_from_job(job).passes}
+            result = searched_with_progress(job, hidden=quiet)
+            chapters.append(tune_chapter(result, surface_of, job.units))
+            payload["tune"] = tune_payload(result, surface_of, job.units)
+        else:
+            remarks.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
+    except (InputError, ModelError) as exc:
+        exc.file = exc.file or job_file
+        raise
+    return chapters, payload, remarks
+
+
+@cli.command()
+@click.argument("job_a")
+@click.argument("job_b")
+@click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the table.")
+@click.option("--html", "html_file", default=None, help=HTML_HELP)
+@click.option("--calibration", "calibration_file", default=None,
+              help="Read JOB_B with this first article's calibration (as `deflect explain --save` writes it): a job "
+                   "against the same job calibrated.")
+@click.option("--quiet", is_flag=True, help="No progress lines on stderr.")
+def compare(job_a, job_b, as_json, html_file, calibration_file, quiet):
+    """Two jobs side by side: JOB_A and JOB_B predicted, and the change from A to B.
+
+    Mass and gain, the most material left, cycle time, the OD and ID diameters and the wall at the held end,
+    middle and free end, each toleranced feature in or out, and the two material-left profiles overlaid (with
+    --html). Typically a job and the same job with a remedy written in (`deflect tune --apply`); two different
+    parts (a wall revision) may be compared too, and the report says so at the top.
+    """
+    from pathlib import Path
+
+    from deflect.decisions.compare import Compared
+    from deflect.decisions.compare import compare as compare_jobs
+    from deflect.job.reader import read_job
+    from deflect.output.compare_report import compare_payload, compare_report, part_words
+    from deflect.output.files import Outputs
+
+    with Outputs() as outputs:
+        html_temp = outputs.file(html_file, "--html") if html_file else None
+        read_job(job_a)                       # both read and checked before either is predicted
+        read_calibrated_job(job_b, calibration_file)
+        sides = []
+        for job_file, calibration in ((job_a, None), (job_b, calibration_file)):
+            if not quiet and not as_json:
+                click.echo(f"predicting {job_file}", err=True)
+            pred, judged, _, job = run_prediction(job_file, show_progress=False, calibration_file=calibration)
+            sides.append(Compared(Path(job_file).name, pred, judged.checks, job.calibration))
+        comparison = compare_jobs(*sides)
+        if html_temp:
+            from deflect.output.html_chapters import compare_chapter
+            a, b = comparison.a.prediction, comparison.b.prediction
+            title = a.title if a.title == b.title else f"{a.title} against {b.title}"
+            write_html(html_temp, title, "comparison of two jobs", [job_a, job_b], [compare_chapter(comparison)],
+                       (part_words(comparison),))
+        written = outputs.commit()
+    if as_json:
+        emit_json(compare_payload(comparison))
+    else:
+        out(compare_report(comparison))
         for path in written:
             out(f"wrote {path}")
 

@@ -1,8 +1,8 @@
 """The interface page and the code cannot drift apart (issue 10.8: one name per quantity, a unit on every number).
 
 Every command that prints JSON is run (section, compliance, predict (also calibrated), clamp, tune with --design,
-chatter, explain), with every
-CSV output (predict --csv, tune --contour); every JSON key and CSV column is listed, and:
+chatter, explain, compare; report's JSON is theirs nested), with every CSV output (predict --csv, tune --contour);
+every JSON key and CSV column is listed, and:
 * each key or column that holds a number ends in a unit suffix from INTERFACE.md's "Unit suffixes" table, or
   sits in an object whose key does (`force_N.cutting`), or is in its "Keys without a unit suffix" table;
 * each key and column is named somewhere on the page.
@@ -94,6 +94,7 @@ def outputs(tmp_path_factory) -> dict:
         "clamp": ["clamp", ring],
         "tune": ["tune", ring, "--quiet", "--design", "--contour", str(folder / "contour")],
         "chatter": ["chatter", housing],
+        "compare": ["compare", ring, ring, "--quiet"],
     }
     data = {}
     for name, args in runs.items():

@@ -6,6 +6,7 @@
     chatter_free.py the ranked remedies checked for chatter (a limit with a given damping, a note otherwise)
     rules.py        design rules: thinnest wall, internal corners against the nose, reach, the drawing
     first_article.py  a measured part: force factors, size errors and grip fitted, its mass gain by cause
+    compare.py      two predictions side by side: the same part or two, and what differs
 
 May import every room below: `deflect.errors`, `geometry`, `job`, `mechanics`, `machining`.
 """

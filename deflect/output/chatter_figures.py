@@ -1,6 +1,7 @@
 """Figures of `deflect chatter`: the lobes of each pass with its operating points, and the finished part's first
-mode shapes. Drawing only; the figures come from `deflect.machining.chatter`. matplotlib is imported inside the
-functions (file-only Agg backend).
+mode shapes. Drawing only; the figures come from `deflect.machining.chatter`. Each is drawn by a `*_figure`
+function (as SVG for the HTML report through `figures.svg_text`) and written as PNG by its `*_plot`. matplotlib
+is imported inside the functions (file-only Agg backend).
 """
 
 from __future__ import annotations
@@ -10,7 +11,7 @@ from pathlib import Path
 import numpy as np
 
 from deflect.machining.chatter import ChatterStudy, PassChatter
-from deflect.output.figures import DPI
+from deflect.output.figures import DPI, plain
 
 SHAPE_SHARE = 0.12               # the largest displacement drawn as this share of the part's size
 AROUND_POINTS = 361
@@ -61,21 +62,33 @@ def _lobe_panel(ax, lobes, p: PassChatter, legend: bool) -> None:
 
 
 def lobes_plot(p: PassChatter, title: str, path) -> None:
+    _save(lobes_figure(p, title), path)
+
+
+def _save(fig, path) -> None:
+    fig.tight_layout()
+    fig.savefig(path, dpi=DPI)
+    _pyplot().close(fig)
+
+
+def lobes_figure(p: PassChatter, title: str):
     """The lobes of the pass's worst station over the machine's speeds, and a close-up around the widest stable
     window (or the pass's speed)."""
     plt = _pyplot()
     fig, (top, bottom) = plt.subplots(2, 1, figsize=(10, 9))
     _lobe_panel(top, p.lobes, p, legend=True)
-    top.set_title(f"{title}: pass '{p.name}', {p.tool}, feed {p.feed_mm:g} mm/rev")
+    top.set_title(f"{plain(title)}: pass '{plain(p.name)}', {plain(p.tool)}, feed {p.feed_mm:g} mm/rev")
     _lobe_panel(bottom, p.zoom, p, legend=False)
     what = "the widest stable window" if p.stable_speeds_rpm else "the pass's speed"
     bottom.set_title(f"close-up around {what}", fontsize=10)
-    fig.tight_layout()
-    fig.savefig(path, dpi=DPI)
-    plt.close(fig)
+    return fig
 
 
 def mode_shapes_plot(study: ChatterStudy, path) -> None:
+    _save(mode_shapes_figure(study), path)
+
+
+def mode_shapes_figure(study: ChatterStudy):
     """The first modes of the finished part: the mid-surface in the half-section, at rest and deflected, and the
     waves around the circumference at the node that moves most."""
     plt = _pyplot()
@@ -107,10 +120,9 @@ def mode_shapes_plot(study: ChatterStudy, path) -> None:
         top.set_aspect("equal")
         top.set_title(f"around, at z = {nodes[k, 1]:.1f} mm", fontsize=9)
         top.axis("off")
-    fig.suptitle(f"{study.title}: first modes of the finished part as held (deflection exaggerated)", fontsize=11)
-    fig.tight_layout()
-    fig.savefig(path, dpi=DPI)
-    plt.close(fig)
+    fig.suptitle(f"{plain(study.title)}: first modes of the finished part as held (deflection exaggerated)",
+                 fontsize=11)
+    return fig
 
 
 def chatter_figures(study: ChatterStudy, folder) -> list[Path]:

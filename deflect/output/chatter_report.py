@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 
 from deflect.machining.chatter import ChatterStudy, PassChatter, StationChatter
-from deflect.output.tables import grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid
 
 MODES_SHOWN = 12
 WINDOWS_SHOWN = 8
@@ -56,17 +56,17 @@ def damping_line(study: ChatterStudy) -> str:
     return f"Modal damping: {100 * study.damping:.2g} % of critical ({source}){measured}"
 
 
-def modes_table(study: ChatterStudy) -> str:
+def modes_table(study: ChatterStudy) -> Grid:
     rows = [[str(m.n), str(m.m), f"{m.frequency_hz:.0f}", f"{m.model_hz:.0f}", f"{100 * m.damping:.2g}",
              "tap test" if m.measured else "model"] for m in study.modes[:MODES_SHOWN]]
     header = ["n", "m", "frequency Hz", "model Hz", "damping %", "from"]
-    more = f"\n({len(study.modes) - MODES_SHOWN} more up to {study.modes[-1].frequency_hz:.0f} Hz)" \
-        if len(study.modes) > MODES_SHOWN else ""
-    return ("Modes of the finished part as held (n waves around, m order along the wall):\n" + grid(header, rows)
-            + more)
+    more = ((f"{len(study.modes) - MODES_SHOWN} more up to {study.modes[-1].frequency_hz:.0f} Hz",)
+            if len(study.modes) > MODES_SHOWN else ())
+    return column_grid("Modes of the finished part as held (n waves around, m order along the wall):", header, rows,
+                       more)
 
 
-def passes_table(study: ChatterStudy) -> str:
+def passes_table(study: ChatterStudy) -> Grid:
     header = ["pass", "verdict", "depth mm", "spindle speed 1/min", "limit depth mm", "margin", "worst at r, z mm",
               "chatter Hz"]
     rows = []
@@ -76,8 +76,8 @@ def passes_table(study: ChatterStudy) -> str:
         frequency = f"{w.chatter_frequency_hz:.0f}" if math.isfinite(w.chatter_frequency_hz) else "-"
         rows.append([p.name, verdict(p), f"{w.depth_mm:.3g}", speed_text(w.speed_rpm), limit_text(w),
                      f"{margin:.2f}" if math.isfinite(margin) else "-", f"{w.r_mm:.2f}, {w.z_mm:.2f}", frequency])
-    return ("Stability of each pass at its worst station (margin: limit over the cut, below 1 chatters):\n"
-            + grid(header, rows))
+    return column_grid("Stability of each pass at its worst station (margin: limit over the cut, below 1 chatters):",
+                       header, rows)
 
 
 def pass_notes(p: PassChatter) -> list[str]:
@@ -94,15 +94,21 @@ def pass_notes(p: PassChatter) -> list[str]:
 
 
 def chatter_report(study: ChatterStudy) -> str:
-    blocks = [f"Chatter check: {study.title} ({study.material})",
-              damping_line(study) + f"\nSpindle speeds scanned: {speed_text(study.speed_range_rpm[0])} to "
-              f"{speed_text(study.speed_range_rpm[1])} /min (the machine's limit)",
+    """The whole report as the terminal prints it."""
+    return f"Chatter check: {study.title} ({study.material})\n\n" + blocks_text(chatter_blocks(study))
+
+
+def chatter_blocks(study: ChatterStudy) -> list[Grid | Text]:
+    """The report's tables and paragraphs: damping and speeds scanned, the modes, each pass's stability and
+    what to do, warnings, what is not modelled, caution."""
+    blocks = [Text((damping_line(study), f"Spindle speeds scanned: {speed_text(study.speed_range_rpm[0])} to "
+                    f"{speed_text(study.speed_range_rpm[1])} /min (the machine's limit)")),
               modes_table(study), passes_table(study),
-              "\n".join(line for p in study.passes for line in pass_notes(p))]
+              Text(tuple(line for p in study.passes for line in pass_notes(p)))]
     if study.warnings:
-        blocks.append("\n".join(f"warning: {w}" for w in study.warnings))
-    blocks += [LEFT_OUT, CAUTION]
-    return "\n\n".join(blocks)
+        blocks.append(Text(tuple(f"warning: {w}" for w in study.warnings), "warning"))
+    blocks += [Text((LEFT_OUT,)), Text((CAUTION,), "caution")]
+    return blocks
 
 
 def station_record(s: StationChatter) -> dict:

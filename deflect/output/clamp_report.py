@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from deflect.machining.grip import Clamped, ClampStudy
-from deflect.output.tables import grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid, pairs_grid
 
 SURFACE_NAMES = {"od": "OD", "id": "ID"}
 TABLE_ROWS_PER_SURFACE = 6     # rows of the roundness table per surface (evenly spread, the worst kept)
@@ -26,13 +26,6 @@ def _force(value) -> str:
 
 def _newtons(value) -> str:
     return "-" if value is None else f"{value:.0f} N"
-
-
-def _pairs(rows: list[tuple[str, str]], title: str) -> str:
-    """Label and value, both left-aligned (the values here are sentences, not numbers)."""
-    width = max(len(label) for label, _ in rows)
-    lines = [f"{label:<{width}}   {value}" for label, value in rows]
-    return "\n".join([title, "-" * max(len(title), max(len(line) for line in lines)), *lines])
 
 
 def _left(cells: list[str]) -> list[str]:
@@ -156,7 +149,10 @@ def _shown_rows(clamped: Clamped, side: str) -> np.ndarray:
     return np.array(sorted(chosen, key=lambda i: clamped.surfaces.points_rz[i, 1]))
 
 
-def surfaces_table(clamped: Clamped) -> str:
+SURFACES_TITLE = "Surfaces finished in the chuck, after release (roundness: radial peak to valley around the part):"
+
+
+def surfaces_table(clamped: Clamped) -> Grid | Text:
     s = clamped.surfaces
     header = ["surface", "z mm", "dia. mm", "cut by", "grip in cut N", "dia. change um", "roundness um",
               "band um"]
@@ -169,11 +165,12 @@ def surfaces_table(clamped: Clamped) -> str:
                          f"{_um(clamped.size_change_mm[i]):+.1f}", f"{_um(clamped.roundness_mm[i]):.1f}",
                          "-" if band is None else f"{band:.0f}"])
     if not rows:
-        return "No OD or ID is finished in this setup outside the grip."
-    return grid(header, rows)
+        return Text(("No OD or ID is finished in this setup outside the grip.",))
+    return column_grid(SURFACES_TITLE, header, rows)
 
 
-def remedies_table(study: ClampStudy) -> str:
+def remedies_table(study: ClampStudy) -> tuple[Grid, Text]:
+    """The remedies, and the notes of those that have one (numbered as in the table)."""
     header = ["change", "grip N", "roundness um", "lobes", "least N", "most N", "window"]
     rows, notes = [], []
     for k, r in enumerate(study.remedies, start=1):
@@ -185,16 +182,23 @@ def remedies_table(study: ClampStudy) -> str:
             rows.append([f"{k}. {r.change}", f"{c.holding.force_n:.0f}", f"{_worst_um(c):.1f}", str(c.lobes),
                          _force(c.least_to_hold_n), _force(c.most_for_roundness_n), window])
         if r.note:
-            notes.append(f"  {k}. {r.note}")
+            notes.append(f"{k}. {r.note}")
     names = _left([header[0]] + [row[0] for row in rows])
     header[0] = names[0]
     for row, name in zip(rows, names[1:]):
         row[0] = name
-    return grid(header, rows) + ("\n" + "\n".join(notes) if notes else "")
+    return Grid("What widens the window (each computed with the model; grip at standstill):", tuple(header),
+                tuple(tuple(row) for row in rows)), Text(tuple(notes))
 
 
 def clamp_report(study: ClampStudy) -> str:
     """The terminal report of `deflect clamp`."""
+    return blocks_text(clamp_blocks(study))
+
+
+def clamp_blocks(study: ClampStudy) -> list[Grid | Text]:
+    """The report's tables and paragraphs: the holding and its window, the surfaces after release, what widens
+    the window, notes, cautions."""
     g = study.given
     h, d = g.holding, g.demand
     rows = [
@@ -216,11 +220,11 @@ def clamp_report(study: ClampStudy) -> str:
     rows += [("window", _window_text(g)),
              ("after release", f"{g.lobes} lobes, roundness up to {_worst_um(g):.1f} um"),
              ("harmonics summed", f"n = 0 to {int(g.squeeze.harmonics[-1])}")]
-    parts = [_pairs(rows, f"Work holding: {study.title}"), "",
-             "Surfaces finished in the chuck, after release (roundness: radial peak to valley around the part):",
-             surfaces_table(g), "",
-             "What widens the window (each computed with the model; grip at standstill):", remedies_table(study)]
+    remedies, remedy_notes = remedies_table(study)
+    blocks = [pairs_grid(rows, f"Work holding: {study.title}", sentences=True), surfaces_table(g), remedies]
+    if remedy_notes.lines:
+        blocks.append(remedy_notes)
     if study.notes:
-        parts += ["", "Notes:", *(f"  {line}" for line in study.notes)]
-    parts += ["", "Cautions:", *(f"  - {line}" for line in study.cautions)]
-    return "\n".join(parts)
+        blocks.append(Text(tuple(study.notes), title="Notes:"))
+    blocks.append(Text(tuple(study.cautions), "caution", title="Cautions:", bullet="- "))
+    return blocks

@@ -14,7 +14,7 @@ import numpy as np
 
 from deflect.decisions.first_article import Estimate, FirstArticle, usual_suspects
 from deflect.job.calibration import Calibration
-from deflect.output.tables import grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid
 from deflect.output.tune_report import option_words, tune_payload
 
 SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "wall": "wall"}
@@ -34,6 +34,12 @@ EXPLAINS = (
 CAUTION = ("Caution: a calibration holds for this material, these tools and this set-up; check it on the next "
            "part. A changed program must be proved out (dry run, single block); the machine's and the chuck "
            "maker's limits and your local safety rules come first.")
+
+
+def wrapped(text: str, width: int, **indents) -> list[str]:
+    """The text wrapped for the terminal as one entry (its line breaks inside): a report's paragraph, which the
+    HTML report lays out as one paragraph."""
+    return ["\n".join(textwrap.wrap(text, width, **indents))]
 
 
 def estimate_text(e: Estimate) -> tuple[str, str]:
@@ -56,19 +62,23 @@ def fit_words(result: FirstArticle) -> str:
     return head + f": within the stated uncertainties, which set the intervals (normal quantile {result.quantile:.2f})"
 
 
-def estimates_table(result: FirstArticle) -> list[str]:
+def estimates_table(result: FirstArticle) -> list[Grid | Text]:
+    title = f"Calibration ({'per tool' if result.calibration.fitted_per == 'tool' else 'per pass'}, 95 % intervals)"
     rows = []
     for e in result.estimates:
         value, interval = estimate_text(e)
         rows.append([e.unknown.label, value if e.identified else ("x1" if e.unknown.kind != "size" else "0"),
                      interval if e.identified else "-", "yes" if e.identified else "NOT identified"])
-    lines = [grid(["unknown", "value", "95 % interval", "identified"], rows)] if rows else ["no unknowns"]
-    lines += [f"  not identified: {e.unknown.label}: {e.reason}" for e in result.estimates if not e.identified]
-    lines += [f"  {line}" for line in result.unseparated]
-    return lines
+    blocks = ([column_grid(title, ["unknown", "value", "95 % interval", "identified"], rows)] if rows
+              else [Text(("no unknowns",), title=title)])
+    lines = [f"not identified: {e.unknown.label}: {e.reason}" for e in result.estimates if not e.identified]
+    lines += list(result.unseparated)
+    if lines:
+        blocks.append(Text(tuple(lines)))
+    return blocks
 
 
-def readings_table(result: FirstArticle) -> list[str]:
+def readings_table(result: FirstArticle) -> Grid | Text:
     rows = []
     for r in result.readings:
         x = r.reading
@@ -84,20 +94,21 @@ def readings_table(result: FirstArticle) -> list[str]:
                      "" if r.used else "no", r.note])
     header = ["reading", "what", "where mm", "drawn mm", "measured", "uncalibrated", "calibrated", "residual um",
               "u um", "fitted", "note"]
-    return [grid(header, rows)] if rows else ["no dimensional readings"]
+    title = "Readings (mm; roundness um)"
+    return column_grid(title, header, rows) if rows else Text(("no dimensional readings",), title=title)
 
 
-def mass_lines(result: FirstArticle) -> list[str]:
+def mass_lines(result: FirstArticle) -> list[Grid | Text]:
     m = result.mass
     if m is None:
-        return ["the part was not weighed"]
+        return [Text(("the part was not weighed",), title="Mass")]
     gain = m.measured_g - m.nominal_g
-    lines = [f"measured {m.measured_g:.3f} g (u {m.measured_uncertainty_g:.3g} g), drawn {m.nominal_g:.3f} g: "
-             f"gain {gain:+.4f} g, split by cause:"]
+    title = (f"Mass: measured {m.measured_g:.3f} g (u {m.measured_uncertainty_g:.3g} g), drawn {m.nominal_g:.3f} g: "
+             f"gain {gain:+.4f} g, split by cause:")
     rows = [[f"{CAUSES[s.cause]}" + (f", {s.where}" if s.where else ""), f"{s.mass_g:+.4f}"] for s in m.shares]
     rows.append(["calibrated prediction", f"{m.calibrated_g - m.nominal_g:+.4f}"])
     rows.append(["the rest (measured - explained)", f"{m.rest_g:+.4f}"])
-    lines.append(grid(["cause", "mass g"], rows))
+    blocks = [column_grid(title, ["cause", "mass g"], rows)]
     words = [f"(predicted {m.uncalibrated_g:.3f} g uncalibrated, {m.calibrated_g:.3f} g calibrated; density "
              f"{m.density_g_cm3:.4g} g/cm3, u {m.density_uncertainty_g_cm3:.2g} ({m.density_from}))"]
     allowed = (f"the measurement allows +/-{m.rest_allowed_g:.3f} g at about 95 % (the scale, the density over the "
@@ -107,16 +118,16 @@ def mass_lines(result: FirstArticle) -> list[str]:
     else:
         words.append(f"The rest, {m.rest_g:+.4f} g, is MORE than {allowed}: something the model does not see. "
                      "The usual suspects:")
-    lines += [line for text in words for line in textwrap.wrap(text, WIDTH)]
+    lines = [wrapped(text, WIDTH)[0] for text in words]
     if not m.rest_explained:
         lines += [f"  - {s}" for s in usual_suspects(m)]
-    return lines
+    return blocks + [Text(tuple(lines))]
 
 
-def profile_lines(result: FirstArticle) -> list[str]:
+def profile_lines(result: FirstArticle) -> list[Grid | Text]:
     if not result.profiles:
-        return ["no finished OD or ID to profile"]
-    lines = []
+        return [Text(("no finished OD or ID to profile",), title="Profiles")]
+    blocks = []
     for p in result.profiles:
         picks = np.unique(np.linspace(0, len(p.z_mm) - 1, PROFILE_ROWS).round().astype(int))
         measured = [r for r in result.readings
@@ -128,53 +139,58 @@ def profile_lines(result: FirstArticle) -> list[str]:
                  for r in measured]
         rows.sort(key=lambda row: float(row[0]))
         what = "diameter" if p.surface in ("od", "id") else "thickness"
-        lines += [f"{SURFACE_NAMES[p.surface]} {what} against the drawing, um:",
-                  grid(["z mm", "uncalibrated", "calibrated", "measured"], rows), ""]
-    return lines[:-1]
+        blocks.append(column_grid(f"Profile: {SURFACE_NAMES[p.surface]} {what} against the drawing, um",
+                                  ["z mm", "uncalibrated", "calibrated", "measured"], rows))
+    return blocks
 
 
 def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> list[str]:
     if remedies is None:
         return ["no [tolerance] in the job: nothing to aim the next part at"]
-    lines = textwrap.wrap(f"as programmed, with the calibration: cycle {remedies.current.cycle_time_s:.1f} s, most "
-                          f"off the drawing {1000 * remedies.current.max_deviation_mm:.1f} um a side, "
-                          f"{'meets' if remedies.current.meets else 'does NOT meet'} the drawing", WIDTH)
+    lines = wrapped(f"as programmed, with the calibration: cycle {remedies.current.cycle_time_s:.1f} s, most "
+                    f"off the drawing {1000 * remedies.current.max_deviation_mm:.1f} um a side, "
+                    f"{'meets' if remedies.current.meets else 'does NOT meet'} the drawing", WIDTH)
     if not searched:
         lines.append("the wear offsets that centre every finished surface in its band (no time lost):")
     for rank, o in enumerate(remedies.options[:OPTIONS_SHOWN], 1):
         verdict = "meets" if o.meets else "does not meet"
         words = option_words(o, surface_of, units)
-        lines += textwrap.wrap(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {words}", WIDTH,
-                               subsequent_indent="   ")
+        lines += wrapped(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {words}", WIDTH,
+                         subsequent_indent="   ")
         if o.broken:
-            lines += textwrap.wrap(f"breaks: {'; '.join(o.broken)}", WIDTH, initial_indent="   ",
-                                   subsequent_indent="   ")
+            lines += wrapped(f"breaks: {'; '.join(o.broken)}", WIDTH, initial_indent="   ",
+                             subsequent_indent="   ")
     if remedies.limiting:
-        lines += textwrap.wrap(remedies.limiting, WIDTH)
+        lines += wrapped(remedies.limiting, WIDTH)
     if not searched:
-        lines += textwrap.wrap("(--search runs the whole remedy search of `deflect tune` with the calibrated "
-                               "constants: feeds, spring cuts, allowance, tools, compensation, order; or run "
-                               "`deflect tune JOB --calibration FILE`)", WIDTH)
+        lines += wrapped("(--search runs the whole remedy search of `deflect tune` with the calibrated "
+                         "constants: feeds, spring cuts, allowance, tools, compensation, order; or run "
+                         "`deflect tune JOB --calibration FILE`)", WIDTH)
     return lines
 
 
 def explain_report(result: FirstArticle, remedies=None, surface_of: dict | None = None, units: str = "mm",
                    searched: bool = False) -> str:
-    lines = [f"First article: {result.title}", f"measured part: {result.measured_path}", "",
-             f"Calibration ({'per tool' if result.calibration.fitted_per == 'tool' else 'per pass'}, 95 % "
-             "intervals)", *estimates_table(result), *textwrap.wrap(EXPLAINS, WIDTH),
-             *textwrap.wrap(f"fit: {fit_words(result)}", WIDTH),
-             f"residual {result.residual_rms_um:.2f} um rms (measured - calibrated)", "",
-             "Readings (mm; roundness um)", *readings_table(result), "",
-             "Mass", *mass_lines(result), "",
-             "Profiles", *profile_lines(result), "",
-             "Next part (with the calibrated constants)",
-             *next_part_lines(remedies, surface_of or {}, units, searched)]
+    """The whole report as the terminal prints it."""
+    return (f"First article: {result.title}\nmeasured part: {result.measured_path}\n\n"
+            + blocks_text(explain_blocks(result, remedies, surface_of, units, searched)))
+
+
+def explain_blocks(result: FirstArticle, remedies=None, surface_of: dict | None = None, units: str = "mm",
+                   searched: bool = False) -> list[Grid | Text]:
+    """The report's tables and paragraphs: the calibration and the fit, the readings, the mass by cause, the
+    profiles, the next part, notes, caution."""
+    blocks = [*estimates_table(result),
+              Text((*wrapped(EXPLAINS, WIDTH), *wrapped(f"fit: {fit_words(result)}", WIDTH),
+                    f"residual {result.residual_rms_um:.2f} um rms (measured - calibrated)")),
+              readings_table(result), *mass_lines(result), *profile_lines(result),
+              Text(tuple(next_part_lines(remedies, surface_of or {}, units, searched)),
+                   title="Next part (with the calibrated constants)")]
     if result.notes:
-        lines += ["", "Notes:", *(textwrap.fill(n, WIDTH, initial_indent="  ", subsequent_indent="    ")
-                                  for n in result.notes)]
-    lines += ["", *textwrap.wrap(CAUTION, WIDTH)]
-    return "\n".join(lines)
+        blocks.append(Text(tuple(textwrap.fill(n, WIDTH, subsequent_indent="  ") for n in result.notes),
+                           title="Notes:"))
+    blocks.append(Text(wrapped(CAUTION, WIDTH), "caution"))
+    return blocks
 
 
 def estimate_record(e: Estimate) -> dict:

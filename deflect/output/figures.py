@@ -1,11 +1,15 @@
-"""Figures: plain results -> PNG files. Drawing only; no physics is computed here.
+"""Figures: plain results -> PNG files, or SVG text for the HTML report. Drawing only; no physics is computed here.
 
-matplotlib is imported inside each function with the file-only Agg backend, so the solver path and the
-command line start without it.
+Each figure of a result is drawn by a `*_figure` function that returns the matplotlib figure; `*_plot` writes it
+as PNG, `svg_text` gives it as SVG (text drawn as paths, so it looks the same without the fonts; no date and
+fixed ids, so the same figure gives the same text). A user's text on a figure (a title, a pass name) goes
+through `plain`. matplotlib is imported inside each function with the file-only Agg backend, so the solver
+path and the command line start without it.
 """
 
 from __future__ import annotations
 
+import io
 from pathlib import Path
 
 import numpy as np
@@ -54,6 +58,27 @@ def _save(plt, fig, path) -> None:
     plt.close(fig)
 
 
+def plain(text: str) -> str:
+    """A user's text (a job title, a pass name) as matplotlib draws it literally: a pair of $ would start its
+    mathematical notation (and an unbalanced formula stops the drawing)."""
+    return str(text).replace("$", r"\$")
+
+
+SVG_SETTINGS = {"svg.fonttype": "path", "svg.hashsalt": "deflect"}
+
+
+def svg_text(fig) -> str:
+    """The figure laid out and written as SVG text, then freed."""
+    import matplotlib
+
+    fig.tight_layout()
+    buffer = io.StringIO()
+    with matplotlib.rc_context(SVG_SETTINGS):
+        fig.savefig(buffer, format="svg", metadata={"Date": None})
+    _pyplot().close(fig)
+    return buffer.getvalue()
+
+
 def compliance_map_plot(section, points: list, title: str, path: str) -> None:
     """The section with its boundary coloured by normal compliance, and the compliance along the boundary."""
     plt = _pyplot()
@@ -90,7 +115,7 @@ def compliance_map_plot(section, points: list, title: str, path: str) -> None:
     ax_line.set_title("compliance along the boundary")
     ax_line.grid(True, which="both", alpha=0.3)
     ax_line.legend(loc="upper left", fontsize=8)
-    fig.suptitle(f"Compliance map: {title}")
+    fig.suptitle(f"Compliance map: {plain(title)}")
     _save(plt, fig, path)
 
 
@@ -127,6 +152,12 @@ def runs(mask: np.ndarray) -> list[np.ndarray]:
 
 
 def section_plot(pred, path: Path) -> Path:
+    plt = _pyplot()
+    _save(plt, section_figure(pred), path)
+    return path
+
+
+def section_figure(pred):
     """Stock (faint), nominal and as-machined outlines, and the material left on the finished surfaces drawn
     magnified on the normals. The magnification is set by the finished surfaces alone: stock that no pass
     removed (tenths of a millimetre, in the true-scale outline) would otherwise shrink the push-off's
@@ -157,41 +188,64 @@ def section_plot(pred, path: Path) -> Path:
     ax.set_ylabel("z [mm]")
     ax.grid(True, alpha=0.3)
     ax.legend(loc="best", fontsize=8)
-    ax.set_title(f"Section: {pred.title}\nmaterial left on finished surfaces x {factor:.0f} "
+    ax.set_title(f"Section: {plain(pred.title)}\nmaterial left on finished surfaces x {factor:.0f} "
                  f"(largest {1e3 * largest:.1f} um a side)")
-    _save(plt, fig, path)
-    return path
+    return fig
 
 
 def deviation_plot(pred, path: Path) -> Path:
-    """Material left along each finished OD and ID against z, and along the faces against r."""
     plt = _pyplot()
-    d = pred.deviation
-    kinds = np.array(d.surface)
-    panels = []                     # (what, coordinate drawn along: 1 = z, 0 = r, surface kinds)
-    if np.isin(kinds, ("od", "id")).any():
-        panels.append(("along the axis", 1, ("od", "id")))
-    if np.isin(kinds, ("face",)).any():
-        panels.append(("across the faces", 0, ("face",)))
-    panels = panels or [("along the axis", 1, ())]
-    fig, axes = plt.subplots(1, len(panels), figsize=(6 * len(panels) + 2, 5), squeeze=False)
-    for ax, (name, axis, kinds_here) in zip(axes[0], panels):
-        ax.axhline(0.0, color="k", lw=0.8, label="as drawn")
-        for kind in kinds_here:
-            for i, stretch in enumerate(runs(kinds == kind)):
-                ax.plot(d.points_rz[stretch, axis], 1e3 * d.deviation_mm[stretch], color=SURFACE_COLOURS[kind],
-                        lw=1.2, label=SURFACE_LABELS[kind] if i == 0 else None)
-        ax.set_xlabel("z [mm]" if axis == 1 else "r [mm]")
-        ax.set_ylabel("material left, a side [um]")
-        ax.set_title(f"finished surfaces {name}")
-        ax.grid(True, alpha=0.3)
-        ax.legend(loc="best", fontsize=8)
-    fig.suptitle(f"Material left beyond the drawn surface (> 0 thicker): {pred.title}")
-    _save(plt, fig, path)
+    _save(plt, deviation_figure(pred), path)
     return path
 
 
+def deviation_figure(pred):
+    """Material left along each finished OD and ID against z, and along the faces against r."""
+    return profiles_figure([("", pred)], f"Material left beyond the drawn surface (> 0 thicker): {plain(pred.title)}")
+
+
+PROFILE_STYLES = ("-", "--", ":", "-.")
+
+
+def profiles_figure(named: list, title: str):
+    """Material left along the finished OD and ID against z, and across the faces against r, of one or more
+    (name, prediction) pairs overlaid: a colour per surface, a line style per prediction. `title` is drawn as
+    given (user text in it passed through `plain`)."""
+    plt = _pyplot()
+    kinds_of = [np.array(pred.deviation.surface) for _, pred in named]
+    present = set().union(*(set(kinds) for kinds in kinds_of))
+    panels = []                     # (what, coordinate drawn along: 1 = z, 0 = r, surface kinds)
+    if present & {"od", "id"}:
+        panels.append(("along the axis", 1, ("od", "id")))
+    if "face" in present:
+        panels.append(("across the faces", 0, ("face",)))
+    panels = panels or [("along the axis", 1, ())]
+    fig, axes = plt.subplots(1, len(panels), figsize=(6 * len(panels) + 2, 5), squeeze=False)
+    for ax, (what, axis, kinds_here) in zip(axes[0], panels):
+        ax.axhline(0.0, color="k", lw=0.8, label="as drawn")
+        for j, ((name, pred), kinds) in enumerate(zip(named, kinds_of)):
+            d = pred.deviation
+            for kind in kinds_here:
+                label = SURFACE_LABELS[kind] + (f": {plain(name)}" if name else "")
+                for i, stretch in enumerate(runs(kinds == kind)):
+                    ax.plot(d.points_rz[stretch, axis], 1e3 * d.deviation_mm[stretch], color=SURFACE_COLOURS[kind],
+                            ls=PROFILE_STYLES[j % len(PROFILE_STYLES)], lw=1.2, label=label if i == 0 else None)
+        ax.set_xlabel("z [mm]" if axis == 1 else "r [mm]")
+        ax.set_ylabel("material left, a side [um]")
+        ax.set_title(f"finished surfaces {what}")
+        ax.grid(True, alpha=0.3)
+        ax.legend(loc="best", fontsize=8)
+    fig.suptitle(title)
+    return fig
+
+
 def passes_plot(pred, path: Path) -> Path:
+    plt = _pyplot()
+    _save(plt, passes_figure(pred), path)
+    return path
+
+
+def passes_figure(pred):
     """Passive force and push-off along every pass: z for OD and ID passes, r for face passes."""
     plt = _pyplot()
     along_z = [p for p in pred.passes if p.surface != "face"]
@@ -205,7 +259,7 @@ def passes_plot(pred, path: Path) -> Path:
         for i, p in enumerate(passes):
             for j, t in enumerate(p.cuts):
                 x = t.z_mm if axis == 1 else t.r_mm
-                label = p.name if len(p.cuts) == 1 else f"{p.name}, cut {t.cut + 1}"
+                label = plain(p.name) if len(p.cuts) == 1 else f"{plain(p.name)}, cut {t.cut + 1}"
                 style = {"color": colours[i % len(colours)], "ls": styles[j % len(styles)], "lw": 1.1}
                 ax_force.plot(x, t.passive_n, label=label, **style)
                 ax_push.plot(x, 1e3 * t.deflection_mm, label=label, **style)
@@ -220,9 +274,8 @@ def passes_plot(pred, path: Path) -> Path:
             ax.grid(True, alpha=0.3)
             if passes:
                 ax.legend(loc="best", fontsize=8)
-    fig.suptitle(f"Forces and push-off along the passes: {pred.title}")
-    _save(plt, fig, path)
-    return path
+    fig.suptitle(f"Forces and push-off along the passes: {plain(pred.title)}")
+    return fig
 
 
 PREDICT_FIGURES = ("section.png", "deviation.png", "passes.png")   # as `predict_plots` writes them
@@ -267,6 +320,11 @@ def scale_bar(ax, profile, factor: float, largest_mm: float) -> None:
 
 
 def released_shape_plot(profile, title: str, path: str) -> None:
+    plt = _pyplot()
+    _save(plt, released_shape_figure(profile, title), path)
+
+
+def released_shape_figure(profile, title: str):
     """Polar plot: the surface as cut in the chuck (round), the same surface after release (deviation
     magnified), the jaws' positions, and a scale bar that says in um how large the magnified deviation is."""
     plt = _pyplot()
@@ -294,9 +352,9 @@ def released_shape_plot(profile, title: str, path: str) -> None:
     ax.set_ylabel(f"radius [mm]: as cut + {factor:g} x deviation", labelpad=28)
     ax.grid(True, alpha=0.4)
     ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.1), fontsize=8)
-    ax.set_title(f"{title}\nreleased shape of the {SURFACE_LABELS.get(profile.surface, profile.surface)} at "
+    ax.set_title(f"{plain(title)}\nreleased shape of the {SURFACE_LABELS.get(profile.surface, profile.surface)} at "
                  f"z = {profile.z_mm:.2f} mm (deviation magnified x {factor:g})", fontsize=10)
-    _save(plt, fig, path)
+    return fig
 
 
 PROFILE_PANELS = {"od": "OD diameter", "id": "ID diameter", "wall": "wall thickness"}
@@ -305,6 +363,12 @@ FIGURE_CAUSES = {"push-off": "push-off", "size error": "size error", "unmachined
 
 
 def first_article_plot(result, path) -> Path:
+    plt = _pyplot()
+    _save(plt, first_article_figure(result), path)
+    return Path(path)
+
+
+def first_article_figure(result):
     """The first article: measured, uncalibrated and calibrated diameters and wall along z (against the drawing,
     um; the measured ones with their 95 % bars), and the measured mass gain split by cause."""
     plt = _pyplot()
@@ -351,6 +415,5 @@ def first_article_plot(result, path) -> Path:
         ax.set_title(f"measured gain {mass.measured_g - mass.nominal_g:+.3f} g by cause")
         ax.grid(True, axis="x", alpha=0.3)
         ax.legend(loc="best", fontsize=8)
-    fig.suptitle(f"First article: {result.title}")
-    _save(plt, fig, path)
-    return Path(path)
+    fig.suptitle(f"First article: {plain(result.title)}")
+    return fig

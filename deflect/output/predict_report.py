@@ -7,7 +7,7 @@ given "a side", i.e. on the radius (half the change of the measured diameter); p
 from __future__ import annotations
 
 from deflect.machining.results import PassResult, Prediction, SpreadValue, SurfaceCheck
-from deflect.output.tables import grid, table
+from deflect.output.tables import Grid, Text, blocks_text, column_grid, pairs_grid
 
 CHECK_ORDER = ("held end", "middle", "free end")
 SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "unmachined": "unmachined",
@@ -38,7 +38,7 @@ def where_text(rz: tuple[float, float] | None) -> str:
     return "" if rz is None else f", at r {rz[0]:.2f}, z {rz[1]:.2f} mm"
 
 
-def headline(pred: Prediction) -> str:
+def headline(pred: Prediction) -> Grid:
     """Masses, most material left, cycle time and power; each uncertain figure with its range."""
     gain = pred.mass_gain_g
     gain_pct = 100.0 * gain.value / pred.nominal_mass_g
@@ -56,8 +56,8 @@ def headline(pred: Prediction) -> str:
         ("peak cutting power", f"{pred.peak_power_kw:.2f} kW of the machine's {pred.machine_power_kw:g} kW "
                                f"({power_pct:.1f} %)"),
     ]
-    note = f"(in brackets: the range for force constants +/- {100.0 * pred.force_spread:.0f} %)"
-    return table(rows, title=f"Machining prediction: {pred.title}") + "\n" + note
+    note = f"in brackets: the range for force constants +/- {100.0 * pred.force_spread:.0f} %"
+    return pairs_grid(rows, f"Machining prediction: {pred.title}", (note,))
 
 
 def pass_row(p: PassResult) -> list[str]:
@@ -71,16 +71,19 @@ def pass_row(p: PassResult) -> list[str]:
             f"{p.peak_power_kw:.2f}", f"{p.cycle_time_s:.1f}", f"{p.mass_left_g:.3f}", str(rubbing)]
 
 
-def pass_table(passes: list[PassResult]) -> str:
+PASSES_TITLE = "Passes, in order"
+
+
+def pass_table(passes: list[PassResult]) -> Grid:
     header = ["pass", "surface", "tool", "cuts", "feed mm/rev", "speed m/min", "largest push-off um",
               "peak passive force N", "peak power kW", "time s", "mass left g", "rubbing"]
-    note = ("(largest push-off: of largest size along the pass, negative where the surface came towards the tool "
+    note = ("largest push-off: of largest size along the pass, negative where the surface came towards the tool "
             "and was cut below its target; rubbing: stations where the wall gives way so far that the tool barely "
-            "cuts)")
-    return "Passes, in order\n" + grid(header, [pass_row(p) for p in passes]) + "\n" + note
+            "cuts")
+    return column_grid(PASSES_TITLE, header, [pass_row(p) for p in passes], (note,))
 
 
-def surface_table(check: SurfaceCheck) -> str:
+def surface_table(check: SurfaceCheck) -> Grid:
     """The finished surface as a machinist checks it: diameter at the held end, middle and free end."""
     header = ["where", "z mm", "nominal dia. mm", "predicted dia. mm", "material left"]
     if check.roundness_mm is not None:
@@ -95,14 +98,14 @@ def surface_table(check: SurfaceCheck) -> str:
     title = (f"Finished {SURFACE_NAMES.get(check.surface, check.surface)}: most material left "
              f"{1e3 * check.max_deviation_mm:.1f} um a side{where_text(check.max_at_rz)}, "
              f"{check.mass_left_g:.3f} g left on it")
-    return title + "\n" + grid(header, rows)
+    return column_grid(title, header, rows)
 
 
-def wall_table(wall: list[dict]) -> str:
+def wall_table(wall: list[dict]) -> Grid:
     header = ["where", "z mm", "nominal wall mm", "predicted wall mm", "thicker by um"]
     rows = [[row["where"], f"{row['z_mm']:.2f}", f"{row['nominal_mm']:.3f}", f"{row['predicted_mm']:.3f}",
              f"{1e3 * (row['predicted_mm'] - row['nominal_mm']):.1f}"] for row in wall]
-    return "Wall thickness (OD against ID)\n" + grid(header, rows)
+    return column_grid("Wall thickness (OD against ID)", header, rows)
 
 
 def shown(value: float, digits: int) -> float:
@@ -110,7 +113,7 @@ def shown(value: float, digits: int) -> float:
     return round(value, digits) or 0.0
 
 
-def gain_table(pred: Prediction) -> str:
+def gain_table(pred: Prediction) -> Grid:
     """The gain by surface, each with its share of the whole; a share only where both print as non-zero."""
     total = pred.mass_gain_g.value
     rows = []
@@ -119,8 +122,8 @@ def gain_table(pred: Prediction) -> str:
         if shown(total, 3) > 0.0 and shown(grams, 3) != 0.0:
             share = f" ({shown(100.0 * grams / total, 0):.0f} % of the gain)"
         rows.append((SURFACE_NAMES.get(surface, surface), f"{shown(grams, 3):.3f} g{share}"))
-    notes = [note for key, note in GAIN_NOTES.items() if key in pred.mass_gain_by_surface_g]
-    return table(rows, title="Mass gain by surface") + "".join(f"\n({note})" for note in notes)
+    notes = tuple(note for key, note in GAIN_NOTES.items() if key in pred.mass_gain_by_surface_g)
+    return pairs_grid(rows, "Mass gain by surface", notes)
 
 
 # the causes that are no surface, said once under the gain table
@@ -146,7 +149,7 @@ SIZE_RULE_NOTES = {
 }
 
 
-def feature_table(features) -> str:
+def feature_table(features) -> Grid:
     """Each toleranced feature in or out, with its margin to the nearer limit (and the roundness the jaws
     leave beside each diameter, with [holding])."""
     with_roundness = any(c.roundness_mm is not None for c in features)
@@ -168,29 +171,34 @@ def feature_table(features) -> str:
     notes = ["diameters and wall: deviation from the drawn size; margin to the nearer limit, < 0 outside"]
     notes += [SIZE_RULE_NOTES[rule] for rule in dict.fromkeys(c.size_rule for c in features if c.size_rule)
               if with_roundness]
-    return "Against the drawing\n" + grid(header, rows) + "\n" + "\n".join(f"({note})" for note in notes)
+    return column_grid("Against the drawing", header, rows, tuple(notes))
 
 
 def predict_report(pred: Prediction, features=(), warnings=(), rules_summary: str = "") -> str:
-    """The whole report: headline, the design rules' findings in brief, passes, finished surfaces, wall, the
-    toleranced features, mass gain by surface, warnings (the simulation's, then the verdict's: grip and form),
-    caution."""
-    blocks = [headline(pred), *([rules_summary] if rules_summary else [])]
+    """The whole report as the terminal prints it."""
+    return blocks_text(predict_blocks(pred, features, warnings, rules_summary))
+
+
+def predict_blocks(pred: Prediction, features=(), warnings=(), rules_summary: str = "") -> list[Grid | Text]:
+    """The report's tables and paragraphs: headline, the design rules' findings in brief, passes, finished
+    surfaces, wall, the toleranced features, mass gain by surface, warnings (the simulation's, then the
+    verdict's: grip and form), caution."""
+    blocks = [headline(pred), *([Text(tuple(rules_summary.splitlines()))] if rules_summary else [])]
     if pred.passes:
         blocks.append(pass_table(pred.passes))
     checks = [c for c in pred.surfaces if c.surface in ("od", "id")]
     blocks += [surface_table(c) for c in checks]
     if not checks:
-        blocks.append("No finished OD or ID long enough to check at the held end, middle and free end.")
+        blocks.append(Text(("No finished OD or ID long enough to check at the held end, middle and free end.",)))
     if pred.wall:
         blocks.append(wall_table(pred.wall))
     if features:
         blocks.append(feature_table(features))
     if pred.lobes:
-        blocks.append(GRIP_CAUTION.format(lobes=pred.lobes))
+        blocks.append(Text((GRIP_CAUTION.format(lobes=pred.lobes),), "caution"))
     if pred.mass_gain_by_surface_g:
         blocks.append(gain_table(pred))
     if pred.warnings or warnings:
-        blocks.append("\n".join(f"warning: {w}" for w in [*pred.warnings, *warnings]))
-    blocks.append(CAUTION)
-    return "\n\n".join(blocks)
+        blocks.append(Text(tuple(f"warning: {w}" for w in [*pred.warnings, *warnings]), "warning"))
+    blocks.append(Text((CAUTION,), "caution"))
+    return blocks

@@ -8,7 +8,7 @@ Formatting only; the findings come from `deflect.decisions.rules`. The JSON keys
 from __future__ import annotations
 
 from deflect.decisions.rules import Finding, Rules
-from deflect.output.tables import grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid
 
 SUMMARY_LINES = 4
 RULE_NAMES = {"wall": "wall", "corner": "internal corner", "reach": "reach of the tool", "drawing": "drawing"}
@@ -39,19 +39,26 @@ def _value_text(f: Finding) -> str:
 
 
 def rules_report(rules: Rules, title: str) -> str:
+    """The whole report as the terminal prints it."""
+    return f"Design rules: {title}\n" + blocks_text(rules_blocks(rules))
+
+
+def rules_blocks(rules: Rules) -> list[Grid | Text]:
+    """The report's tables and paragraphs: the thinnest wall, the findings and what to do, the notes."""
     wall = f"thinnest wall {rules.thinnest_wall_mm:.3f} mm"
     if rules.least_wall_mm is not None:
         wall += f" (the material's least: {rules.least_wall_mm:g} mm, common practice)"
-    lines = [f"Design rules: {title}", wall]
+    blocks = [Text((wall,))]
     if not rules.findings:
-        lines.append("No findings: the drawing meets every rule checked.")
+        blocks.append(Text(("No findings: the drawing meets every rule checked.",)))
     else:
         rows = [[RULE_NAMES[f.rule], f"{f.r_mm:.4g}", f"{f.z_mm:.4g}", _value_text(f),
                  f"{f.mass_left_g:.4f}" if f.mass_left_g else "-"] for f in rules.findings]
-        lines.append(grid(["rule", "r mm", "z mm", "drawn", "mass left g"], rows))
-        lines += [f"{k + 1}. {f.message}" for k, f in enumerate(rules.findings)]
-    lines += [f"note: {n}" for n in rules.notes]
-    return "\n".join(lines)
+        blocks += [column_grid("Findings", ["rule", "r mm", "z mm", "drawn", "mass left g"], rows),
+                   Text(tuple(f"{k + 1}. {f.message}" for k, f in enumerate(rules.findings)))]
+    if rules.notes:
+        blocks.append(Text(tuple(f"note: {n}" for n in rules.notes)))
+    return blocks
 
 
 def rules_summary(rules: Rules | None) -> str:

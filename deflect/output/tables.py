@@ -1,6 +1,14 @@
-"""Terminal tables: plain results -> text. Formatting only; no physics is computed here."""
+"""Tables and paragraphs of a report as data, and their terminal layout. Formatting only; no physics here.
+
+A report is a list of blocks: `Grid` (a table whose cells are already formatted, with its title and notes) and
+`Text` (a note, a warning or a caution). The terminal prints them with `blocks_text`; the HTML report
+(`deflect.output.html_report`) lays the same blocks out as tables and paragraphs, so both show the same
+figures to the same digits.
+"""
 
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 from deflect.job.reader import MM_PER_INCH
 
@@ -22,6 +30,13 @@ def table(rows: list[tuple[str, str]], title: str = "") -> str:
     return "\n".join(lines)
 
 
+def sentence_table(rows: list[tuple[str, str]], title: str) -> str:
+    """Label and value, both left-aligned (for values that are sentences, not numbers)."""
+    width = max(len(label) for label, _ in rows)
+    lines = [f"{label:<{width}}   {value}" for label, value in rows]
+    return "\n".join([title, "-" * max(len(title), max(len(line) for line in lines)), *lines])
+
+
 def grid(header: list[str], rows: list[list[str]]) -> str:
     """Column table with right-aligned cells and a rule under the header."""
     widths = [max(len(header[i]), *(len(row[i]) for row in rows)) for i in range(len(header))]
@@ -30,6 +45,58 @@ def grid(header: list[str], rows: list[list[str]]) -> str:
         return "  ".join(f"{cell:>{width}}" for cell, width in zip(cells, widths))
 
     return "\n".join([line(header), line(["-" * w for w in widths]), *(line(row) for row in rows)])
+
+
+@dataclass(frozen=True)
+class Grid:
+    """A table: `header` and `rows` of formatted cells (a `pairs` table has no header: label and value), the
+    title above it and the notes under it (printed in brackets)."""
+
+    title: str
+    header: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
+    notes: tuple[str, ...] = ()
+    pairs: bool = False
+    sentences: bool = False      # a pairs table whose values are sentences: left-aligned on the terminal
+
+    def text(self) -> str:
+        if self.pairs:
+            layout = sentence_table if self.sentences else table
+            body = layout([(label, value) for label, value in self.rows], title=self.title)
+        else:
+            table_text = grid(list(self.header), [list(row) for row in self.rows])
+            body = f"{self.title}\n{table_text}" if self.title else table_text
+        return "\n".join([body, *(f"({note})" for note in self.notes)])
+
+
+def pairs_grid(rows: list[tuple[str, str]], title: str, notes: tuple[str, ...] = (), sentences: bool = False) -> Grid:
+    return Grid(title, (), tuple(tuple(row) for row in rows), tuple(notes), pairs=True, sentences=sentences)
+
+
+def column_grid(title: str, header: list[str], rows: list[list[str]], notes: tuple[str, ...] = ()) -> Grid:
+    return Grid(title, tuple(header), tuple(tuple(row) for row in rows), tuple(notes))
+
+
+@dataclass(frozen=True)
+class Text:
+    """Paragraphs of a report, one a line (a line may carry the terminal's own line breaks); `kind` says what
+    they are: "note", "warning" or "caution". With a `title`, the terminal prints the lines under it, indented,
+    each after the `bullet`."""
+
+    lines: tuple[str, ...]
+    kind: str = "note"
+    title: str = ""
+    bullet: str = ""
+
+    def text(self) -> str:
+        if not self.title:
+            return "\n".join(self.lines)
+        return "\n".join([self.title, *(f"  {self.bullet}{line}" for line in self.lines)])
+
+
+def blocks_text(blocks: list) -> str:
+    """The terminal's layout of a report's blocks: one blank line between blocks."""
+    return "\n\n".join(block.text() for block in blocks)
 
 
 def section_table(title: str, props: dict) -> str:

@@ -1,4 +1,4 @@
-"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict of INTERFACE.md.
+"""Terminal report and JSON of `deflect tune`: a `tune.TuneResult` -> text and the dict described in INTERFACE.md.
 
 Formatting only; the figures come from `deflect.decisions.tune`. Changes are said the way a machinist says them
 (leave 0.1 mm a side for the finish pass; one spring cut; wear offset X -0.026 mm on the diameter, with the
@@ -12,7 +12,7 @@ from deflect.decisions.tune import Change, Outcome, TuneResult
 from deflect.job.reader import MM_PER_INCH
 from deflect.output.predict_json import feature_record
 from deflect.output.predict_report import duration_text, feature_table
-from deflect.output.tables import grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid
 
 LENGTH_KEYS = ("feed", "allowance", "offset", "depth")
 CAUTION = ("Caution: the options are predictions; prove a changed program out (dry run, single block) and measure "
@@ -145,39 +145,62 @@ def wall_records(walls) -> list[dict]:
 
 def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None,
                 rules_summary: str = "") -> str:
+    """The whole report as the terminal prints it."""
+    return f"Remedies: {title}\n\n" + blocks_text(tune_blocks(result, surface_of, units, walls, rules_summary))
+
+
+OPTIONS_TITLE = "Options, ranked"
+
+
+def options_table(result: TuneResult) -> Grid:
     current = result.current
-    lines = [f"Remedies: {title}", "", *([rules_summary, ""] if rules_summary else []),
-             f"as programmed: cycle time {duration_text(current.cycle_time_s)}, most off the drawing "
-             f"{1000 * current.max_deviation_mm:.1f} um a side, {'meets' if current.meets else 'does NOT meet'} "
-             "the drawing", feature_table(current.checks) if current.checks else "nothing toleranced", ""]
     rows = []
     for rank, o in enumerate(result.options, 1):
         delta = o.cycle_time_s - current.cycle_time_s
         margin = "-" if o.least_margin_mm is None else f"{1000 * o.least_margin_mm:+.1f}"
         rows.append([str(rank), "yes" if o.meets else "no", f"{o.cycle_time_s:.1f}", f"{delta:+.1f}",
                      f"{1000 * o.max_deviation_mm:.1f}", margin, f"{o.ra_um:.2f}", f"{o.mass_g:.3f}"])
-    if rows:
-        header = ["rank", "meets", "cycle time s", "vs now s", "most off drawing um", "least margin um", "Ra um",
-                  "mass g"]
-        lines += [grid(header, rows),
-                  "(most off drawing: the largest distance of a finished surface from the drawn one, a side, material "
-                  "left or cut below, wear offsets included; least margin: the nearest a diameter or the wall comes "
-                  "to a limit)", ""]
-        for rank, o in enumerate(result.options, 1):
-            lines.append(f"{rank}. {option_words(o, surface_of, units)}")
-            if o.broken:
-                lines.append(f"   breaks: {'; '.join(o.broken)}")
-            lines += [f"   note: {note}" for note in o.notes]
+    header = ["rank", "meets", "cycle time s", "vs now s", "most off drawing um", "least margin um", "Ra um",
+              "mass g"]
+    note = ("most off drawing: the largest distance of a finished surface from the drawn one, a side, material "
+            "left or cut below, wear offsets included; least margin: the nearest a diameter or the wall comes "
+            "to a limit")
+    return column_grid(OPTIONS_TITLE, header, rows, (note,))
+
+
+def option_lines(result: TuneResult, surface_of: dict, units: str) -> tuple[str, ...]:
+    """Each option's changes in words, with the limits it breaks and its notes."""
+    lines = []
+    for rank, o in enumerate(result.options, 1):
+        lines.append(f"{rank}. {option_words(o, surface_of, units)}")
+        if o.broken:
+            lines.append(f"   breaks: {'; '.join(o.broken)}")
+        lines += [f"   note: {note}" for note in o.notes]
+    return tuple(lines)
+
+
+def tune_blocks(result: TuneResult, surface_of: dict, units: str, walls=None,
+                rules_summary: str = "") -> list[Grid | Text]:
+    """The report's tables and paragraphs: the design rules' findings in brief, the plan as programmed against
+    the drawing, the options ranked and in words, what limits, the design revision, caution."""
+    current = result.current
+    blocks = [*([Text(tuple(rules_summary.splitlines()))] if rules_summary else []),
+              Text((f"as programmed: cycle time {duration_text(current.cycle_time_s)}, most off the drawing "
+                    f"{1000 * current.max_deviation_mm:.1f} um a side, "
+                    f"{'meets' if current.meets else 'does NOT meet'} the drawing",)),
+              feature_table(current.checks) if current.checks else Text(("nothing toleranced",))]
+    if result.options:
+        blocks += [options_table(result), Text(option_lines(result, surface_of, units))]
     else:
-        lines.append("no option could be predicted")
+        blocks.append(Text(("no option could be predicted",)))
     if result.limiting:
-        lines += ["", result.limiting]
+        blocks.append(Text((result.limiting,)))
     if result.offset_note:
-        lines += ["", f"wear offset only: {result.offset_note}"]
+        blocks.append(Text((f"wear offset only: {result.offset_note}",)))
     if walls is not None:
-        lines += [""] + wall_lines(walls, units)
-    lines += ["", f"({result.evaluations} plans predicted)", CAUTION]
-    return "\n".join(lines)
+        blocks.append(Text(tuple(wall_lines(walls, units))))
+    blocks += [Text((f"({result.evaluations} plans predicted)",)), Text((CAUTION,), "caution")]
+    return blocks
 
 
 def change_unit(key: str, units: str) -> str | None:
@@ -199,7 +222,10 @@ def outcome_record(outcome: Outcome, units: str) -> dict:
             "least_margin_mm": outcome.least_margin_mm,
             "ra_um": outcome.ra_um, "mass_g": outcome.mass_g,
             "breaks": outcome.broken, "notes": list(outcome.notes),
-            "features": [feature_record(c) for c in outcome.checks]}
+            "features": [feature_record(c) for c in outcome.checks],
+            "predicted": {"mass_g": outcome.prediction.predicted_mass_g.value,
+                          "mass_gain_g": outcome.prediction.mass_gain_g.value,
+                          "most_material_left_mm": outcome.prediction.max_deviation_mm.value}}
 
 
 def tune_payload(result: TuneResult, surface_of: dict, units: str, walls=None) -> dict:
