@@ -16,8 +16,8 @@ tangent to both neighbours. On a section:
 * `min_wall` gives the thinnest wall as the contract defines it: rays cast along the inward normal
   from points on every surface segment, intersected exactly with lines and circles, counted where
   they meet the opposite face within 20 degrees of head-on (not a corner, chamfer or rim fillet), the thinnest
-  ray refined with Brent's bounded minimisation (R. P. Brent, "Algorithms for Minimization without
-  Derivatives", 1973, ch. 5, as in scipy's `minimize_scalar(method="bounded")`).
+  rays refined on the thinnest few segments together, on grids that narrow round by round around their least
+  (one ray cast per round for all of them).
 
 Outline rules (see INTERFACE.md): `[r, z]` a corner, `[r, z, f]` a corner rounded with a fillet of
 radius f, `{ to = [r, z], radius = R }` an arc from the previous node, turning left (counter-
@@ -86,6 +86,7 @@ _WALL_REFINED_SEGMENTS = 8
 # head-on; kept clear of the usual 30 and 45 degree chamfers so that rounding cannot flip the answer.
 _WALL_MAX_INCIDENCE_DEG = 20.0   # a 0.3 mm fillet on a 1 mm rim then reads >= 0.98 of the wall
 _WALL_XATOL = 1e-11
+_WALL_ZOOM_POINTS = 33   # samples per refined segment and round: each round narrows the interval 16 times
 
 # unit_size_warning: a turned part smaller or larger than this [mm] was probably drawn in the other unit.
 SMALLEST_PLAUSIBLE_MM = 2.5
@@ -1162,13 +1163,10 @@ def thinnest_wall(section: Section) -> WallReading:
     seg_ids = np.concatenate([np.full(len(t), i) for i, t in grids.items()])
     params = np.concatenate(list(grids.values()))
     hit, facing = _walls(section, surfaces, seg_ids, params)
-    # imported here: scipy.optimize costs about 0.1 s of start-up that every other command would pay
-    from scipy.optimize import minimize_scalar
-
     least_facing = math.cos(math.radians(_WALL_MAX_INCIDENCE_DEG))
     if not np.isfinite(hit[facing >= least_facing]).any():
         least_facing = -1.0  # no two faces are near parallel: every ray counts
-    # rays that meet no opposite face get a finite stand-in, longer than any wall, so the minimiser stays finite
+    # rays that meet no opposite face get a finite stand-in, longer than any wall, so the search stays finite
     no_wall = 2.0 * section.perimeter()
 
     def walls(ids: np.ndarray, ts: np.ndarray) -> np.ndarray:
@@ -1180,21 +1178,35 @@ def thinnest_wall(section: Section) -> WallReading:
         raise ModelError("could not measure the wall: no ray from the boundary met the opposite side",
                          key="part.outline")
 
-    def wall_at(i: int, t: float) -> float:
-        return float(walls(np.array([i]), np.array([t]))[0])
-
     # refine around the thinnest ray of each of the thinnest few segments (seg_ids come in runs, segment by segment)
     run_starts = np.flatnonzero(np.r_[True, seg_ids[1:] != seg_ids[:-1]])
     per_segment = sorted(zip(np.minimum.reduceat(sampled, run_starts).tolist(), seg_ids[run_starts].tolist()))
     first = int(np.argmin(sampled))
     thinnest = (float(sampled[first]), int(seg_ids[first]), float(params[first]))
-    for _, i in per_segment[:_WALL_REFINED_SEGMENTS]:
+    refined = np.array([i for _, i in per_segment[:_WALL_REFINED_SEGMENTS]], int)
+    lo, hi = np.empty(len(refined)), np.empty(len(refined))
+    for row, i in enumerate(refined):
         t = grids[i]
         k = int(np.argmin(sampled[seg_ids == i]))
-        lo, hi = t[max(k - 1, 0)], t[min(k + 1, len(t) - 1)]
-        found = minimize_scalar(lambda x: wall_at(i, x), bounds=(lo, hi), method="bounded",
-                                options={"xatol": _WALL_XATOL})
-        thinnest = min(thinnest, (float(found.fun), i, float(found.x)), (wall_at(i, lo), i, float(lo)),
-                       (wall_at(i, hi), i, float(hi)))
-    thickness, i, t = thinnest
+        lo[row], hi[row] = t[max(k - 1, 0)], t[min(k + 1, len(t) - 1)]
+    thickness, i, t = min(thinnest, *_zoomed_minima(walls, refined, lo, hi)) if len(refined) else thinnest
     return WallReading(thickness_mm=thickness, point=section.segments[i].point_at(t))
+
+
+def _zoomed_minima(walls, ids: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> list[tuple[float, int, float]]:
+    """(least wall, segment, parameter) on each segment ids[k] within [lo[k], hi[k]]: walls(ids, ts) sampled at
+    _WALL_ZOOM_POINTS evenly spaced parameters of every interval at once, each interval then narrowed to the
+    two samples beside its least, until it is narrower than _WALL_XATOL (about nine rounds). One ray cast per
+    round for all segments, where a scalar minimiser casts one ray per step and segment."""
+    rows = np.arange(len(ids))
+    best = [(math.inf, int(i), float(a)) for i, a in zip(ids, lo)]
+    share = np.linspace(0.0, 1.0, _WALL_ZOOM_POINTS)
+    while True:
+        ts = lo[:, None] + (hi - lo)[:, None] * share[None, :]
+        values = walls(np.repeat(ids, _WALL_ZOOM_POINTS), ts.ravel()).reshape(len(ids), _WALL_ZOOM_POINTS)
+        k = np.argmin(values, axis=1)
+        best = [min(found, (float(values[row, k[row]]), int(ids[row]), float(ts[row, k[row]])))
+                for row, found in enumerate(best)]
+        if np.max(hi - lo) <= _WALL_XATOL:
+            return best
+        lo, hi = ts[rows, np.maximum(k - 1, 0)], ts[rows, np.minimum(k + 1, _WALL_ZOOM_POINTS - 1)]

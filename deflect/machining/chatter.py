@@ -477,11 +477,11 @@ def chatter_study(job, process, dynamics: Dynamics, pass_name: str | None = None
 def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict | None = None) -> list[str]:
     """A warning for each finishing pass predicted to chatter where its finishing cut meets the most compliant
     wall (the station of largest static compliance in the prediction; `chatter_study` checks key stations all
-    along). memo: {(in-process shape, station): PointResponse} shared by the variants of one job (tune), whose
-    parts are often the same while feed, tool or speed change."""
+    along). memo: the cut paths and {(in-process shape, station): PointResponse}, shared by the variants of one
+    job (tune), whose parts are often the same while feed, tool or speed change; it may be the simulation's."""
     memo = {} if memo is None else memo
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
-    paths, parts = laid_out(process, nominal_rz, STATION_SPACING_MM, {})
+    paths, parts = laid_out(process, nominal_rz, STATION_SPACING_MM, memo)
     results = {result.name: result for result in prediction.passes}
     tasks, wanted = [], []
     for i, p in enumerate(process.passes):
@@ -502,22 +502,25 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
         return []
     finished = WallDynamics(wall_of(job, job.section), job.material.density_g_cm3) if dynamics.measured else None
     corrections = tap_corrections(finished.modes if finished else [], dynamics)[0]
-    speed_range = speed_range_rpm(process, [p for p, *_ in wanted])
     warnings = []
     for p, path, k, depth, name in wanted:
         response = memo[name]
         cut = cut_response(job, process, p, response, corrections, feed_sign_at(path, k))
         rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * path.points_rz[k, 0], process.machine.max_rpm))
         r, z = map(float, path.points_rz[k])
-        station = evaluate_station(cut, 0, r, z, depth, rpm, speed_range)
-        if not station.stable:
-            warnings.append(chatter_warning(p.name, station))
+        # the verdict at the pass's own speed first: only a station that chatters needs its limit depth (the
+        # lobes over the speed range and the depths above, which `evaluate_station` adds, are not warned about)
+        coefficient, branches = cut.branches(depth)
+        limit = float(limit_at_speeds(branches, [rpm])[0][0])
+        if not limit > coefficient:
+            limit_depth = stability_change_mm(cut, rpm, depth, going_up=False) or 0.0
+            warnings.append(chatter_warning(p.name, r, z, depth, rpm, limit_depth, limit / coefficient))
     return warnings
 
 
-def chatter_warning(pass_name: str, station: StationChatter) -> str:
-    margin = station.limit_coefficient_n_per_mm2 / station.coefficient_n_per_mm2
-    return (f"pass '{pass_name}' is predicted to chatter where the wall gives most (r {station.r_mm:.1f}, "
-            f"z {station.z_mm:.1f} mm): {station.depth_mm:.3g} mm deep at {station.speed_rpm:.0f} /min, stable only "
-            f"below {station.limit_depth_mm:.3g} mm there (margin {margin:.2f}), `deflect chatter` gives its stable "
+def chatter_warning(pass_name: str, r_mm: float, z_mm: float, depth_mm: float, rpm: float, limit_depth_mm: float,
+                    margin: float) -> str:
+    return (f"pass '{pass_name}' is predicted to chatter where the wall gives most (r {r_mm:.1f}, "
+            f"z {z_mm:.1f} mm): {depth_mm:.3g} mm deep at {rpm:.0f} /min, stable only "
+            f"below {limit_depth_mm:.3g} mm there (margin {margin:.2f}), `deflect chatter` gives its stable "
             "speeds")

@@ -139,21 +139,33 @@ def _upper_envelope(edges: np.ndarray, v_lo: float, v_hi: float, tol: float) -> 
     bottom, top = levels[:-1], levels[1:]
     lo_edge, hi_edge = np.minimum(v0, v1), np.maximum(v0, v1)
     slope = (u1 - u0) / (v1 - v0)
-    chosen = np.empty(len(bottom), int)
-    rows = max(1, _WORK_ENTRIES // max(1, len(u0)))
-    for first in range(0, len(bottom), rows):
-        b, t = bottom[first:first + rows, None], top[first:first + rows, None]
-        # every edge end is a level, so an edge either covers a whole slab or none of its inside: compared
-        # exactly on the levels themselves (a midpoint of two levels one rounding step apart rounds onto one
-        # of them, and would find only edges that do not belong there)
-        spans = (lo_edge <= b) & (hi_edge >= t)
-        if not spans.any(axis=1).all():
-            gap = float(b[~spans.any(axis=1)][0, 0])
-            raise ModelError(f"the surface has a gap at {gap:.6g} mm along the pass")
+    # every edge end is a level, so an edge either covers a whole slab or none of its inside: edge e spans the
+    # slabs first[e] .. stop[e] - 1, found exactly on the levels themselves (a midpoint of two levels one
+    # rounding step apart rounds onto one of them, and would find only edges that do not belong there). Only
+    # these (slab, edge) pairs are compared, a few per slab (as many as a line across the part crosses edges)
+    first = np.searchsorted(levels, lo_edge, side="left")
+    count = np.maximum(np.searchsorted(levels, hi_edge, side="right") - 1 - first, 0)
+    best = np.full(len(bottom), -np.inf)
+    chosen = np.full(len(bottom), -1)
+    ends = np.cumsum(count)
+    start = 0
+    while start < len(count):
+        # edges in order, at most _WORK_ENTRIES pairs at once (one edge's own pairs may be more)
+        stop = max(start + 1, int(np.searchsorted(ends, (ends[start - 1] if start else 0) + _WORK_ENTRIES, "right")))
+        edge = np.repeat(np.arange(start, stop), count[start:stop])
+        offsets = np.repeat(ends[start:stop] - count[start:stop], count[start:stop])
+        slab = first[edge] + np.arange(len(edge)) - offsets
         # outermost over the slab: the largest sum of the ends (edges do not cross inside a slab; two that
-        # meet at one end part at the other)
-        u_sum = np.where(spans, 2.0 * u0 + ((b - v0) + (t - v0)) * slope, -np.inf)
-        chosen[first:first + rows] = np.argmax(u_sum, axis=1)
+        # meet at one end part at the other); of equals, the first edge
+        u_sum = 2.0 * u0[edge] + ((bottom[slab] - v0[edge]) + (top[slab] - v0[edge])) * slope[edge]
+        order = np.lexsort((edge, -u_sum, slab))
+        lead = order[np.r_[True, slab[order][1:] != slab[order][:-1]]] if len(order) else order
+        better = u_sum[lead] > best[slab[lead]]
+        best[slab[lead][better]] = u_sum[lead][better]
+        chosen[slab[lead][better]] = edge[lead][better]
+        start = stop
+    if (chosen < 0).any():
+        raise ModelError(f"the surface has a gap at {float(bottom[np.argmax(chosen < 0)]):.6g} mm along the pass")
     u_bottom = u0[chosen] + (bottom - v0[chosen]) * slope[chosen]
     u_top = u0[chosen] + (top - v0[chosen]) * slope[chosen]
     points = np.empty((2 * len(bottom), 2))
@@ -419,7 +431,30 @@ def target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start
 
     A target that runs into the spin axis at its start or end stops there (`short_of_the_axis`); one that
     passes the axis elsewhere raises BeyondAxis.
+
+    Targets are kept by their exact inputs (a bounded few, their arrays read-only): `predict` asks for the
+    same ones in the simulation, the chatter check and the design rules, and the remedy search's variants ask
+    again for every pass after one whose allowance changed (a target does not depend on the part it cuts).
     """
+    nominal_rz = np.asarray(nominal_rz, float)
+    key = (nominal_rz.tobytes(), nominal_rz.shape, surface, float(offset_mm), float(start_mm), float(end_mm),
+           float(spacing_mm), shape)
+    if key not in _TARGETS:
+        target = _target_surface(nominal_rz, surface, offset_mm, start_mm, end_mm, spacing_mm, shape)
+        for array in (target.points_rz, target.normals, target.feed_dir):
+            array.flags.writeable = False
+        if len(_TARGETS) >= _KEPT_TARGETS:
+            del _TARGETS[next(iter(_TARGETS))]  # the oldest
+        _TARGETS[key] = target
+    return _TARGETS[key]
+
+
+_TARGETS: dict[tuple, CutPath] = {}
+_KEPT_TARGETS = 256
+
+
+def _target_surface(nominal_rz: np.ndarray, surface: str, offset_mm: float, start_mm: float, end_mm: float,
+                    spacing_mm: float, shape: ToolShape | None) -> CutPath:
     frame = _frame(surface)
     if not spacing_mm > 0.0:
         raise ValueError(f"spacing must be a positive length in mm, got {spacing_mm!r}")
