@@ -104,12 +104,8 @@ def section(job_file, as_json):
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
-    try:
-        props = mass_properties(job.section, job.material.density_g_cm3)
-        wall_mm = min_wall(job.section)
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
+    props = mass_properties(job.section, job.material.density_g_cm3)
+    wall_mm = min_wall(job.section)
     payload = {
         "area_mm2": props.area_mm2,
         "volume_mm3": props.volume_mm3,
@@ -183,16 +179,12 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
     points = [parse_pair(text, "--at", "R,Z") for text in at]
     with Outputs() as outputs:
         figure = outputs.file(plot_file, "--plot") if plot_file and not points else None
-        try:
-            model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
-                              Patch(length_mm, width_mm), tolerance)
-            if points:
-                results = model.at_points([(r * factor, z * factor) for r, z in points])
-            else:
-                results = model.map()
-        except (InputError, ModelError) as exc:
-            exc.file = exc.file or job_file
-            raise
+        model = WallModel(job.section, job.held, job.material.E_mpa, job.material.nu,
+                          Patch(length_mm, width_mm), tolerance)
+        if points:
+            results = model.at_points([(r * factor, z * factor) for r, z in points])
+        else:
+            results = model.map()
         payload = {"points": [point_record(p) for p in results],
                    "matrix_axes": MATRIX_AXES,
                    "patch_mm": {"length": length_mm, "width": width_mm},
@@ -430,8 +422,7 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
     factor = MM_PER_INCH if job.units == "inch" else 1.0
-    outputs = Outputs()
-    try:
+    with Outputs() as outputs:
         figure = outputs.file(plot_file, "--plot") if plot_file else None
         html_temp = outputs.file(html_file, "--html") if html_file else None
         study = clamp_study(job)
@@ -457,11 +448,6 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
         if html_temp:
             write_html(html_temp, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
         outputs.commit()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    finally:
-        outputs.discard()
     if as_json:
         payload = clamp_payload(study)
         state_calibration(job, payload)
@@ -508,8 +494,7 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_f
     check_apply(job_file, apply_number, out_file)
     job = read_calibrated_job(job_file, calibration_file)
     warn(job.warnings, job_file)
-    outputs = Outputs()
-    try:
+    with Outputs() as outputs:
         contour_temp = outputs.folder(contour_dir, "--contour") if contour_dir else None
         html_temp = outputs.file(html_file, "--html") if html_file else None
         out_temp = outputs.file(out_file, "--out") if out_file else None
@@ -528,11 +513,6 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_f
             write_html(html_temp, job.title, "remedies", [job_file],
                        [tune_chapter(result, surface_of, job.units, walls, rules)])
         written = outputs.commit()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    finally:
-        outputs.discard()
     if as_json:
         payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
         if out_file:
@@ -572,8 +552,7 @@ def chatter(job_file, pass_name, as_json, figures_dir, html_file):
     from deflect.output.files import Outputs
 
     job = read_job(job_file)
-    outputs = Outputs()
-    try:
+    with Outputs() as outputs:
         figures_temp = outputs.folder(figures_dir, "--figures") if figures_dir else None
         html_temp = outputs.file(html_file, "--html") if html_file else None
         dynamics = dynamics_from_job(job.tables)
@@ -592,11 +571,6 @@ def chatter(job_file, pass_name, as_json, figures_dir, html_file):
             from deflect.output.html_chapters import chatter_chapter
             write_html(html_temp, study.title, "chatter check", [job_file], [chatter_chapter(study)])
         written = outputs.commit()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    finally:
-        outputs.discard()
     if as_json:
         emit_json(chatter_payload(study))
     else:
@@ -705,12 +679,8 @@ def rules(job_file, as_json, html_file):
     warn(job.warnings, job_file)
     with Outputs() as outputs:
         html_temp = outputs.file(html_file, "--html") if html_file else None
-        try:
-            process = process_from_job(job) if "pass" in job.tables else None
-            result = check_rules(job, process)
-        except (InputError, ModelError) as exc:
-            exc.file = exc.file or job_file
-            raise
+        process = process_from_job(job) if "pass" in job.tables else None
+        result = check_rules(job, process)
         if html_temp:
             from deflect.output.html_chapters import rules_chapter
             write_html(html_temp, job.title, "design rules", [job_file], [rules_chapter(result)])
@@ -746,12 +716,8 @@ def import_drawing(drawing_file, units, layer, axis, material, out_file):
     from deflect.job.materials import material_from_job
     from deflect.output.job_files import job_text
 
-    try:
-        drawing = read_drawing(drawing_file, units=units, layer=layer, axis=axis)
-        section = drawing_section(drawing, key="entities")
-    except InputError as exc:
-        exc.file = exc.file or drawing_file
-        raise
+    drawing = read_drawing(drawing_file, units=units, layer=layer, axis=axis)
+    section = drawing_section(drawing, key="entities")
     if material is not None:
         try:
             material_from_job({"name": material})
@@ -817,8 +783,7 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
     job = read_job(job_file, calibrated=False)
     warn(job.warnings, job_file)
     measured = read_measured(measured_file, job)
-    outputs = Outputs()
-    try:
+    with Outputs() as outputs:
         # the outputs are checked before the fit: a name taken by a file of the user's is refused at once
         figures_temp = outputs.folder(figure_dir, "--figures", ("first-article.png",)) if figure_dir else None
         save_temp = outputs.file(save_file, "--save") if save_file else None
@@ -847,11 +812,6 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
             write_html(html_temp, result.title, "first article explained", [job_file, measured_file],
                        [explain_chapter(result, remedies, surface_of, job.units, search)])
         written = outputs.commit()
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
-    finally:
-        outputs.discard()
     if as_json:
         emit_json(explain_payload(result, remedies, surface_of, job.units, search,
                                   str(save_file) if save_file else None))
@@ -907,16 +867,12 @@ def explained(job_file: str, measured_file: str):
 
     job = read_job(job_file, calibrated=False)
     measured = read_measured(measured_file, job)
-    try:
-        require_cutting_constants(job.material)
-        process = process_from_job(job)
-        memo: dict = {}
-        with kept_workers():
-            result = explain_first_article(job, process, measured, "tool", memo, date=date.today().isoformat())
-            remedies = next_part(job, result.calibration, memo, False, None)
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
+    require_cutting_constants(job.material)
+    process = process_from_job(job)
+    memo: dict = {}
+    with kept_workers():
+        result = explain_first_article(job, process, measured, "tool", memo, date=date.today().isoformat())
+        remedies = next_part(job, result.calibration, memo, False, None)
     surface_of = {p.name: p.surface for p in process.passes}
     return (explain_chapter(result, remedies, surface_of, job.units, False),
             explain_payload(result, remedies, surface_of, job.units, False, None))
@@ -999,15 +955,12 @@ def report(job_file, html_file, measured_file, as_json, quiet):
     """
     from deflect.output.files import Outputs
 
-    outputs = Outputs()
-    html_temp = outputs.file(html_file, "--html")       # checked before any work
-    try:
+    with Outputs() as outputs:
+        html_temp = outputs.file(html_file, "--html")       # checked before any work
         chapters, payload, remarks = report_parts(job_file, measured_file, quiet or as_json)
         sources = [job_file, measured_file] if measured_file else [job_file]
         write_html(html_temp, payload["title"], "report", sources, chapters, remarks=remarks)
         outputs.commit()
-    finally:
-        outputs.discard()
     if as_json:
         emit_json(payload)
     else:
@@ -1037,32 +990,28 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     if measured_file:
         chapter, payload["explain"] = explained(job_file, measured_file)
         chapters.append(chapter)
-    try:
-        if "holding" in job.tables:
-            study = clamp_study(job)
-            chapters.append(clamp_chapter_of(study))
-            payload["clamp"] = clamp_payload(study)
-        else:
-            remarks.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no "
-                           "work-holding study is made.")
-        if "dynamics" in job.tables:
-            study = chatter_of(job)
-            chapters.append(chatter_chapter(study))
-            payload["chatter"] = chatter_payload(study)
-        else:
-            remarks.append("No [dynamics] in the job: the chatter check (which needs the wall's damping) is left out; "
-                           "deflect chatter JOB --html FILE runs it with a recalled damping.")
-        if "tolerance" in job.tables:
-            require_cutting_constants(job.material)
-            surface_of = {p.name: p.surface for p in process_from_job(job).passes}
-            result = searched_with_progress(job, hidden=quiet)
-            chapters.append(tune_chapter(result, surface_of, job.units))
-            payload["tune"] = tune_payload(result, surface_of, job.units)
-        else:
-            remarks.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
-    except (InputError, ModelError) as exc:
-        exc.file = exc.file or job_file
-        raise
+    if "holding" in job.tables:
+        study = clamp_study(job)
+        chapters.append(clamp_chapter_of(study))
+        payload["clamp"] = clamp_payload(study)
+    else:
+        remarks.append("No [holding] in the job: the part is held as its [[held]] boxes say, and no "
+                       "work-holding study is made.")
+    if "dynamics" in job.tables:
+        study = chatter_of(job)
+        chapters.append(chatter_chapter(study))
+        payload["chatter"] = chatter_payload(study)
+    else:
+        remarks.append("No [dynamics] in the job: the chatter check (which needs the wall's damping) is left out; "
+                       "deflect chatter JOB --html FILE runs it with a recalled damping.")
+    if "tolerance" in job.tables:
+        require_cutting_constants(job.material)
+        surface_of = {p.name: p.surface for p in process_from_job(job).passes}
+        result = searched_with_progress(job, hidden=quiet)
+        chapters.append(tune_chapter(result, surface_of, job.units))
+        payload["tune"] = tune_payload(result, surface_of, job.units)
+    else:
+        remarks.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
     return chapters, payload, remarks
 
 
