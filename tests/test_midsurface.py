@@ -14,7 +14,7 @@ import pytest
 
 from deflect.errors import InputError
 from deflect.geometry.boxes import HeldBox
-from deflect.mechanics.shell.midsurface import ShellGeometry, derive_shell, shell_from_section
+from deflect.mechanics.shell.midsurface import ShellGeometry, _chains, derive_shell, shell_from_section
 
 THICKNESS_REL = 0.005      # Voronoi radius bias at 1/20-wall sampling is s^2 / (2 t) = 0.13 % of t
 POSITION_MM = 1e-3         # mid-line position: bias ~ s^2 / (8 t) = 0.3 um at 1 mm walls, plus smoothing
@@ -341,6 +341,36 @@ def test_same_input_same_result():
     assert np.array_equal(one.mesh.nodes_rz, two.mesh.nodes_rz)
     assert np.array_equal(one.mesh.elements, two.mesh.elements)
     assert np.array_equal(one.mesh.thickness_mm, two.mesh.thickness_mm)
+
+
+def walked_chains(n_vertices: int, edges: np.ndarray) -> list[list[int]]:
+    """Reference for `_chains`: from every end (degree not 2) in index order, along each of its edges in their
+    order, walk through the degree-2 vertices to the next end; a chain met again from its other end is skipped."""
+    neighbours = [[] for _ in range(n_vertices)]
+    for a, b in edges.tolist():
+        neighbours[a].append(b)
+        neighbours[b].append(a)
+    chains, done = [], set()
+    for start in (v for v in range(n_vertices) if len(neighbours[v]) != 2):
+        for step in neighbours[start]:
+            chain = [start, step]
+            while len(neighbours[chain[-1]]) == 2:
+                chain.append(next(v for v in neighbours[chain[-1]] if v != chain[-2]))
+            if (chain[-1], chain[-2]) not in done:
+                done.add((start, step))
+                chains.append(chain)
+    return chains
+
+
+def test_chains_of_random_trees_are_the_walked_ones():
+    rng = np.random.default_rng(3)
+    for size in [1, 2, 3, 4, 5, 8, 13, 40, 300] * 8:
+        # vertex i joins an earlier one; then random labels, edge order and edge directions
+        edges = np.array([[rng.integers(0, i), i] for i in range(1, size)], int).reshape(-1, 2)
+        edges = rng.permutation(size)[edges][rng.permutation(len(edges))]
+        flip = rng.random(len(edges)) < 0.5
+        edges[flip] = edges[flip][:, ::-1]
+        assert _chains(size, edges) == walked_chains(size, edges)
 
 
 @pytest.mark.parametrize("name", SHAPES)

@@ -46,7 +46,7 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import connected_components, minimum_spanning_tree, reverse_cuthill_mckee
+from scipy.sparse.csgraph import connected_components, depth_first_order, minimum_spanning_tree, reverse_cuthill_mckee
 from scipy.spatial import Delaunay, QhullError
 from shapely.geometry import Polygon
 
@@ -370,26 +370,29 @@ def _voronoi_skeleton(outline: np.ndarray, spacing: float, key: str) -> _Voronoi
 # 2. branches, 3. pruning
 
 def _chains(n_vertices: int, edges: np.ndarray) -> list[list[int]]:
-    """Split a tree into chains of vertices between vertices of degree other than 2."""
-    neighbours: list[list[int]] = [[] for _ in range(n_vertices)]
-    for a, b in edges.tolist():
-        neighbours[a].append(b)
-        neighbours[b].append(a)
-    ends = [v for v in range(n_vertices) if len(neighbours[v]) != 2]
-    seen: set[tuple[int, int]] = set()
-    chains = []
-    for start in ends:
-        for first in neighbours[start]:
-            if (start, first) in seen:
-                continue
-            chain, previous, current = [start, first], start, first
-            while len(neighbours[current]) == 2:
-                nxt = neighbours[current][0] if neighbours[current][0] != previous else neighbours[current][1]
-                previous, current = current, nxt
-                chain.append(current)
-            seen.add((chain[-1], chain[-2]))
-            chains.append(chain)
-    return chains
+    """Split a tree (connected) into chains of vertices between vertices of degree other than 2.
+
+    Each chain runs from its end of lower index; the chains come in the order of that end, then of the edge
+    by which they leave it (its row in `edges`). In a depth-first order of the tree from an end, every chain
+    is that end's child and the run of degree-2 vertices after it, up to and with the next end: a chain
+    starts wherever a vertex's parent is an end.
+    """
+    if len(edges) == 0:
+        return []
+    degree = np.bincount(edges.ravel(), minlength=n_vertices)
+    is_end = degree != 2
+    graph = coo_matrix((np.ones(len(edges)), (edges[:, 0], edges[:, 1])), shape=(n_vertices, n_vertices))
+    order, parent = depth_first_order(graph.tocsr(), int(np.argmax(is_end)), directed=False)
+    starts = np.flatnonzero(is_end[parent[order[1:]]]) + 1
+    chains = [np.concatenate([[parent[run[0]]], run]) for run in np.split(order, starts)[1:]]
+    chains = [c if c[0] < c[-1] else c[::-1] for c in chains]
+    first, second = np.array([c[0] for c in chains]), np.array([c[1] for c in chains])
+    # the row of the edge (first, second) in `edges`, looked up by the pair's number a n + b, either way round
+    pair = np.concatenate([edges[:, 0] * n_vertices + edges[:, 1], edges[:, 1] * n_vertices + edges[:, 0]])
+    row = np.tile(np.arange(len(edges)), 2)
+    by_pair = np.argsort(pair)
+    leaving = row[by_pair[np.searchsorted(pair, first * n_vertices + second, sorter=by_pair)]]
+    return [chains[k].tolist() for k in np.lexsort((leaving, first))]
 
 
 def _arclength(points: np.ndarray) -> np.ndarray:
