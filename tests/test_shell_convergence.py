@@ -8,17 +8,27 @@ with the closed form of the same (shear-flexible) theory.
 Harmonic series: `compliance` sums the series with its tail fitted as a power of n (the patch's weights known)
 and stops when the estimated error of the whole sum falls below tol. Checked here: the decay of the terms on a
 cup-like wall, the result against the fully summed series (n to 2000) on that wall, the MacNeal-Harder pinched
-cylinder and the 3-D solid check's shapes, and that halving tol moves the result by less than tol.
+cylinder and the 3-D solid check's shapes, that halving tol moves the result by less than tol, and that the
+terms interpolated between the computed harmonics (`sampled`) leave the sum of every key station of the
+shipped examples where every harmonic computed puts it.
 """
 
 import sys
+from glob import glob
 from pathlib import Path
 
 import numpy as np
 import pytest
 from scipy.integrate import quad
 
-from deflect.mechanics.shell.harmonic import SHEAR_FACTOR, HarmonicShell, ShellLoad, compliance, harmonic_weights
+from deflect.mechanics.shell.harmonic import (
+    SHEAR_FACTOR,
+    HarmonicShell,
+    ShellLoad,
+    compliance,
+    harmonic_weights,
+    interpolated_terms,
+)
 from deflect.mechanics.shell.mesh import ShellMesh
 
 E_MPA, NU = 70000.0, 0.33
@@ -183,3 +193,69 @@ def test_halving_tol_moves_the_result_less_than_tol():
         fine, _ = compliance(shell, loads, directions, tol=tol / 2)
         diag = np.abs(np.diagonal(fine, axis1=1, axis2=2))
         assert np.all(np.abs(np.diagonal(coarse - fine, axis1=1, axis2=2)) < tol * diag)
+
+
+SAMPLED_TOL = 1e-3  # the interpolated terms' share of the error budget: tol (1e-3) of the sum, at most
+EXAMPLES = sorted(glob(str(Path(__file__).resolve().parent.parent / "data" / "examples" / "*.toml")))
+
+
+@pytest.mark.parametrize("job_path", [path for path in EXAMPLES if "first-article" not in path],
+                         ids=lambda path: Path(path).stem)
+def test_interpolated_terms_against_every_harmonic(job_path, monkeypatch):
+    """Every key station of a shipped example's simulation, summed twice: with the terms between the checks
+    interpolated (the product's way) and with every harmonic computed. They agree within SAMPLED_TOL of
+    sqrt(|C_ii C_jj|) in all entries, and stop at the same harmonic; the worst difference is printed."""
+    from deflect.geometry.section import POLYGON_CHORD_MM
+    from deflect.job.reader import read_job
+    from deflect.machining import simulate
+    from deflect.machining.targets import process_from_job
+    from deflect.mechanics import compliance as compliance_module
+
+    worst, factored = [], []
+    factor = HarmonicShell._factor
+
+    def counted(shell, n, setup):
+        factored[-1] += 1
+        return factor(shell, n, setup)
+
+    def both_ways(shell, loads, directions, **options):
+        factored.append(0)
+        every, n_every = compliance(shell, loads, directions, sampled=False, **options)
+        factored.append(0)
+        result, n_used = compliance(shell, loads, directions, **options)
+        diag = np.abs(np.diagonal(every, axis1=1, axis2=2))
+        scale = np.sqrt(diag[:, :, None] * diag[:, None, :])
+        worst.append(np.max(np.abs(result - every) / np.maximum(scale, 1e-300)))
+        assert n_used == n_every
+        return result, n_used
+
+    monkeypatch.setattr(compliance_module, "harmonic_compliance", both_ways)
+    monkeypatch.setattr(HarmonicShell, "_factor", counted)
+    monkeypatch.setattr(simulate, "free_cores", lambda: 1)  # the key stations in this process, where the spy is
+    job = read_job(job_path)
+    simulate.plan_compliance(job, process_from_job(job), simulate.SimulationSettings(),
+                             job.section.polygon(POLYGON_CHORD_MM))
+    every, sampled = sum(factored[0::2]), sum(factored[1::2])
+    print(f"{Path(job_path).stem}: {len(worst)} key stations, worst difference {max(worst):.1e}; "
+          f"{every} factorisations with every harmonic, {sampled} sampled")
+    assert len(worst) > 10 and sampled < 0.7 * every  # the key stations' loads go one harmonic at a time
+    assert max(worst) < SAMPLED_TOL
+
+
+def test_interpolation_reproduces_a_power_law():
+    """On terms that are an exact power of n (a straight line in log-log, any cubic through it is that line)
+    with a fixed correlation, the interpolated terms are the power law; a held point's zeros stay zero."""
+    samples_n = np.array([10, 11, 12, 16, 20])
+    wanted = np.array([13, 14, 15, 17, 18, 19])
+
+    def power_law(n):
+        n = np.asarray(n, dtype=float)[None, :]  # (1, H): load 0 follows the law, load 1 is held
+        terms = np.zeros((2, n.shape[1], 3, 3))
+        terms[0, :, 0, 0], terms[0, :, 1, 1], terms[0, :, 2, 2] = 3e-4 * n[0]**-1.7, 2e-5 * n[0]**-0.2, 5e-5 / n[0]
+        terms[0, :, 0, 2] = terms[0, :, 2, 0] = -0.4 * np.sqrt(terms[0, :, 0, 0] * terms[0, :, 2, 2])
+        return terms
+
+    result = interpolated_terms(samples_n, power_law(samples_n), wanted)  # (H, P, 3, 3)
+    expected = np.moveaxis(power_law(wanted), 0, 1)
+    assert np.allclose(result, expected, rtol=1e-12, atol=0)
+    assert np.all(result[:, 1] == 0.0)
