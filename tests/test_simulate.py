@@ -40,12 +40,13 @@ from deflect.cli import main
 from deflect.decisions.tune import worst_deviation_mm
 from deflect.geometry.section import POLYGON_CHORD_MM
 from deflect.job.reader import read_job
-from deflect.machining.inprocess import cuts_for_pass, depth_of_material, remove
+from deflect.machining.inprocess import CutPath, cuts_for_pass, depth_of_material, remove
 from deflect.machining.simulate import (
     SimulationSettings,
     contact_point,
     key_indices,
     plan_compliance,
+    resampled,
     section_of_polygon,
     simulate,
 )
@@ -613,3 +614,49 @@ def test_facing_a_bar_to_the_centre_and_past_it(folder, end):
     r = np.array([s["r"] for s in stations])
     assert r.min() == 0.0 and r[-1] == 0.0
     assert all(s["compliance_mm_per_N"] > 0.0 for s in stations)
+
+
+# ---------------------------------------------------------------------------------------------------
+# a cut with an offset takes the compliance of the same place on the cut without it
+
+
+def straight_path(points_rz) -> CutPath:
+    points = np.asarray(points_rz, dtype=float)
+    steps = np.diff(points, axis=0)
+    feed = np.vstack([steps, steps[-1:]]) / np.linalg.norm(np.vstack([steps, steps[-1:]]), axis=1)[:, None]
+    return CutPath(points_rz=points, normals=np.column_stack([-feed[:, 1], feed[:, 0]]), feed_dir=feed)
+
+
+def test_an_offset_path_that_runs_on_along_the_floor_keeps_the_compliance_of_its_place():
+    """A bore from z 40 down to its floor at z 6; its compliance grows with the height above the floor. With a
+    positive offset of 0.05 mm the target runs on along the floor (z 6.05) to r 8: 15.8 mm more path. Each
+    station of the offset path must take the compliance of the nearest place on the bore (the floor: the
+    bore's foot), not that of the same share of the path's length (which would put the compliance of z 17 at
+    the foot)."""
+    z = np.linspace(40.0, 6.0, 341)
+    planned = straight_path(np.column_stack([np.full_like(z, 23.8), z]))
+    c_nn = 1e-6 * (1.0 + (z - 6.0) ** 2)          # mm/N, an invented profile stiff at the floor
+    values = np.zeros((len(z), 3, 3))
+    values[:, 0, 0], values[:, 1, 1], values[:, 2, 2] = c_nn, 2.0 * c_nn, 0.5 * c_nn
+    wall_z = np.linspace(40.0, 6.05, 300)
+    floor_r = np.linspace(23.75, 8.0, 160)[1:]
+    actual = straight_path(np.vstack([np.column_stack([np.full_like(wall_z, 23.75), wall_z]),
+                                      np.column_stack([floor_r, np.full_like(floor_r, 6.05)])]))
+    out = resampled(values, planned, actual)
+    on_wall = slice(0, len(wall_z))
+    expected_wall = 1e-6 * (1.0 + (wall_z - 6.0) ** 2)
+    # the profile is a parabola sampled every 0.1 mm: interpolated linearly (in log) it is within 0.5 %
+    assert out[on_wall, 0, 0] == pytest.approx(expected_wall, rel=5e-3)
+    assert out[on_wall, 1, 1] == pytest.approx(2.0 * out[on_wall, 0, 0], rel=1e-12)
+    assert out[on_wall, 2, 2] == pytest.approx(0.5 * out[on_wall, 0, 0], rel=1e-12)
+    # along the floor the nearest place on the bore is its foot at z 6.05, where the wall's last station is
+    assert out[len(wall_z):, 0, 0] == pytest.approx(np.full(len(floor_r), out[len(wall_z) - 1, 0, 0]), rel=1e-12)
+
+
+def test_a_path_unchanged_keeps_its_values():
+    z = np.linspace(30.0, 5.0, 51)
+    path = straight_path(np.column_stack([np.full_like(z, 20.0), z]))
+    values = np.random.default_rng(3).uniform(1e-6, 1e-5, (len(z), 3, 3))
+    twin = straight_path(path.points_rz.copy())
+    assert resampled(values, path, path) is values
+    assert resampled(values, path, twin) is values

@@ -279,8 +279,8 @@ def plan_compliance(job, process: Process, settings: SimulationSettings, nominal
     micrometres, its compliance by far less than the force constants' spread. So every key station of every
     cut is known before any equilibrium is solved, and all of them go to the cores at once. For the same
     reason the shapes leave out the passes' wear offsets and programmed compensation (micrometres, too):
-    the compliance along a cut with an offset is that of the same cut without it, taken at the same share
-    of the path's length. (Only where an offset changes the number of cuts of a pass is the plan made on
+    the compliance along a cut with an offset is that of the same cut without it, taken at the nearest
+    point of that cut's path (`resampled`). (Only where an offset changes the number of cuts of a pass is the plan made on
     the offset targets themselves.)
     memo: {key station: 3x3} shared between calls on variants of one job (`deflect.decisions.tune`); a key station is
     looked up by the exact shape, path and station, so the results do not depend on what it holds.
@@ -392,24 +392,33 @@ def compliance_along_cuts(job, process: Process, paths: dict, parts: dict, setti
 
 
 def resampled(values: np.ndarray, planned: CutPath, actual: CutPath) -> np.ndarray:
-    """Compliance along `actual` from its values along `planned` (the same cut without offsets), matched
-    by the share of the path's length travelled; the normal entry in log scale, as in `interpolated`."""
+    """Compliance along `actual` from its values along `planned` (the same cut without offsets): each station of
+    `actual` takes the value at the nearest point of `planned`, the normal entry in log scale, as in
+    `interpolated`.
+
+    An offset or a compensation moves the path by micrometres along its normal, so the nearest point of the
+    planned path is the same place on the part. The share of the path's length travelled is not: an offset
+    target can run on along a face the planned path stops at (the demo's bore path, given a positive offset,
+    follows the cup's floor for another 15 mm), and the share then puts the compliance of the wall's top
+    where the tool is at its foot. Stations beyond the planned path's ends take the value at its end."""
     if planned is actual or (len(planned.points_rz) == len(actual.points_rz)
                              and np.array_equal(planned.points_rz, actual.points_rz)):
         return values
-    share_planned, share_actual = (travelled_share(path) for path in (planned, actual))
+    along_planned = travelled_mm(planned)
+    along_actual = shapely.line_locate_point(shapely.LineString(planned.points_rz),
+                                             shapely.points(actual.points_rz))
     normal = np.maximum(values[:, 0, 0], 1e-15)
     ratios = (values / normal[:, None, None]).reshape(len(values), 9)
-    out = np.stack([np.interp(share_actual, share_planned, column) for column in ratios.T], axis=1)
+    out = np.stack([np.interp(along_actual, along_planned, column) for column in ratios.T], axis=1)
     out = out.reshape(-1, 3, 3)
     out[:, 0, 0] = 1.0
-    return np.exp(np.interp(share_actual, share_planned, np.log(normal)))[:, None, None] * out
+    return np.exp(np.interp(along_actual, along_planned, np.log(normal)))[:, None, None] * out
 
 
-def travelled_share(path: CutPath) -> np.ndarray:
+def travelled_mm(path: CutPath) -> np.ndarray:
+    """The distance along the path from its start to each station [mm]."""
     steps = np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1)
-    travelled = np.concatenate([[0.0], np.cumsum(steps)])
-    return travelled / max(travelled[-1], 1e-12)
+    return np.concatenate([[0.0], np.cumsum(steps)])
 
 
 def parallel_map(function, tasks: list[tuple]):
