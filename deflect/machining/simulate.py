@@ -197,8 +197,7 @@ def met_depth(current_rz: np.ndarray, path: CutPath, p: Pass) -> np.ndarray:
 
 def contact_point(path: CutPath, k: int, behind_mm: float) -> np.ndarray:
     """Where the tool bears on the part: on the freshly cut surface just behind the tool tip."""
-    travelled = np.concatenate([[0.0], np.cumsum(np.linalg.norm(np.diff(path.points_rz, axis=0), axis=1))])
-    shift = min(behind_mm, 0.5 * travelled[k])   # near the start: midway between the part's end and the tool
+    shift = min(behind_mm, 0.5 * travelled_mm(path)[k])   # near the start: midway between the part's end and the tool
     return path.points_rz[k] - shift * path.feed_dir[k]
 
 
