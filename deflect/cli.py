@@ -533,25 +533,27 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_f
 @click.option("--json", "as_json", is_flag=True, help="Print one JSON object instead of the report.")
 @click.option("--figures", "figures_dir", default=None,
               help="Draw the lobes of each pass with its operating points and the first mode shapes here (PNG).")
+@click.option("--calibration", "calibration_file", type=click.Path(dir_okay=False), default=None, help=CALIBRATION_HELP)
 @click.option("--html", "html_file", default=None, help=HTML_HELP)
 @names_the_job
-def chatter(job_file, pass_name, as_json, figures_dir, html_file):
+def chatter(job_file, pass_name, as_json, figures_dir, calibration_file, html_file):
     """Chatter of thin walls: the part's modes, the stability of each finishing pass, the speeds that cut clean.
 
     The wall's modes as held and as cut (the stock still ahead of the tool), the regenerative stability of each
     pass at key stations with its worst station, the largest stable depth at its speed and the spindle-speed
     windows where its depth is stable. Damping from [dynamics] (or a recalled default); a tap test's modes
-    replace the model's. Estimates: confirm with a tap test and a trial cut; the machine's limits come first.
+    replace the model's. A first article's calibration (--calibration or [job] calibration) scales each pass's
+    forces, and so the depth it can take. Estimates: confirm with a tap test and a trial cut; the machine's
+    limits come first.
     """
     from deflect.job.dynamics import dynamics_from_job
     from deflect.job.materials import require_cutting_constants
-    from deflect.job.reader import read_job
     from deflect.machining.chatter import chatter_study
     from deflect.machining.targets import process_from_job
     from deflect.output.chatter_report import chatter_payload, chatter_report
     from deflect.output.files import Outputs
 
-    job = read_job(job_file)
+    job = read_calibrated_job(job_file, calibration_file)
     with Outputs() as outputs:
         figures_temp = outputs.folder(figures_dir, "--figures") if figures_dir else None
         html_temp = outputs.file(html_file, "--html") if html_file else None
@@ -572,8 +574,11 @@ def chatter(job_file, pass_name, as_json, figures_dir, html_file):
             write_html(html_temp, study.title, "chatter check", [job_file], [chatter_chapter(study)])
         written = outputs.commit()
     if as_json:
-        emit_json(chatter_payload(study))
+        payload = chatter_payload(study)
+        state_calibration(job, payload)
+        emit_json(payload)
     else:
+        state_calibration(job)
         out(chatter_report(study))
         for path in written:
             out(f"wrote {path}")

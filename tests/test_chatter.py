@@ -268,3 +268,49 @@ def test_tune_does_not_count_an_option_that_chatters_as_holding_with_a_given_dam
     assert not marked.options[0].meets and not marked.current.meets
     added = [b for b in marked.options[0].broken if b not in outcome.broken]
     assert any("'light finish' is predicted to chatter" in b for b in added)
+
+
+# ---------------------------------------------------------------------------------------------------
+# a first article's calibration scales the forces, and so the chatter limit
+
+CALIBRATION = """
+[calibration]
+material = "ti-6al-4v"
+fitted_per = "tool"
+
+[[calibration.factor]]
+applies_to = "T2 finish"
+kind = "force"
+value = 0.5
+low = 0.4
+high = 0.6
+"""
+
+
+def test_a_calibrated_force_factor_scales_the_cuts_coefficient_not_the_walls_limit(tmp_path):
+    """Half the forces on the finishing tool: the thrust's dynamic coefficient of every key station halves,
+    the wall's limit (its lobes) stays, and the depth the cut can take at its speed grows."""
+    from deflect.job.calibration import read_calibration, with_calibration
+
+    job, process = job_of(LIGHT_FINISH)
+    assert job.material.name == "ti-6al-4v"
+    (tmp_path / "cal.toml").write_text(CALIBRATION)
+    calibrated = with_calibration(job, read_calibration(str(tmp_path / "cal.toml")))
+    dynamics = dynamics_from_job(job.tables)
+    plain, halved = (chatter.chatter_study(j, process_from_job(j), dynamics, pass_name="light finish",
+                                           key_stations=2).passes[0] for j in (job, calibrated))
+    assert len(plain.stations) == len(halved.stations)
+    for a, b in zip(plain.stations, halved.stations):
+        assert b.coefficient_n_per_mm2 == pytest.approx(0.5 * a.coefficient_n_per_mm2, rel=1e-12)
+        assert b.limit_coefficient_n_per_mm2 == pytest.approx(a.limit_coefficient_n_per_mm2, rel=1e-9)
+        assert b.limit_depth_mm >= a.limit_depth_mm
+    assert halved.worst.limit_depth_mm > plain.worst.limit_depth_mm
+
+
+def test_chatter_reads_a_calibration_and_says_so(tmp_path, capsys):
+    job_file, calibration = tmp_path / "sleeve.toml", tmp_path / "cal.toml"
+    job_file.write_text(LIGHT_FINISH)
+    calibration.write_text(CALIBRATION)
+    payload = run_json(["chatter", str(job_file), "--pass", "light finish", "--json", "--calibration",
+                        str(calibration)], capsys)
+    assert payload["calibration"]["factors"][0]["applies_to"] == "T2 finish"

@@ -252,11 +252,15 @@ class CutResponse:
     tool: object
     feed_mm: float
     speed_m_min: float
+    force_factor: float = 1.0    # a first article's calibration of the pass's forces (all three Kienzle constants)
 
     def branches(self, depth_mm: float):
+        """The cut's thrust coefficient and the lobes' branches at this depth. A calibrated force factor scales
+        the three force constants together, so the thrust and its coefficient, not their direction."""
         modulation = chip_modulation(self.material, self.tool, depth_mm, self.feed_mm, self.speed_m_min)
         phi_in, phi_out = oriented(self.response, modulation, self.feed_sign)
-        return modulation.coefficient_n_per_mm2, lobe_branches(self.frequency_hz, phi_in, phi_out)
+        return (self.force_factor * modulation.coefficient_n_per_mm2,
+                lobe_branches(self.frequency_hz, phi_in, phi_out))
 
     def margin(self, depth_mm: float, rpm, most: float = math.inf) -> np.ndarray:
         """Limit over the cut's coefficient at the speeds (> 1 stable); where it exceeds `most`, inf."""
@@ -275,7 +279,7 @@ def cut_response(job, process, p, response: PointResponse, corrections: Correcti
     if tool.bar is not None:
         frf[:, 0, 0] += bar_frf(tool.bar, grid, corrections.damping)
     return CutResponse(frequency_hz=grid, response=frf, feed_sign=feed_sign, material=job.material, tool=tool,
-                       feed_mm=p.feed_mm, speed_m_min=p.speed_m_min)
+                       feed_mm=p.feed_mm, speed_m_min=p.speed_m_min, force_factor=p.force_factor)
 
 
 def deepest_scanned_mm(depth_mm: float) -> float:
