@@ -552,6 +552,7 @@ def chatter(job_file, pass_name, as_json, figures_dir, calibration_file, html_fi
     from deflect.machining.targets import process_from_job
     from deflect.output.chatter_report import chatter_payload, chatter_report
     from deflect.output.files import Outputs
+    from deflect.output.tables import units_note
 
     job = read_calibrated_job(job_file, calibration_file)
     with Outputs() as outputs:
@@ -579,7 +580,7 @@ def chatter(job_file, pass_name, as_json, figures_dir, calibration_file, html_fi
         emit_json(payload)
     else:
         state_calibration(job)
-        out(chatter_report(study))
+        out(units_note(job.units) + chatter_report(study))
         for path in written:
             out(f"wrote {path}")
 
@@ -679,6 +680,7 @@ def rules(job_file, as_json, html_file):
     from deflect.machining.targets import process_from_job
     from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_report
+    from deflect.output.tables import units_note
 
     job = read_job(job_file)
     warn(job.warnings, job_file)
@@ -693,7 +695,7 @@ def rules(job_file, as_json, html_file):
     if as_json:
         emit_json(rules_payload(result))
     else:
-        out(rules_report(result, job.title))
+        out(units_note(job.units) + rules_report(result, job.title))
         for path in written:
             out(f"wrote {path}")
 
@@ -1044,11 +1046,12 @@ def compare(job_a, job_b, as_json, html_file, calibration_file, quiet):
     from deflect.job.reader import read_job
     from deflect.output.compare_report import compare_payload, compare_report, part_words
     from deflect.output.files import Outputs
+    from deflect.output.tables import units_note
 
     with Outputs() as outputs:
         html_temp = outputs.file(html_file, "--html") if html_file else None
-        read_job(job_a)                       # both read and checked before either is predicted
-        read_calibrated_job(job_b, calibration_file)
+        units = {read_job(job_a).units,         # both read and checked before either is predicted
+                 read_calibrated_job(job_b, calibration_file).units}
         sides = []
         for job_file, calibration in ((job_a, None), (job_b, calibration_file)):
             if not quiet and not as_json:
@@ -1066,7 +1069,7 @@ def compare(job_a, job_b, as_json, html_file, calibration_file, quiet):
     if as_json:
         emit_json(compare_payload(comparison))
     else:
-        out(compare_report(comparison))
+        out(units_note("inch" if "inch" in units else "mm") + compare_report(comparison))
         for path in written:
             out(f"wrote {path}")
 

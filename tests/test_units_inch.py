@@ -84,6 +84,25 @@ def test_an_inch_report_says_its_lengths_are_in_mm(tmp_path):
     assert not run_cli(["section", str(path)])[1].startswith("(an inch job")
 
 
+@pytest.mark.parametrize("command", ["rules", "chatter", "compare"])
+def test_every_report_of_an_inch_job_says_its_lengths_are_in_mm(tmp_path, command):
+    """rules, chatter and compare print lengths in mm as the other reports do, and say so first."""
+    inch = copy.deepcopy(OD_SLEEVE)
+    inch["job"]["units"] = "inch"
+    inch["part"]["outline"] = [[r / MM_PER_INCH, z / MM_PER_INCH] for r, z in inch["part"]["outline"]]
+    inch["stock"]["outline"] = [[r / MM_PER_INCH, z / MM_PER_INCH] for r, z in inch["stock"]["outline"]]
+    inch["held"] = [{"r": [0.0, 100.0 / MM_PER_INCH], "z": [0.0, 5.0 / MM_PER_INCH]}]
+    inch["tool"] = [{**inch["tool"][0], "nose_radius": 0.4 / MM_PER_INCH}]
+    inch["pass"] = [{**inch["pass"][0], "feed": 0.1 / MM_PER_INCH, "z": [40.0 / MM_PER_INCH, 6.0 / MM_PER_INCH]}]
+    paths = {units: write_job(tmp_path, units, tables) for units, tables in (("inch", inch), ("mm", OD_SLEEVE))}
+    for units, path in paths.items():
+        args = [command, str(path)] + ([str(paths["mm"])] if command == "compare" else []) + ["--quiet"] * (
+            command == "compare")
+        code, out, err = run_cli(args)
+        assert code == 0, err
+        assert out.startswith("(an inch job: its lengths are printed in mm below") == (units == "inch"), out[:200]
+
+
 def test_an_inch_insert_code_is_the_same_tool_as_its_radius(tmp_path):
     tables = copy.deepcopy(OD_SLEEVE)
     tables["tool"][0] = {"name": "T1", "insert": "CNMG 432", "approach": 93.0, "rake": 7.0}
