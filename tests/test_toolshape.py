@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import math
+from pathlib import Path
 
 import pytest
 from shapely.geometry import Polygon
@@ -25,6 +26,7 @@ from deflect.machining.simulate import SimulationSettings, cut_to_targets, simul
 from deflect.machining.targets import process_from_job
 from deflect.machining.toolshape import REACH_CLEARANCE_DEG, tool_shape
 
+EXAMPLES = Path(__file__).resolve().parents[1] / "data" / "examples"
 DENSITY = 2.70          # al-6061-t6, g/cm3
 EXACT = 1e-9
 
@@ -169,3 +171,47 @@ def test_ramp_the_trailing_edge_clears_is_not_flagged(tmp_path):
     assert not [f for f in rules.findings if f.rule == "reach"]
     # the groove's sharp corners are the nose's, and they are found
     assert len([f for f in rules.findings if f.rule == "corner"]) == 2
+
+
+def test_a_square_groove_wall_is_flagged_at_90_degrees_against_the_trailing_edge(tmp_path):
+    """The groove's wall falling square into it (z = 30, the feed running -z): the trailing edge follows at most
+    180 - 93 - 55 - clearance degrees; the finding gives the wall's 90 degrees and that limit."""
+    outline = [[10.0, 0.0], [20.0, 0.0], [20.0, 20.0], [18.0, 20.0], [18.0, 30.0], [20.0, 30.0], [20.0, 40.0],
+               [10.0, 40.0]]
+    job = read_job(write_job(tmp_path, outline, "DCMT11T302"))
+    reach = [f for f in check_rules(job, process_from_job(job)).findings if f.rule == "reach"]
+    assert len(reach) == 1
+    assert reach[0].value == pytest.approx(90.0, abs=0.5)
+    assert reach[0].limit == pytest.approx(180.0 - 93.0 - 55.0 - REACH_CLEARANCE_DEG)
+    assert reach[0].value > reach[0].limit
+
+
+def test_stock_a_pass_stops_short_of_is_no_reach_finding(tmp_path):
+    """A bore finished from above the part down to z = 10 only, its stock running on below: that stock is
+    left because the pass stops, not because of the tool's shape (it shows as the layer on the bore)."""
+    text = (JOB.format(outline=json.dumps([[19.0, 0.0], [22.0, 0.0], [22.0, 50.0], [19.0, 50.0]]),
+                       insert="CCMT060204", stock=json.dumps([[18.6, 0.0], [22.0, 0.0], [22.0, 50.0],
+                                                              [18.6, 50.0]]))
+            .replace('surface = "od"', 'surface = "id"').replace("z = [41.0, 0.0]", "z = [51.0, 10.0]"))
+    path = tmp_path / "bore.toml"
+    path.write_text(text)
+    job = read_job(path)
+    assert not [f for f in check_rules(job, process_from_job(job)).findings if f.rule == "reach"]
+
+
+@pytest.mark.parametrize("surface, offset", [("od", 0.005), ("id", 0.005)])
+def test_a_wear_offset_is_no_reach_finding(surface, offset, tmp_path):
+    """A positive wear offset leaves a layer on the whole surface: the layer, not a piece the edges cannot reach
+    (the demo housing, whose drawing has no such piece)."""
+    text = (EXAMPLES / "housing.toml").read_text()
+    name = "finish OD" if surface == "od" else "finish bore"
+    marker = f'name = "{name}"'
+    assert marker in text
+    text = text.replace(marker, f"{marker}\noffset = {offset}", 1)
+    path = tmp_path / "housing.toml"
+    path.write_text(text)
+    job = read_job(path)
+    process = process_from_job(job)
+    assert not [f for f in check_rules(job, process).findings if f.rule == "reach"]
+    pred = simulate(job, process)
+    assert "reach" not in pred.mass_gain_by_surface_g and surface in pred.mass_gain_by_surface_g

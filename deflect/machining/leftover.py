@@ -42,6 +42,9 @@ NOISE_CHORDS = 4.0
 CONTOUR_SPACING_MM = 0.01
 # A stretch of the contour faces a pass's tool when its outward normal leans this much (cosine) towards it.
 FACING_COS = 0.1
+# A wall square to the feed counts for a pass's reach only this far inside the pass's extent [mm] (at the
+# extent's ends the pass meets the part's end, or stops).
+WALL_CLEAR_MM = 0.05
 
 
 @dataclass(frozen=True)
@@ -143,11 +146,16 @@ def _feed_and_tool_side(p: Pass) -> tuple[np.ndarray, np.ndarray]:
 def _steepness(samples, piece: Polygon, p: Pass) -> tuple[float, bool] | None:
     """The steepest the drawn contour runs inside the piece, from the feed direction [deg], and whether it falls
     away (the normal leans along the feed) or rises ahead; None where no stretch of the contour there faces the
-    pass's tool (stock beyond a face the pass does not turn, such as above the part's end, is no reach of it)."""
+    pass's tool. A wall square to the feed (a groove's side: its normal across the tool's side) counts where it
+    stands inside the pass's extent; the part's end beyond which the pass carries on into air does not."""
     inside = shapely.contains_xy(piece.buffer(10.0 * BUFFER_CHORD_MM), samples.points[:, 0], samples.points[:, 1])
     feed, towards_tool = _feed_and_tool_side(p)
-    normals = samples.normals[inside]
-    normals = normals[normals @ towards_tool > FACING_COS]
+    points, normals = samples.points[inside], samples.normals[inside]
+    along = points @ np.abs(feed)                    # z for an od or a bore, r for a face
+    low, high = sorted((p.start_mm, p.end_mm))
+    within = (along > low + WALL_CLEAR_MM) & (along < high - WALL_CLEAR_MM)
+    facing = (normals @ towards_tool > FACING_COS) | ((normals @ towards_tool > -FACING_COS) & within)
+    normals = normals[facing]
     if not len(normals):
         return None
     angles = np.degrees(np.arctan2(normals @ feed, normals @ towards_tool))
@@ -186,10 +194,14 @@ def reach_left(job, process: Process, shaped_rz: np.ndarray, corners: list[Corne
         if found is None:
             continue
         steepest, descending = found
+        limit = shape.steepest_descent_deg if descending else shape.steepest_rise_deg
+        if steepest <= limit:
+            # the tool follows the contour there: what is left is stock the pass stops short of (or no pass
+            # turns), counted as the layer on that surface, not a piece its edges cannot reach
+            continue
         volume = 2.0 * math.pi * first_r
         out.append(ReachLeft(r_mm=float(first_r / area), z_mm=float(first_z / area), area_mm2=float(area),
                              volume_mm3=float(volume), mass_g=grams(job.material.density_g_cm3, volume),
-                             pass_name=p.name, tool=tool.name, steepest_deg=steepest,
-                             limit_deg=shape.steepest_descent_deg if descending else shape.steepest_rise_deg,
+                             pass_name=p.name, tool=tool.name, steepest_deg=steepest, limit_deg=limit,
                              descending=descending, polygon=piece))
     return out

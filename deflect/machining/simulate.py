@@ -815,7 +815,11 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
 
 def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict):
     """(corners, reach): what the finishing tools' nose and edges leave beyond the drawing
-    (`deflect.machining.leftover`), on the part cut exactly to the targets."""
+    (`deflect.machining.leftover`), on the part cut exactly to the targets. The targets are taken without
+    wear offsets, compensation and a calibration's size errors: those move a whole surface (the layer on it),
+    not what the tool's shape can reach, and a positive one would otherwise leave a layer the length of the
+    surface that reads as a piece the edges cannot reach."""
+    process = without_corrections(process)
     targets = finishing_targets(job, process, memo)
     corners = corners_left(job, process, targets)
     shaped = cut_to_targets(process, nominal_rz, settings.station_spacing_mm, memo)
