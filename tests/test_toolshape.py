@@ -215,3 +215,20 @@ def test_a_wear_offset_is_no_reach_finding(surface, offset, tmp_path):
     assert not [f for f in check_rules(job, process).findings if f.rule == "reach"]
     pred = simulate(job, process)
     assert "reach" not in pred.mass_gain_by_surface_g and surface in pred.mass_gain_by_surface_g
+
+
+def test_a_sharp_corners_nose_material_is_no_reading_of_the_surface(tmp_path):
+    """The OD r 20 rises from a shoulder at z 5 in a corner drawn sharp; the 0.4 mm nose leaves its own radius
+    there (a cause of its own). The OD's held-end reading and its most material left lie beyond that radius, and
+    read the push-off only: a few micrometres, not the nose's 54 um at 0.2 mm from the shoulder."""
+    nose = 0.4
+    path = write_job(tmp_path, SHOULDER, "DCMT11T304", SHOULDER_STOCK)
+    path.write_text(path.read_text().replace("z = [41.0, 0.0]", "z = [41.0, 5.0]"))   # the flange left as it is
+    job = read_job(path)
+    pred = simulate(job, process_from_job(job))
+    od = next(c for c in pred.surfaces if c.surface == "od")
+    assert od.positions["held end"][1] >= 5.0 + nose - 0.05
+    in_corner = nose - math.sqrt(nose ** 2 - (nose - 0.2) ** 2)        # the nose's arc 0.2 mm from the shoulder
+    assert max(od.deviation_mm.values()) < 0.25 * in_corner
+    assert od.max_deviation_mm < 0.25 * in_corner
+    assert "corners" in pred.mass_gain_by_surface_g

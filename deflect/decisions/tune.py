@@ -45,7 +45,7 @@ from deflect.errors import InputError, ModelError
 from deflect.job.fits import Tolerances, tolerance_from_table
 from deflect.machining.insert_edge import edge_problems, split_depth_mm
 from deflect.machining.results import Prediction
-from deflect.machining.simulate import kept_workers, simulate, straight_points
+from deflect.machining.simulate import kept_workers, set_apart, simulate, straight_points
 from deflect.machining.targets import process_from_job
 from deflect.mechanics.cutting import theoretical_roughness
 
@@ -151,9 +151,9 @@ def worst_deviation_mm(pred: Prediction) -> float:
     """The largest deviation from the drawing, either way (material left or cut below), on the surfaces the
     passes finished."""
     d = pred.deviation
-    finished = np.array([s != "unmachined" for s in d.surface])
-    if d.corner is not None:
-        finished &= ~d.corner          # a corner of the drawing belongs to two surfaces (simulate.surface_checks)
+    # a corner of the drawing belongs to two surfaces, a corner's nose material is its own cause
+    # (simulate.set_apart)
+    finished = np.array([s != "unmachined" for s in d.surface]) & ~set_apart(d)
     return float(np.abs(d.deviation_mm[finished]).max()) if finished.any() else 0.0
 
 

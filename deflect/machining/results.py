@@ -70,6 +70,9 @@ class SurfaceDeviation:
     two_point_low_mm: np.ndarray | None = None
     two_point_high_mm: np.ndarray | None = None
     corner: np.ndarray | None = None     # (P,) bool: a corner of the drawn outline, where two surfaces meet
+    # (P,) bool: in a corner's nose material or a piece the edges leave (`deflect.machining.leftover`): counted
+    # there, not as the layer on the surface, and not read as the surface's size
+    apart: np.ndarray | None = None
 
 
 @dataclass(frozen=True)

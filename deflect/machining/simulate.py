@@ -760,7 +760,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
     checks = []
     released = 0.0 if deviation.released_mm is None else deviation.released_mm
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
-    corner = np.zeros(len(deviation.points_rz), bool) if deviation.corner is None else deviation.corner
+    corner = set_apart(deviation)
     for surface in ("od", "id"):
         order = straight_points(deviation, surface)
         if len(order) < 3:
@@ -787,11 +787,22 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
 
 def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
     """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets, not on
-    the corners where it meets another surface), by z."""
-    corner = np.zeros(len(deviation.points_rz), bool) if deviation.corner is None else deviation.corner
+    the corners where it meets another surface, not in a corner's nose material), by z."""
+    corner = set_apart(deviation)
     chosen = np.array([k for k, s in enumerate(deviation.surface)
                        if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS and not corner[k]], int)
     return chosen[np.argsort(deviation.points_rz[chosen, 1])] if len(chosen) else chosen
+
+
+def set_apart(deviation: SurfaceDeviation) -> np.ndarray:
+    """(P,) True for the points that are no reading of their surface: the drawing's corners (a corner belongs
+    to two surfaces) and the points in a corner's nose material or a piece the edges leave (their own causes,
+    `SurfaceDeviation.apart`)."""
+    out = np.zeros(len(deviation.points_rz), bool)
+    for mask in (deviation.corner, deviation.apart):
+        if mask is not None:
+            out |= mask
+    return out
 
 
 def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
@@ -813,15 +824,18 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     return rows
 
 
-def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict):
+def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict,
+               with_reach: bool = True):
     """(corners, reach): what the finishing tools' nose and edges leave beyond the drawing
-    (`deflect.machining.leftover`), on the part cut exactly to the targets. The targets are taken without
+    (`deflect.machining.leftover`), on the part cut exactly to the targets (reach empty without with_reach). The targets are taken without
     wear offsets, compensation and a calibration's size errors: those move a whole surface (the layer on it),
     not what the tool's shape can reach, and a positive one would otherwise leave a layer the length of the
     surface that reads as a piece the edges cannot reach."""
     process = without_corrections(process)
     targets = finishing_targets(job, process, memo)
     corners = corners_left(job, process, targets)
+    if not with_reach:
+        return corners, []
     shaped = cut_to_targets(process, nominal_rz, settings.station_spacing_mm, memo)
     return corners, reach_left(job, process, shaped, corners, targets)
 
@@ -851,10 +865,15 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
     raw = deviation_along(job.section, machined, DEVIATION_SPACING_MM)
     surfaces, names = finished_by(raw, process, per_pass)
     released, form, lobes = released_by_the_jaws(job, process, raw, surfaces, names, memo)
+    # the tools' shape: the nose's material in internal corners (exact) and what the edges cannot reach are
+    # causes of their own; the layer on the surface is counted, and the surface's size read, where they are not
+    # (what the edges leave needs the part cut to the targets: left to the runs with ranges)
+    corners, reach = shape_left(job, process, nominal_rz, settings, memo, with_reach=with_ranges)
+    apart = covered(raw.points_rz, corners, reach)
     deviation = SurfaceDeviation(points_rz=raw.points_rz, normals=raw.normals,
                                  deviation_mm=raw.deviation_mm + (0.0 if released is None else released),
                                  surface=surfaces, finished_by=names, released_mm=released, corner=raw.corner,
-                                 **form)
+                                 apart=apart, **form)
     spring_back = 0.0 if released is None else released
     range_max = [float(np.max(deviation_along(job.section, rz, DEVIATION_SPACING_MM).deviation_mm + spring_back))
                  for rz in ranges] or [float(np.max(deviation.deviation_mm))]
@@ -871,10 +890,6 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
             peak_power_kw=float(max(t.power_kw.max(initial=0.0) for t in tables)),
             mass_left_g=float(layer[mine].sum()) if mine.any() else 0.0))
 
-    # the tools' shape: the nose's material in internal corners (exact) and what the edges cannot reach are
-    # causes of their own; the layer on the surface is counted where they are not
-    corners, reach = shape_left(job, process, nominal_rz, settings, memo) if with_ranges else ([], [])
-    apart = covered(deviation.points_rz, corners, reach)
     by_surface = {}
     for name in ("od", "id", "face", "unmachined"):
         mine = np.array([s == name for s in surfaces], bool) & ~apart
