@@ -162,3 +162,14 @@ def test_a_job_against_the_same_job_calibrated(tmp_path):
     assert payload["b"]["calibration"]["factors"][0]["value"] == 0.5
     assert payload["b"]["mass_g"] == pytest.approx(calibrated["predicted"]["mass_g"], rel=SAME_FLOAT)
     assert payload["change"]["most_material_left_mm"] < 0.0
+
+
+def test_a_small_ra_margin_is_printed_to_the_hundredth():
+    """An Ra margin of -0.02 um is 'OUT (-0.02 um)', not 'OUT (-0.0 um)'; a diameter's margin (in mm) keeps
+    0.1 um."""
+    from types import SimpleNamespace
+
+    from deflect.output.compare_report import _verdict
+
+    assert _verdict(SimpleNamespace(unit="um", meets=False, margin=-0.02)) == "OUT (-0.02 um)"
+    assert _verdict(SimpleNamespace(unit="mm", meets=True, margin=0.0123)) == "in (+12.3 um)"

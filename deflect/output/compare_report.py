@@ -92,8 +92,9 @@ def wall_grid(c: Comparison) -> Grid | None:
 def _verdict(check) -> str:
     if check is None:
         return "-"
-    scale, unit = (1.0, "um") if check.unit == "um" else (1e3, "um")
-    return f"{'in' if check.meets else 'OUT'} ({scale * check.margin:+.1f} {unit})"
+    # Ra (in um) to the hundredth, as its limits are written; diameters and walls (in mm) to 0.1 um
+    margin = f"{check.margin:+.2f}" if check.unit == "um" else f"{1e3 * check.margin:+.1f}"
+    return f"{'in' if check.meets else 'OUT'} ({margin} um)"
 
 
 def feature_grid(c: Comparison) -> Grid | None:

@@ -68,8 +68,8 @@ def change_words(change: Change, surface_of: dict, units: str) -> str:
         return f"{name}: {offset_words(after, surface_of.get(name, 'od'), units)}"
     if change.key == "compensate":
         most = max((c for _, c in after), key=abs)
-        return (f"{name}: program the compensated contour (push-off taken out, up to "
-                f"{number_text(most, units, sign=True)} {unit} a side)")
+        return (f"{name}: program the compensated contour (push-off taken out and the surface centred in its band, "
+                f"up to {number_text(most, units, sign=True)} {unit} a side)")
     if change.key == "order":
         swapped = [n for n, m in zip(after, before) if n != m]
         if len(swapped) == 2 and {surface_of.get(n) for n in swapped} == {"od", "id"}:
