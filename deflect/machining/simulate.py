@@ -756,11 +756,11 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
     """Push-off at the held end (low z), the middle and the free end of each finished od and id, on the
     surface's own cylindrical stretch (`straight_points`); its most material left and where it is, over the
-    points it finished, corners of the drawing left out (a corner belongs to two surfaces)."""
+    points it finished, the points `set_apart` names left out."""
     checks = []
     released = 0.0 if deviation.released_mm is None else deviation.released_mm
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
-    corner = set_apart(deviation)
+    apart = set_apart(deviation)
     for surface in ("od", "id"):
         order = straight_points(deviation, surface)
         if len(order) < 3:
@@ -772,7 +772,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         predicted = {name: 2.0 * (deviation.points_rz[k][0] + deviation.deviation_mm[k] * deviation.normals[k][0])
                      for name, k in picks.items()}
         mine = np.array([s == surface for s in deviation.surface], bool)
-        own = np.flatnonzero(mine & ~corner)
+        own = np.flatnonzero(mine & ~apart)
         most = int(own[np.argmax(deviation.deviation_mm[own])])
         checks.append(SurfaceCheck(surface=surface, positions=positions, deviation_mm=left,
                                    nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
@@ -788,9 +788,9 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
 def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
     """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets, not on
     the corners where it meets another surface, not in a corner's nose material), by z."""
-    corner = set_apart(deviation)
+    apart = set_apart(deviation)
     chosen = np.array([k for k, s in enumerate(deviation.surface)
-                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS and not corner[k]], int)
+                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS and not apart[k]], int)
     return chosen[np.argsort(deviation.points_rz[chosen, 1])] if len(chosen) else chosen
 
 
