@@ -201,14 +201,6 @@ def compliance(job_file, at, patch, tolerance, old_tolerance, as_json, plot_file
             out(f"compliance map drawn in {plot_file}")
 
 
-def job_units(job_file: str) -> str:
-    """The units a job (already read and checked) is written in: "mm" or "inch"."""
-    import tomllib
-    from pathlib import Path
-
-    return tomllib.loads(Path(job_file).read_text(encoding="utf-8")).get("job", {}).get("units", "mm")
-
-
 CALIBRATION_HELP = ("A first article's calibration (as `deflect explain --save` writes it) to use instead of the "
                     "job's [job] calibration, if any.")
 

@@ -1,6 +1,7 @@
 """A real browser for the tests of the HTML report: Debian's Chromium, headless, driven by Playwright.
 
-Playwright drives the system's browser (`CHROMIUM`); it never downloads one (no `playwright install`). The
+Playwright drives the system's browser (`CHROMIUM`, found on the PATH or named by DEFLECT_CHROMIUM); it
+never downloads one (no `playwright install`). The
 browser runs in a fresh profile folder with no network features (no sync, no component updates, no background
 requests), and every request the page makes other than the file itself is answered with an abort and
 recorded, so a report that fetches anything fails the test.
@@ -15,6 +16,7 @@ from __future__ import annotations
 
 import os
 import re
+import shutil
 import sys
 import tempfile
 from dataclasses import dataclass, field
@@ -22,7 +24,18 @@ from pathlib import Path
 
 import pytest
 
-CHROMIUM = Path("/usr/bin/chromium")
+
+def system_chromium() -> Path:
+    """The system's Chromium: DEFLECT_CHROMIUM if set, else `chromium` (Debian's package) or `chromium-browser`
+    on the PATH; a path that does not exist when none is found (the tests then skip, or fail when required)."""
+    given = os.environ.get("DEFLECT_CHROMIUM")
+    if given:
+        return Path(given)
+    found = shutil.which("chromium") or shutil.which("chromium-browser")
+    return Path(found) if found else Path("chromium-not-found")
+
+
+CHROMIUM = system_chromium()
 ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
         "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 MM_PX = 96.0 / 25.4                  # CSS pixels per millimetre

@@ -150,8 +150,9 @@ def key_indices(path: CutPath, met_depth_mm: np.ndarray, count: int, lead_in: in
     """Stations where the compliance is computed. Interpolating across a corner of the path would mix
     compliances along different normals, so keys are placed on each stretch of constant normal where the
     tool cuts, from `lead_in` stations after its start (once the whole patch bears on the surface this cut
-    has left; `behind_and_lead_in`) to its end, about `count` in all; stretches shorter than SHORTEST_RUN_SHARE of the cut (fillets, a short
-    shoulder) take their neighbours' values. A path with no such stretch gets one key in the middle of its cut."""
+    has left; `behind_and_lead_in`) to its end, about `count` in all; stretches shorter than
+    SHORTEST_RUN_SHARE of the cut (fillets, a short shoulder) take their neighbours' values. A path with no
+    such stretch gets one key in the middle of its cut."""
     cutting = np.flatnonzero(met_depth_mm > 0.0)
     if len(cutting) == 0:
         return cutting
@@ -279,8 +280,8 @@ def plan_compliance(job, process: Process, settings: SimulationSettings, nominal
     cut is known before any equilibrium is solved, and all of them go to the cores at once. For the same
     reason the shapes leave out the passes' wear offsets and programmed compensation (micrometres, too):
     the compliance along a cut with an offset is that of the same cut without it, taken at the nearest
-    point of that cut's path (`resampled`). (Only where an offset changes the number of cuts of a pass is the plan made on
-    the offset targets themselves.)
+    point of that cut's path (`resampled`). (Only where an offset changes the number of cuts of a pass is
+    the plan made on the offset targets themselves.)
     memo: {key station: 3x3} shared between calls on variants of one job (`deflect.decisions.tune`); a key station is
     looked up by the exact shape, path and station, so the results do not depend on what it holds.
     Returns {i: cut paths of pass i, (i, j): (K, 3, 3) compliance along cut j of pass i}.
@@ -756,11 +757,11 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
 def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
     """Push-off at the held end (low z), the middle and the free end of each finished od and id, on the
     surface's own cylindrical stretch (`straight_points`); its most material left and where it is, over the
-    points it finished, corners of the drawing left out (a corner belongs to two surfaces)."""
+    points it finished, the points `set_apart` names left out."""
     checks = []
     released = 0.0 if deviation.released_mm is None else deviation.released_mm
     layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
-    corner = set_apart(deviation)
+    apart = set_apart(deviation)
     for surface in ("od", "id"):
         order = straight_points(deviation, surface)
         if len(order) < 3:
@@ -772,7 +773,7 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         predicted = {name: 2.0 * (deviation.points_rz[k][0] + deviation.deviation_mm[k] * deviation.normals[k][0])
                      for name, k in picks.items()}
         mine = np.array([s == surface for s in deviation.surface], bool)
-        own = np.flatnonzero(mine & ~corner)
+        own = np.flatnonzero(mine & ~apart)
         most = int(own[np.argmax(deviation.deviation_mm[own])])
         checks.append(SurfaceCheck(surface=surface, positions=positions, deviation_mm=left,
                                    nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
@@ -788,9 +789,9 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
 def straight_points(deviation: SurfaceDeviation, surface: str) -> np.ndarray:
     """Deviation points on the cylindrical stretches of a finished od or bore (not on its fillets, not on
     the corners where it meets another surface, not in a corner's nose material), by z."""
-    corner = set_apart(deviation)
+    apart = set_apart(deviation)
     chosen = np.array([k for k, s in enumerate(deviation.surface)
-                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS and not corner[k]], int)
+                       if s == surface and abs(deviation.normals[k][0]) > CYLINDER_COS and not apart[k]], int)
     return chosen[np.argsort(deviation.points_rz[chosen, 1])] if len(chosen) else chosen
 
 
@@ -819,7 +820,8 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
     for name, z in (("held end", low), ("middle", 0.5 * (low + high)), ("free end", high)):
         r_od = float(np.interp(z, z_od, deviation.points_rz[od, 0]))
         r_id = float(np.interp(z, z_bore, deviation.points_rz[bore, 0]))
-        left = float(np.interp(z, z_od, deviation.deviation_mm[od]) + np.interp(z, z_bore, deviation.deviation_mm[bore]))
+        left = float(np.interp(z, z_od, deviation.deviation_mm[od])
+                     + np.interp(z, z_bore, deviation.deviation_mm[bore]))
         rows.append({"where": name, "z_mm": float(z), "nominal_mm": r_od - r_id, "predicted_mm": r_od - r_id + left})
     return rows
 
@@ -827,10 +829,10 @@ def wall_checks(deviation: SurfaceDeviation) -> list[dict]:
 def shape_left(job, process: Process, nominal_rz: np.ndarray, settings: SimulationSettings, memo: dict,
                with_reach: bool = True):
     """(corners, reach): what the finishing tools' nose and edges leave beyond the drawing
-    (`deflect.machining.leftover`), on the part cut exactly to the targets (reach empty without with_reach). The targets are taken without
-    wear offsets, compensation and a calibration's size errors: those move a whole surface (the layer on it),
-    not what the tool's shape can reach, and a positive one would otherwise leave a layer the length of the
-    surface that reads as a piece the edges cannot reach."""
+    (`deflect.machining.leftover`), on the part cut exactly to the targets (reach empty without with_reach).
+    The targets are taken without wear offsets, compensation and a calibration's size errors: those move a
+    whole surface (the layer on it), not what the tool's shape can reach, and a positive one would otherwise
+    leave a layer the length of the surface that reads as a piece the edges cannot reach."""
     process = without_corrections(process)
     targets = finishing_targets(job, process, memo)
     corners = corners_left(job, process, targets)
