@@ -267,3 +267,18 @@ def calibration_record(calibration: Calibration) -> dict:
                          "identified": f.identified} for f in calibration.factors],
             "size_errors": [{"surface": s.surface, "pass": s.pass_name, "value_mm": s.value_mm, "low_mm": s.low_mm,
                              "high_mm": s.high_mm, "identified": s.identified} for s in calibration.size_errors]}
+
+
+def calibrated_report_note(calibration: Calibration, measured_name: str, uncalibrated, replaced: bool) -> str:
+    """The line at the top of a report calibrated on a first article (`deflect report --measured`): what its
+    figures are, and the uncalibrated headline (`uncalibrated`, the job's prediction with its constants as given)
+    beside them, to the headline's digits. `replaced`: the job names a calibration of its own, not used here."""
+    fitted = calibration_note(calibration).split("): ", 1)[-1]
+    own = " (the job's own [job] calibration is not used)" if replaced else ""
+    return (f"Calibrated on the first article {measured_name}: every figure of this report but the first article's "
+            f"uncalibrated columns - the key figures, the prediction, the work holding, the chatter check and the "
+            f"remedies - uses the calibration fitted on it ({fitted}){own}, the one `deflect explain --save` writes "
+            f"and `deflect predict --calibration` reads. Uncalibrated, with the job's constants as given, for "
+            f"reference: predicted mass {uncalibrated.predicted_mass_g.value:.3f} g, mass gain "
+            f"{uncalibrated.mass_gain_g.value:+.3f} g, most material left "
+            f"{1e3 * uncalibrated.max_deviation_mm.value:.1f} um a side.")
