@@ -974,19 +974,18 @@ def report(job_file, html_file, measured_file, as_json, quiet):
 def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     """The chapters, the JSON, the notes (at the top) and the remarks (at the foot of the first page) of
     `deflect report` (its docstring). With a first article, its fitted calibration is the job's for every part."""
+    from pathlib import Path
+
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.grip import clamp_study
     from deflect.machining.targets import process_from_job
     from deflect.output.chatter_report import chatter_payload
     from deflect.output.clamp_report import clamp_payload
+    from deflect.output.explain_report import calibrated_report_note, calibration_note
     from deflect.output.html_chapters import chatter_chapter, predict_chapter, rules_chapter, tune_chapter
     from deflect.output.predict_json import prediction_payload
     from deflect.output.rules_report import rules_payload
     from deflect.output.tune_report import tune_payload
-
-    from pathlib import Path
-
-    from deflect.output.explain_report import calibrated_report_note, calibration_note
 
     first_article = explained(job_file, measured_file) if measured_file else None
     fitted = first_article[2] if first_article else None
