@@ -996,8 +996,7 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
                "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
     notes, remarks = [], []
     if fitted is not None:
-        notes.append(calibrated_report_note(fitted.calibration, Path(measured_file).name, fitted.uncalibrated,
-                                            "calibration" in job.tables.get("job", {})))
+        notes.append(calibrated_report_note(fitted.calibration, Path(measured_file).name, fitted.uncalibrated))
     elif job.calibration is not None:
         remarks.append(calibration_note(job.calibration))
     if first_article:
