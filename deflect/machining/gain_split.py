@@ -58,8 +58,8 @@ def gain_by_surface_g(machined_rz, nominal_rz, points_rz, normals, surfaces: lis
     machined, nominal = Polygon(machined_rz).buffer(0), Polygon(nominal_rz).buffer(0)
     beyond, below = machined.difference(nominal), nominal.difference(machined)
     lines: dict[str, float] = {}
-    own = ~np.asarray(apart, bool)
     kinds = np.asarray(surfaces, object)
+    own = np.ones(len(kinds), bool) if apart is None else ~np.asarray(apart, bool)
     for name in SURFACE_ORDER:
         if np.any(own & (kinds == name)):
             lines[name] = 0.0
