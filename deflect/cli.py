@@ -205,15 +205,18 @@ CALIBRATION_HELP = ("A first article's calibration (as `deflect explain --save` 
                     "job's [job] calibration, if any.")
 
 
-def read_calibrated_job(job_file: str, calibration_file: str | None):
-    """The job, with the calibration file given on the command line (it wins over a [job] calibration key)."""
+def read_calibrated_job(job_file: str, calibration_file: str | None, calibration=None):
+    """The job, with the calibration file given on the command line (it wins over a [job] calibration key), or
+    with `calibration`, one fitted in this run (`deflect report --measured`; it wins over both)."""
     from deflect.job.calibration import read_calibration, with_calibration
     from deflect.job.reader import read_job
 
-    if calibration_file is None:
+    if calibration_file is None and calibration is None:
         return read_job(job_file)
     job = read_job(job_file, calibrated=False)
     try:
+        if calibration is not None:
+            return with_calibration(job, calibration, key="--measured")
         return with_calibration(job, read_calibration(calibration_file), key="--calibration")
     except InputError as exc:
         exc.file = exc.file or job_file
@@ -232,10 +235,11 @@ def state_calibration(job, payload: dict | None = None) -> None:
         payload["calibration"] = calibration_record(job.calibration)
 
 
-def run_prediction(job_file: str, show_progress: bool, calibration_file: str | None = None):
+def run_prediction(job_file: str, show_progress: bool, calibration_file: str | None = None, calibration=None):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
     verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
-    findings and the job (with the calibration of `--calibration` or [job] calibration, if any)."""
+    findings and the job (with the calibration of `--calibration` or [job] calibration, if any; `calibration`,
+    one fitted in this run, wins over both)."""
     from dataclasses import replace
 
     from deflect.decisions.conformance import verdict
@@ -247,7 +251,7 @@ def run_prediction(job_file: str, show_progress: bool, calibration_file: str | N
     from deflect.machining.simulate import simulate
     from deflect.machining.targets import process_from_job
 
-    job = read_calibrated_job(job_file, calibration_file)
+    job = read_calibrated_job(job_file, calibration_file, calibration)
     try:
         require_cutting_constants(job.material)   # before any work: the passes need the force constants
         process = process_from_job(job)
@@ -850,8 +854,8 @@ def clamp_chapter_of(study):
 
 
 def explained(job_file: str, measured_file: str):
-    """The first article's chapter and JSON for `deflect report --measured` (`deflect explain` without --search:
-    the next part's wear offsets with the calibrated constants)."""
+    """The first article's chapter, JSON and result (with its calibration) for `deflect report --measured`
+    (`deflect explain` without --search: the next part's wear offsets with the calibrated constants)."""
     from datetime import date
 
     from deflect.decisions.first_article import explain as explain_first_article
@@ -874,7 +878,7 @@ def explained(job_file: str, measured_file: str):
         remedies = next_part(job, result.calibration, memo, False, None)
     surface_of = {p.name: p.surface for p in process.passes}
     return (explain_chapter(result, remedies, surface_of, job.units, False),
-            explain_payload(result, remedies, surface_of, job.units, False, None))
+            explain_payload(result, remedies, surface_of, job.units, False, None), result)
 
 
 def chatter_of(job):
@@ -947,18 +951,19 @@ def report(job_file, html_file, measured_file, as_json, quiet):
     """One report of JOB_FILE to hand over, as a single HTML file.
 
     The prediction and the design rules; with [holding], the work holding; with [dynamics], the chatter check;
-    with [tolerance], the remedies ranked by cycle time; with --measured, the first article explained (the other
-    parts keep the job's constants as given; the first article's part gives them calibrated). Key figures and
-    cautions first, then the inputs, every table and figure of those commands, and the job file as given; the
-    tool's version and the date. No scripts and nothing fetched: it reads and prints anywhere.
+    with [tolerance], the remedies ranked by cycle time; with --measured, the first article explained, and every
+    other part calibrated on it (as `deflect explain --save` writes the calibration and `--calibration` reads it;
+    the top of the report says so, with the uncalibrated headline beside it). Key figures and cautions first, then
+    the inputs, every table and figure of those commands, and the job file as given; the tool's version and the
+    date. No scripts and nothing fetched: it reads and prints anywhere.
     """
     from deflect.output.files import Outputs
 
     with Outputs() as outputs:
         html_temp = outputs.file(html_file, "--html")       # checked before any work
-        chapters, payload, remarks = report_parts(job_file, measured_file, quiet or as_json)
+        chapters, payload, notes, remarks = report_parts(job_file, measured_file, quiet or as_json)
         sources = [job_file, measured_file] if measured_file else [job_file]
-        write_html(html_temp, payload["title"], "report", sources, chapters, remarks=remarks)
+        write_html(html_temp, payload["title"], "report", sources, chapters, notes=notes, remarks=remarks)
         outputs.commit()
     if as_json:
         emit_json(payload)
@@ -967,28 +972,36 @@ def report(job_file, html_file, measured_file, as_json, quiet):
 
 
 def report_parts(job_file: str, measured_file: str | None, quiet: bool):
-    """The chapters, the JSON and the remarks of `deflect report` (its docstring)."""
+    """The chapters, the JSON, the notes (at the top) and the remarks (at the foot of the first page) of
+    `deflect report` (its docstring). With a first article, its fitted calibration is the job's for every part."""
+    from pathlib import Path
+
     from deflect.job.materials import require_cutting_constants
     from deflect.machining.grip import clamp_study
     from deflect.machining.targets import process_from_job
     from deflect.output.chatter_report import chatter_payload
     from deflect.output.clamp_report import clamp_payload
+    from deflect.output.explain_report import calibrated_report_note, calibration_note
     from deflect.output.html_chapters import chatter_chapter, predict_chapter, rules_chapter, tune_chapter
     from deflect.output.predict_json import prediction_payload
     from deflect.output.rules_report import rules_payload
     from deflect.output.tune_report import tune_payload
 
-    pred, judged, rules, job = run_prediction(job_file, show_progress=not quiet)
+    first_article = explained(job_file, measured_file) if measured_file else None
+    fitted = first_article[2] if first_article else None
+    pred, judged, rules, job = run_prediction(job_file, show_progress=not quiet,
+                                              calibration=fitted.calibration if fitted else None)
     chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
                "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
-    remarks = []
-    if job.calibration is not None:
-        from deflect.output.explain_report import calibration_note
+    notes, remarks = [], []
+    if fitted is not None:
+        notes.append(calibrated_report_note(fitted.calibration, Path(measured_file).name, fitted.uncalibrated))
+    elif job.calibration is not None:
         remarks.append(calibration_note(job.calibration))
-    if measured_file:
-        chapter, payload["explain"] = explained(job_file, measured_file)
-        chapters.append(chapter)
+    if first_article:
+        chapters.append(first_article[0])
+        payload["explain"] = first_article[1]
     if "holding" in job.tables:
         study = clamp_study(job)
         chapters.append(clamp_chapter_of(study))
@@ -1011,7 +1024,11 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
         payload["tune"] = tune_payload(result, surface_of, job.units)
     else:
         remarks.append("No [tolerance] in the job: there is no drawing to hold, so no remedies are searched.")
-    return chapters, payload, remarks
+    if job.calibration is not None:        # each calibrated part says so, as its own command's JSON does
+        for part in ("predict", "clamp", "chatter", "tune"):
+            if payload[part] is not None:
+                state_calibration(job, payload[part])
+    return chapters, payload, notes, remarks
 
 
 @cli.command()

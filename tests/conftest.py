@@ -55,29 +55,42 @@ def demo_report(tmp_path_factory) -> tuple[Path, dict]:
     return html, json.loads(out)
 
 
-def write_option(folder: Path, job: Path, tune_payload: dict, number: int) -> Path:
+@pytest.fixture(scope="session")
+def demo_calibration(tmp_path_factory) -> Path:
+    """The calibration `deflect explain --save` fits on the demo's first article: the one its report
+    (`deflect report --measured`) is calibrated with."""
+    path = tmp_path_factory.mktemp("demo-calibration") / "housing-calibration.toml"
+    code, _, err = run_deflect(["explain", DEMO_JOB, DEMO_MEASURED, "--save", path, "--json", "--quiet"])
+    assert code == 0, err
+    return path
+
+
+def write_option(folder: Path, job: Path, tune_payload: dict, number: int, calibration: Path | None = None) -> Path:
     """The job with option `number` of its tune written in, as `deflect tune --apply` writes it (the same
-    writer, from the same change records the tune's JSON gives)."""
+    writer, from the same change records the tune's JSON gives); with `calibration`, the calibration the option
+    was found with named in its [job] calibration, as `tune --calibration FILE --apply N` writes it."""
     from deflect.output.remedy_job import job_text_with, written_header
 
     label = f"deflect tune option {number}"
     option = tune_payload["options"][number - 1]
-    text = job_text_with(job.read_text(encoding="utf-8"), option["changes"], label, tune_payload["units"])
+    text = job_text_with(job.read_text(encoding="utf-8"), option["changes"], label, tune_payload["units"],
+                         job.parent, folder, calibration)
     path = folder / f"{job.stem}-option-{number}.toml"
     path.write_text(written_header(label, job.name, "test", "2026-01-01") + text, encoding="utf-8")
     return path
 
 
 @pytest.fixture(scope="session")
-def demo_option(demo_report, tmp_path_factory):
-    """A function: option N of the demo's tune written into the job -> (the job file, `deflect predict --json`
-    of it). Each option is written and predicted once per session."""
+def demo_option(demo_report, demo_calibration, tmp_path_factory):
+    """A function: option N of the demo's tune (found with the first article's calibration) written into the job,
+    naming that calibration -> (the job file, `deflect predict --json` of it). Each option is written and
+    predicted once per session."""
     folder = tmp_path_factory.mktemp("demo-options")
     made = {}
 
     def option(number: int) -> tuple[Path, dict]:
         if number not in made:
-            path = write_option(folder, DEMO_JOB, demo_report[1]["tune"], number)
+            path = write_option(folder, DEMO_JOB, demo_report[1]["tune"], number, demo_calibration)
             code, out, err = run_deflect(["predict", path, "--json", "--quiet"])
             assert code == 0, err
             made[number] = (path, json.loads(out))
@@ -87,10 +100,17 @@ def demo_option(demo_report, tmp_path_factory):
 
 
 @pytest.fixture(scope="session")
-def demo_comparison(demo_option, tmp_path_factory) -> tuple[Path, dict]:
-    """`deflect compare` of the demo and its job with option 1 written in: (the HTML file, the JSON)."""
+def demo_comparison(demo_option, demo_calibration, tmp_path_factory) -> tuple[Path, dict]:
+    """`deflect compare` of the demo and its job with option 1 written in, both naming the first article's
+    calibration in [job] calibration (the report's remedies are found with it): (the HTML file, the JSON)."""
+    from deflect.output.remedy_job import job_text_with
+
     option_job, _ = demo_option(1)
-    html = tmp_path_factory.mktemp("demo-compare") / "housing-compare.html"
-    code, out, err = run_deflect(["compare", DEMO_JOB, option_job, "--json", "--html", html])
+    folder = tmp_path_factory.mktemp("demo-compare")
+    calibrated_job = folder / DEMO_JOB.name
+    calibrated_job.write_text(job_text_with(DEMO_JOB.read_text(encoding="utf-8"), [], "the first article", "mm",
+                                            DEMO_JOB.parent, folder, demo_calibration), encoding="utf-8")
+    html = folder / "housing-compare.html"
+    code, out, err = run_deflect(["compare", calibrated_job, option_job, "--json", "--html", html])
     assert code == 0, err
     return html, json.loads(out)

@@ -73,7 +73,8 @@ class Page(HTMLParser):
         elif tag == "img":
             self.images.append(attributes)
         elif tag == "div" and "figure-card" in attributes.get("class", ""):
-            self._card = {"keys": attributes.get("data-keys"), "scale": attributes.get("data-scale"), "value": ""}
+            self._card = {"keys": attributes.get("data-keys"), "scale": attributes.get("data-scale"), "value": "",
+                          "chapter": attributes.get("data-chapter")}
             self.cards.append(self._card)
         elif tag == "div" and attributes.get("class") == "value" and self._card is not None:
             self._in_value = True

@@ -126,11 +126,14 @@ def test_prediction_counts_the_corner_as_its_own_cause(tmp_path):
     pred = simulate(job, process_from_job(job))
     area, centroid = spandrel(0.4)
     exact = DENSITY * 1e-3 * 2.0 * math.pi * (20.0 + centroid) * area
-    assert pred.mass_gain_by_surface_g["corners"] == pytest.approx(exact, rel=1e-6)
+    # the line holds the nose material the part keeps, cut from the machined section with the corner's polygon:
+    # the closed form within that polygon's chords (POLYGON_CHORD_MM along the nose's quarter arc)
+    chords = DENSITY * 1e-3 * 2.0 * math.pi * 20.0 * (0.5 * math.pi * 0.4) * POLYGON_CHORD_MM
+    assert abs(pred.mass_gain_by_surface_g["corners"] - exact) <= chords
     rules = check_rules(job, process_from_job(job))
     assert [f.mass_left_g for f in rules.findings if f.rule == "corner"] == [pytest.approx(exact, rel=1e-6)]
     # the layer the push-off leaves is counted apart from the corner: the causes add up to the gain
-    assert sum(pred.mass_gain_by_surface_g.values()) == pytest.approx(pred.mass_gain_g.value, rel=0.05)
+    assert sum(pred.mass_gain_by_surface_g.values()) == pytest.approx(pred.mass_gain_g.value, rel=1e-4)
 
 
 # ---------------------------------------------------------------------------------------------------

@@ -90,7 +90,8 @@ def test_every_demo_option_written_in_predicts_its_figures(demo_report, demo_opt
 
 def test_demo_option_keeps_every_other_line(demo_report, demo_option):
     """Option 1 (no reordering, no contour): the written job is the job line for line, but for the two header
-    lines and one line per changed value, commented with what it was; a replaced line was that key's."""
+    lines, one line per changed value, commented with what it was, and the [job] calibration line naming the
+    first article's calibration the option was found with (the report's); a replaced line was that key's."""
     path, _ = demo_option(1)
     option = demo_report[1]["tune"]["options"][0]
     assert not {"order", "compensate"} & {c["key"] for c in option["changes"]}
@@ -99,7 +100,8 @@ def test_demo_option_keeps_every_other_line(demo_report, demo_option):
     assert written[0].startswith("# housing.toml with deflect tune option 1 written in by deflect")
     body = written[HEADER_LINES:]
     marker = "(deflect tune option 1"
-    assert sum(marker in line for line in body) == len(option["changes"])
+    assert sum(marker in line for line in body) == len(option["changes"]) + 1
+    assert sum(line.startswith("calibration = ") and marker in line for line in body) == 1
     keys = {c["key"] for c in option["changes"]}
     for tag, i1, i2, j1, j2 in difflib.SequenceMatcher(None, original, body, autojunk=False).get_opcodes():
         if tag == "equal":

@@ -176,7 +176,8 @@ def parse_job(data: dict, path: str, calibrated: bool = True) -> Job:
         held = held_from_holding(section, tables["holding"])
     where = calibration_path(job_table["calibration"], path) if "calibration" in job_table else None
     if where is not None and not calibrated:
-        warnings.append(f"job.calibration: {where} is left out here; the job's recalled constants are used")
+        warnings.append(f"job.calibration: {where} is not used here (the job's recalled constants, or the "
+                        "calibration given in its place)")
     job = Job(path=path, title=title, units=units, section=section, material=material,
               held=held, tables=tables, warnings=warnings, drawing=drawing)
     return with_calibration(job, read_calibration(where)) if where is not None and calibrated else job

@@ -5,6 +5,7 @@
     simulate.py   per pass and station: chip, forces, compliance of the part as it is then, equilibrium
                   -> `results.Prediction`
     results.py    the prediction as plain data (read by every output)
+    gain_split.py the mass gain split by surface and by the tools' shape, in lines that add up to it
     toolpath.py   the compensated finishing contour as points
     grip.py       the grip window: the least grip that holds the cuts, the most that keeps the tolerance
     insert_edge.py  every cut's depth against its insert's usable edge, a finishing cut's chip against its allowance

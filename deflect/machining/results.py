@@ -85,7 +85,7 @@ class SurfaceCheck:
     nominal_diameter_mm: dict[str, float]
     predicted_diameter_mm: dict[str, float]
     max_deviation_mm: float
-    mass_left_g: float
+    mass_left_g: float               # the surface's line of mass_gain_by_surface_g
     roundness_mm: dict[str, float] | None = None   # with [holding]: out of round after release, at the same places
     max_at_rz: tuple[float, float] | None = None   # where the surface leaves max_deviation_mm
 
@@ -120,7 +120,7 @@ class Prediction:
     machined_rz: np.ndarray                   # the as-machined half-section (CCW polygon)
     nominal_rz: np.ndarray
     stock_rz: np.ndarray
-    mass_gain_by_surface_g: dict[str, float]
+    mass_gain_by_surface_g: dict[str, float]  # lines that add up to mass_gain_g (`gain_split`)
     warnings: list[str] = field(default_factory=list)
     lobes: int = 0                            # with [holding]: lobes the jaws leave (0: none modelled)
     max_deviation_at_rz: tuple[float, float] | None = None   # where max_deviation_mm is left

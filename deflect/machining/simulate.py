@@ -50,6 +50,7 @@ from deflect.geometry.section import POLYGON_CHORD_MM, Line, Section, mass_prope
 from deflect.job.calibration import grip_factor_of
 from deflect.job.holding import contact_of, holding_from_table
 from deflect.job.process import Pass, Process
+from deflect.machining.gain_split import gain_by_surface_g
 from deflect.machining.inprocess import (
     CutPath,
     Deviation,
@@ -754,13 +755,12 @@ def ring_mass_g(points_rz, normals, deviation_mm, density_g_cm3) -> np.ndarray:
     return density_g_cm3 * 1e-3 * 2.0 * math.pi * mid_r * deviation_mm * ds
 
 
-def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceCheck]:
+def surface_checks(deviation: SurfaceDeviation, mass_by_surface_g: dict[str, float]) -> list[SurfaceCheck]:
     """Push-off at the held end (low z), the middle and the free end of each finished od and id, on the
     surface's own cylindrical stretch (`straight_points`); its most material left and where it is, over the
-    points it finished, the points `set_apart` names left out."""
+    points it finished, the points `set_apart` names left out; the mass left on it, its line of the gain by
+    surface (`gain_split`: the tools' shape counted on its own lines)."""
     checks = []
-    released = 0.0 if deviation.released_mm is None else deviation.released_mm
-    layer = ring_mass_g(deviation.points_rz, deviation.normals, deviation.deviation_mm - released, density)
     apart = set_apart(deviation)
     for surface in ("od", "id"):
         order = straight_points(deviation, surface)
@@ -772,14 +772,13 @@ def surface_checks(deviation: SurfaceDeviation, density: float) -> list[SurfaceC
         nominal = {name: 2.0 * deviation.points_rz[k][0] for name, k in picks.items()}
         predicted = {name: 2.0 * (deviation.points_rz[k][0] + deviation.deviation_mm[k] * deviation.normals[k][0])
                      for name, k in picks.items()}
-        mine = np.array([s == surface for s in deviation.surface], bool)
-        own = np.flatnonzero(mine & ~apart)
+        own = np.flatnonzero(np.array([s == surface for s in deviation.surface], bool) & ~apart)
         most = int(own[np.argmax(deviation.deviation_mm[own])])
         checks.append(SurfaceCheck(surface=surface, positions=positions, deviation_mm=left,
                                    nominal_diameter_mm={k: float(v) for k, v in nominal.items()},
                                    predicted_diameter_mm={k: float(v) for k, v in predicted.items()},
                                    max_deviation_mm=float(deviation.deviation_mm[most]),
-                                   mass_left_g=float(layer[mine].sum()),
+                                   mass_left_g=mass_by_surface_g.get(surface, 0.0),
                                    roundness_mm=None if deviation.roundness_mm is None else
                                    {name: float(deviation.roundness_mm[k]) for name, k in picks.items()},
                                    max_at_rz=tuple(map(float, deviation.points_rz[most]))))
@@ -892,16 +891,10 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
             peak_power_kw=float(max(t.power_kw.max(initial=0.0) for t in tables)),
             mass_left_g=float(layer[mine].sum()) if mine.any() else 0.0))
 
-    by_surface = {}
-    for name in ("od", "id", "face", "unmachined"):
-        mine = np.array([s == name for s in surfaces], bool) & ~apart
-        if mine.any():
-            by_surface[name] = float(layer[mine].sum())
-    if any(c.material is not None for c in corners):
-        by_surface["corners"] = float(sum(c.mass_g for c in corners))
-    if reach:
-        by_surface["reach"] = float(sum(piece.mass_g for piece in reach))
-    checks = surface_checks(deviation, material.density_g_cm3)
+    # the gain in lines that add up to it: the regions cut, not the layer point by point (`gain_split`)
+    by_surface = gain_by_surface_g(machined, nominal_rz, deviation.points_rz, deviation.normals, surfaces, apart,
+                                   corners, reach, material.density_g_cm3)
+    checks = surface_checks(deviation, by_surface)
     peak_power = max((p.peak_power_kw for p in passes), default=0.0)
     warnings = list(process.warnings) + ([grip_warning] if grip_warning else [])
     if peak_power > process.machine.power_kw:

@@ -250,13 +250,18 @@ def explain_payload(result: FirstArticle, remedies=None, surface_of: dict | None
 
 def calibration_note(calibration: Calibration) -> str:
     """One line for every report a calibration changes: what it is, where it came from."""
+    source = calibration.path or "this run"
+    return (f"calibrated ({source}: first article {calibration.measured or '?'}, {calibration.date or 'no date'}, "
+            f"residual {calibration.residual_rms_um:.2g} um): " + calibration_changes(calibration))
+
+
+def calibration_changes(calibration: Calibration) -> str:
+    """What a calibration changes, in a few words: its identified factors, size errors and grip factor."""
     parts = [f"{f.applies_to} x{f.value:.3g}" for f in calibration.factors if f.identified and f.kind == "force"]
     parts += [f"{s.pass_name} {1000 * s.value_mm:+.1f} um a side" for s in calibration.size_errors if s.identified]
     if calibration.grip_factor != 1.0:
         parts.append(f"jaws' squeeze x{calibration.grip_factor:.3g}")
-    source = calibration.path or "this run"
-    return (f"calibrated ({source}: first article {calibration.measured or '?'}, {calibration.date or 'no date'}, "
-            f"residual {calibration.residual_rms_um:.2g} um): " + ("; ".join(parts) or "nothing identified"))
+    return "; ".join(parts) or "nothing identified"
 
 
 def calibration_record(calibration: Calibration) -> dict:
@@ -267,3 +272,16 @@ def calibration_record(calibration: Calibration) -> dict:
                          "identified": f.identified} for f in calibration.factors],
             "size_errors": [{"surface": s.surface, "pass": s.pass_name, "value_mm": s.value_mm, "low_mm": s.low_mm,
                              "high_mm": s.high_mm, "identified": s.identified} for s in calibration.size_errors]}
+
+
+def calibrated_report_note(calibration: Calibration, measured_name: str, uncalibrated) -> str:
+    """The line at the top of a report calibrated on a first article (`deflect report --measured`): what its
+    figures are, and the uncalibrated headline (`uncalibrated`, the job's prediction with its constants as given)
+    beside them, to the headline's digits."""
+    fitted = calibration_changes(calibration)
+    return (f"Calibrated on the first article {measured_name}: the key figures, the prediction, the work holding, "
+            f"the chatter check and the remedies use the calibration fitted on it ({fitted}), as deflect explain "
+            f"--save writes it and deflect predict --calibration reads it. Uncalibrated, with the job's constants as "
+            f"given: predicted mass {uncalibrated.predicted_mass_g.value:.3f} g, mass gain "
+            f"{uncalibrated.mass_gain_g.value:+.3f} g, most material left "
+            f"{1e3 * uncalibrated.max_deviation_mm.value:.1f} um a side.")

@@ -128,7 +128,8 @@ def gain_table(pred: Prediction) -> Grid:
 
 # the causes that are no surface, said once under the gain table
 GAIN_NOTES = {"unmachined": "unmachined: stock no pass removed, counted as material left",
-              "corners": "nose in corners: the radius a nose leaves in internal corners drawn sharper, exact",
+              "corners": "nose in corners: the radius a nose leaves in internal corners drawn sharper (the layer "
+                         "over it is its surface's)",
               "reach": "out of reach: where the finishing insert's edges cannot follow the contour"}
 
 
