@@ -14,15 +14,18 @@ up to z 6, the stock wall r 22.6..26.2 up to the step, and above the step the st
 turned to r 25.3, up to the rim at z = 46; held in the jaws' box r 29..31, z 0..5. Aluminium E 68900 MPa,
 nu 0.33; the simulation's contact patch, 1 mm along the wall by 2 mm round it. The shell is built as the
 simulation builds it (`section_of_polygon` of the outline, strict_patch=False, element 0.5 mm, harmonic
-tolerance 1e-3).
+tolerance 1e-3). On the demo's own in-process shapes (fillets and all, cut as the simulation cuts them) the shell
+reads 1.0592e-4 mm/N at the first key station (stub 1.9 mm, pruned) and 1.0701e-4 at the second (stub 3.8 mm,
+kept), 0.3 % and 0.8 % from its readings on these rectilinear outlines.
 
 The shell's mid-surface is the pruned medial axis of the section (H. Blum, "A transformation for extracting new
-descriptors of shape", 1967). A tip branch reaching less than two radii of the disc at its junction is pruned as
-a corner artefact; here the stub's branch reaches 0.98 of that at 1.9 mm, so a stub 2.7 mm thick and shorter than
-2 mm (1.95 mm pruned, 2.0 mm kept) goes with the step corner's bisector and the stock wall's mid-surface (r 24.4,
-t 3.6) runs on to the rim: the shell sees no stub. From 2 mm on the stub stays (nodes at t 2.7 to the rim, at
-r 23.95, or drifting to 23.7 at the rim of a stub only just kept; the thickness tapers from 3.6 to 2.7 over the
-1.5 mm below the step, where the mid-surface jogs by 0.45 mm).
+descriptors of shape", in Models for the Perception of Speech and Visual Form, MIT Press, 1967). A tip branch
+reaching less than two radii of the disc at its junction is pruned as a corner artefact; here the stub's branch
+reaches 0.98 of that at 1.9 mm, so a stub 2.7 mm thick and shorter than 2 mm (1.95 mm pruned, 2.0 mm kept) goes
+with the step corner's bisector and the stock wall's mid-surface (r 24.4, t 3.6) runs on to the rim: the shell sees
+no stub. From 2 mm on the stub stays (nodes at t 2.7 to the rim, at r 23.95, or drifting to 23.7 at the rim of a
+stub only just kept; the thickness tapers from 3.6 to 2.7 over the 1.5 mm below the step, where the mid-surface
+jogs by 0.45 mm).
 
 Measured (shell / solid - 1; the solid refined: 0.125 mm at the patch ends, 0.5 mm away, harmonics to 1e-4):
 
@@ -46,6 +49,9 @@ above the pruned shell and farther from the solid, as the longer kept stubs are 
 +5 % is the shell's error on a plain 2.7 mm wall at this height (measured +4.9 % at z 44.6 on a wall r 22.6..25.3
 from the flange to the rim, +3.4 % on the 3.6 mm one) and the rest is the step: in the solid the wall is
 full-thickness metal up to the step, in the shell it thins over the 1.5 mm below it.
+
+Along the demo's first pass the shell's compliance at the tool hardly changes from the first key station to the
+second (+1 %: the stub appears just as the tool moves down), where the solid's falls by 15 %.
 
 So at the tool the pruned short stub is within the 10 % aim near junctions (the acceptance check's words, as in
 `test_against_3d_solid.py`) and closer to the solid than keeping the stub would be; the rim of the 1.9 mm stub,
