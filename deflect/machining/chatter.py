@@ -479,10 +479,12 @@ def chatter_study(job, process, dynamics: Dynamics, pass_name: str | None = None
 # the check inside `deflect predict` and `deflect tune`
 
 def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict | None = None) -> list[str]:
-    """A warning for each finishing pass predicted to chatter where its finishing cut meets the most compliant
-    wall (the station of largest static compliance in the prediction; `chatter_study` checks key stations all
-    along). memo: the cut paths and {(in-process shape, station): PointResponse}, shared by the variants of one
-    job (tune), whose parts are often the same while feed, tool or speed change; it may be the simulation's."""
+    """A warning for each finishing pass predicted to chatter at one of the two stations of its finishing cut
+    where chatter is likeliest: where the wall gives most (the largest static compliance in the prediction) and
+    where the chip is widest (`deepest_station`: a face's outer corner, which the first can miss; `deflect
+    chatter` adds it to its key stations for the same reason). `chatter_study` checks key stations all along.
+    memo: the cut paths and {(in-process shape, station): PointResponse}, shared by the variants of one job
+    (tune), whose parts are often the same while feed, tool or speed change; it may be the simulation's."""
     memo = {} if memo is None else memo
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
     paths, parts = laid_out(process, nominal_rz, STATION_SPACING_MM, memo)
@@ -495,11 +497,19 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
         table = results[p.name].cuts[j] if 0 <= j < len(results[p.name].cuts) else None
         if table is None or not (table.met_depth_mm > 0.0).any():
             continue
-        k = int(np.argmax(np.where(full_depth(table.met_depth_mm), table.compliance_mm_per_n, -np.inf)))
-        name = (parts[i][j].tobytes(), paths[i][j].points_rz.tobytes(), k, job.material.density_g_cm3)
-        wanted.append((p, paths[i][j], k, float(table.met_depth_mm[k]), name))
-        if name not in memo:
-            tasks.append((name, (job, parts[i][j], paths[i][j], p, k)))
+        met = table.met_depth_mm
+        softest = int(np.argmax(np.where(full_depth(met), table.compliance_mm_per_n, -np.inf)))
+        stations = [(softest, "where the wall gives most")]
+        deepest = deepest_station(met)
+        if deepest != softest:
+            stations.append((deepest, "where the chip is widest"))
+        checked = []
+        for k, where in stations:
+            name = (parts[i][j].tobytes(), paths[i][j].points_rz.tobytes(), k, job.material.density_g_cm3)
+            checked.append((k, where, float(met[k]), name))
+            if name not in memo and all(name != queued for queued, _ in tasks):
+                tasks.append((name, (job, parts[i][j], paths[i][j], p, k)))
+        wanted.append((p, paths[i][j], checked))
     for (name, _), response in zip(tasks, parallel_map(station_response, [task for _, task in tasks])):
         memo[name] = response
     if not wanted:
@@ -507,24 +517,32 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
     finished = WallDynamics(wall_of(job, job.section), job.material.density_g_cm3) if dynamics.measured else None
     corrections = tap_corrections(finished.modes if finished else [], dynamics)[0]
     warnings = []
-    for p, path, k, depth, name in wanted:
-        response = memo[name]
-        cut = cut_response(job, process, p, response, corrections, feed_sign_at(path, k))
-        rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * path.points_rz[k, 0], process.machine.max_rpm))
-        r, z = map(float, path.points_rz[k])
-        # the verdict at the pass's own speed first: only a station that chatters needs its limit depth (the
-        # lobes over the speed range and the depths above, which `evaluate_station` adds, are not warned about)
-        coefficient, branches = cut.branches(depth)
-        limit = float(limit_at_speeds(branches, [rpm])[0][0])
-        if not limit > coefficient:
-            limit_depth = stability_change_mm(cut, rpm, depth, going_up=False) or 0.0
-            warnings.append(chatter_warning(p.name, r, z, depth, rpm, limit_depth, limit / coefficient))
+    for p, path, checked in wanted:
+        verdicts = [station_verdict(job, process, p, path, k, depth, memo[name], corrections) + (where,)
+                    for k, where, depth, name in checked]
+        margin, k, depth, rpm, limit_depth, where = min(verdicts, key=lambda verdict: verdict[0])
+        if not margin > 1.0:
+            r, z = map(float, path.points_rz[k])
+            warnings.append(chatter_warning(p.name, where, r, z, depth, rpm, limit_depth, margin))
     return warnings
 
 
-def chatter_warning(pass_name: str, r_mm: float, z_mm: float, depth_mm: float, rpm: float, limit_depth_mm: float,
-                    margin: float) -> str:
-    return (f"pass '{pass_name}' is predicted to chatter where the wall gives most (r {r_mm:.1f}, "
+def station_verdict(job, process, p, path, k: int, depth_mm: float, response: PointResponse,
+                    corrections: Corrections) -> tuple[float, int, float, float, float]:
+    """(margin, station, depth [mm], spindle speed [1/min], largest stable depth [mm] or 0 when stable) of the
+    cut at station k at the pass's own speed. Only a station that chatters needs its limit depth (the lobes
+    over the speed range and the depths above, which `evaluate_station` adds, are not warned about)."""
+    cut = cut_response(job, process, p, response, corrections, feed_sign_at(path, k))
+    rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * path.points_rz[k, 0], process.machine.max_rpm))
+    coefficient, branches = cut.branches(depth_mm)
+    margin = float(limit_at_speeds(branches, [rpm])[0][0]) / coefficient
+    limit_depth = 0.0 if margin > 1.0 else (stability_change_mm(cut, rpm, depth_mm, going_up=False) or 0.0)
+    return margin, k, depth_mm, rpm, limit_depth
+
+
+def chatter_warning(pass_name: str, where: str, r_mm: float, z_mm: float, depth_mm: float, rpm: float,
+                    limit_depth_mm: float, margin: float) -> str:
+    return (f"pass '{pass_name}' is predicted to chatter {where} (r {r_mm:.1f}, "
             f"z {z_mm:.1f} mm): {depth_mm:.3g} mm deep at {rpm:.0f} /min, stable only "
             f"below {limit_depth_mm:.3g} mm there (margin {margin:.2f}), `deflect chatter` gives its stable "
             "speeds")
