@@ -260,7 +260,7 @@ def run_prediction(job_file: str, show_progress: bool, calibration_file: str | N
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
         pred = simulate(job, process, progress=progress)
-        # the finishing passes' chatter, checked where each meets the most compliant wall
+        # the finishing passes' chatter, checked where each meets the most compliant wall and its widest chip
         pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics))
         return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
     except (InputError, ModelError) as exc:

@@ -1,9 +1,9 @@
 """An option that chatters does not hold: the ranked plans of `deflect tune` checked for chatter.
 
 Takes the job and a `tune.TuneResult`; gives the same result with every plan (the one as programmed and each
-option) checked for regenerative chatter of its finishing passes where each meets the most compliant wall
-(`machining.chatter.prediction_warnings`, with the job's [dynamics]). How a predicted chatter counts depends on
-what the damping rests on, to which chatter predictions are most sensitive:
+option) checked for regenerative chatter of its finishing passes where each meets the most compliant wall and
+where its chip is widest (`machining.chatter.prediction_warnings`, with the job's [dynamics]). How a predicted
+chatter counts depends on what the damping rests on, to which chatter predictions are most sensitive:
 * [dynamics] gives it (the job's own ratio, or a tap test's modes): the chatter is among the limits the plan
   breaks, so it no longer counts as holding, and the options are ranked again as the search ranks them (those
   that meet everything by cycle time, then the rest);

@@ -500,7 +500,7 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
         met = table.met_depth_mm
         softest = int(np.argmax(np.where(full_depth(met), table.compliance_mm_per_n, -np.inf)))
         stations = [(softest, "where the wall gives most")]
-        deepest = deepest_station(met)
+        deepest = planned_deepest(parts[i][j], paths[i][j], p, memo)
         if deepest != softest:
             stations.append((deepest, "where the chip is widest"))
         checked = []
@@ -525,6 +525,15 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
             r, z = map(float, path.points_rz[k])
             warnings.append(chatter_warning(p.name, where, r, z, depth, rpm, limit_depth, margin))
     return warnings
+
+
+def planned_deepest(part_rz: np.ndarray, path, p, memo: dict) -> int:
+    """`deepest_station` of a cut on the part cut to its targets, as `deflect chatter` places it; the variants of
+    one job that `tune` checks then share it (and its modal data) while their push-offs differ by micrometres."""
+    name = ("deepest", part_rz.tobytes(), path.points_rz.tobytes(), p.surface)
+    if name not in memo:
+        memo[name] = deepest_station(met_depth(part_rz, path, p))
+    return memo[name]
 
 
 def station_verdict(job, process, p, path, k: int, depth_mm: float, response: PointResponse,
