@@ -709,6 +709,19 @@ def test_inch_job_gets_its_changes_in_inches(folder, run, request):
                 assert f"{round(c_in['to'], 4):g} in/rev" in a["in_words"]
 
 
+def test_an_inch_job_s_remedies_open_with_the_unit_of_each_line(folder):
+    """Every report of an inch job opens with a line saying in which unit it prints (issue 10, item 7); the
+    remedies print the drawing's sizes in mm and the changes to the program in inches, and say both. Before,
+    `tune` of an inch job opened with no such line."""
+    code, out, err = run_cli(["tune", str(write_job(folder, "sleeve-inch-text", in_inches(sleeve()))), "--quiet"])
+    assert code == 0, err
+    first, second = out.splitlines()[:2]
+    assert first.startswith("(an inch job: the drawing's sizes and positions are printed in mm below")
+    assert "the changes to the program are in inches" in first
+    assert second.startswith("Remedies: ")
+    assert " in/rev" in out and "OD 40 " in out      # a change in inches, the drawn 40 mm diameter in mm
+
+
 # ---------------------------------------------------------------------------------------------------
 # a spring pass's own push-off (the premise of every spring option)
 

@@ -41,8 +41,21 @@ Identification, decided before the fit on the Jacobian at the start (factors 1, 
    singular vector or more) cannot be separated from each other;
 3. resolved: a factor whose 95 % interval at its recalled value (the same Jacobian, correlations included,
    the stated uncertainties) would reach 0 is not resolved from "no push-off at all", and is set aside.
-All three are decided on where the readings are and how good they are, never on the noise of one part (a
-rule judged on the fitted interval would drop a factor whenever a part happened to scatter).
+4. actionable: a size error whose 95 % interval (high - low) is wider than the band its surface is held to,
+   counted in the size error's own measure (a side: half an OD's or bore's band on the diameter from
+   [tolerance]; a face's height one for one; where no band is given, and for every face, the standard
+   tolerance IT8 at the surface's drawn size, ISO 286-1:2010 Table 1, what finish turning holds: common
+   practice) is not identified. Why this width: a size error is acted on by a wear offset that centres the
+   surface in its band; with an interval wider than the band, the same readings allow a surface anywhere across
+   the band and beyond it, so no offset can be chosen from them (a reading in a fillet, which moves with the
+   surface's size by a small share of it, gives such an interval). The report says which reading would pin it
+   down: one on the surface's own straight stretch (or flat), where the reading moves one for one with it.
+Rules 1 to 4 are decided on where the readings are and how good they are (the Jacobian at the start and the
+stated uncertainties), not on the noise of one part (a rule judged on the fitted interval would drop a factor
+whenever a part happened to scatter). Rule 4 is judged again on the interval as fitted, because that is the
+interval the report prints and an engineer would act on: where the readings scatter beyond their
+uncertainties (the covariance scaled, below), or the fit moved the surface where its readings see it less, a
+size error whose fitted interval is wider than its band is set aside and the rest fitted again without it.
 An unknown that is not identified stays at 1 (factors) or 0 (size errors), is reported "not identified" with
 the reason, and is never fitted to noise. A factor's interval is cut at 0 (a force is not negative).
 
@@ -74,10 +87,11 @@ import numpy as np
 from scipy import stats
 from scipy.optimize import least_squares
 
-from deflect.errors import ModelError
+from deflect.errors import InputError, ModelError
 from deflect.geometry.gauging import nearest_face, nearest_radius, outer_wall
 from deflect.geometry.section import POLYGON_CHORD_MM, mass_properties
 from deflect.job.calibration import GRIP_APPLIES_TO, Calibration, Factor, SizeError, with_calibration
+from deflect.job.fits import SIZE_RANGES_MM, standard_tolerance_um, tolerance_from_table
 from deflect.job.measured import MIN_RADIAL_NORMAL, Measured, Reading
 from deflect.machining.inprocess import polygon_mass
 from deflect.machining.results import Prediction
@@ -104,6 +118,8 @@ RELEASE_REACH_MM = 0.5            # a reading takes the jaws' spring-back of a f
 DENSITY_FIGURES = 3               # a handbook density is quoted to three significant figures
 LAYER_SHOWN_G = 5e-4              # the layers' sum and the section's mass differ by more: shown in the split
 FINISHED_MM = 0.5                 # a pass finishes a surface when it finishes this much of the boundary
+HELD_GRADE = 8                    # a surface with no band in [tolerance] is judged against IT8, what finish
+                                  # turning holds (common practice), ISO 286-1:2010 Table 1
 
 
 @dataclass(frozen=True)
@@ -245,6 +261,75 @@ def unknowns_of(job, process, pred: Prediction, measured: Measured, fitted_per: 
     if "holding" in job.tables and any(r.kind == "roundness" for r in measured.readings):
         unknowns.append(Unknown("grip", GRIP_APPLIES_TO))
     return unknowns
+
+
+@dataclass(frozen=True)
+class Band:
+    """The band a size error's surface is held to, in the size error's own measure (mm along the outward
+    normal: half a diameter band, a face's height one for one), and the words that say where it comes from."""
+
+    width_mm: float
+    words: str
+
+
+NO_BAND = Band(math.inf, "")
+
+
+def held_bands(job, pred: Prediction, unknowns: list[Unknown]) -> list[Band]:
+    """Per unknown, the band its surface is held to (rule 4 of the module docstring; NO_BAND for the factors):
+    an OD's or bore's band on the diameter from [tolerance], halved (a size error is a side); where the job gives
+    none, and for a face (no face carries a band in [tolerance]), the standard tolerance IT8 at the surface's
+    drawn size (a face: its height above the job's z = 0), ISO 286-1:2010 Table 1. The narrowest where the
+    surface has several sizes."""
+    tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
+    d = pred.deviation
+    bands = []
+    for u in unknowns:
+        if u.kind != "size":
+            bands.append(NO_BAND)
+            continue
+        axis = 1 if u.surface == "face" else 0
+        mine = [k for k, name in enumerate(d.finished_by) if name == u.name]
+        straight = [k for k in mine if abs(d.normals[k][axis]) > CYLINDER_COS] or mine
+        sizes = sorted({round(abs(float(d.points_rz[k][axis])) * (1 if axis else 2), 3) for k in straight})
+        found = [band_at(tolerances, u.surface, size) for size in sizes]
+        bands.append(min(found, key=lambda b: b.width_mm, default=NO_BAND))
+    return bands
+
+
+def band_at(tolerances, surface: str, size_mm: float) -> Band:
+    """The band of one drawn size (a diameter, or a face's height), in the size error's measure."""
+    try:
+        limits = None if tolerances is None or surface == "face" else tolerances.diameter_limits(surface, size_mm)
+        if limits is not None:
+            side_mm = 0.5 * (limits[1] - limits[0])
+            return Band(side_mm, f"the {SURFACE_WORDS[surface]}'s band in [tolerance] at {size_mm:g} mm, "
+                                 f"{1000 * side_mm:.1f} um a side")
+        it_mm = standard_tolerance_um(HELD_GRADE, max(size_mm, SIZE_RANGES_MM[0][1]), "tolerance") / 1000.0
+    except InputError:                  # a size beyond ISO 286-1's tables: nothing to judge against
+        return NO_BAND
+    if surface == "face":
+        return Band(it_mm, f"IT{HELD_GRADE} at the face's height of {size_mm:g} mm, {1000 * it_mm:.0f} um, what "
+                           "finish turning holds (common practice; no face carries a band in [tolerance])")
+    return Band(0.5 * it_mm, f"IT{HELD_GRADE} at {size_mm:g} mm, {500 * it_mm:.1f} um a side, what finish turning "
+                             "holds (common practice; [tolerance] gives this surface no band)")
+
+
+STRAIGHT_READING = {"od": "a diameter of the OD where it runs straight along the axis, away from its fillets and "
+                          "corners",
+                    "id": "a bore diameter where the bore runs straight along the axis, away from its fillets and "
+                          "corners",
+                    "face": "a face height read on the flat of the face, away from its fillets"}
+
+
+def too_wide_reason(u: Unknown, width_mm: float, band: Band, before_fit: bool, scattered: bool = False) -> str:
+    """Why a size error too wide to act on is not identified, and what reading would pin it down."""
+    width = f"{1000 * width_mm:.1f} um wide" if math.isfinite(width_mm) else "unbounded"
+    scatter = (" The readings scatter more than their stated uncertainties allow, which widens every interval: "
+               "check the reading with the largest residual." if scattered else "")
+    return (f"its 95 % interval {'would be' if before_fit else 'is'} {width}, wider than {band.words}: the readings "
+            f"do not pin its size down (an offset set from it could put the surface anywhere across its band)."
+            f"{scatter} What would: {STRAIGHT_READING[u.surface]}.")
 
 
 def calibration_from(unknowns: list[Unknown], values, fitted_per: str, low=None, high=None, identified=None,
@@ -391,10 +476,13 @@ class Fit:
     converged: bool
 
 
-def fit_unknowns(model: ReadingModel, y: np.ndarray, sigma: np.ndarray, used: np.ndarray) -> Fit:
-    """The unknowns from the readings in use (module docstring: identification, fit, intervals)."""
+def fit_unknowns(model: ReadingModel, y: np.ndarray, sigma: np.ndarray, used: np.ndarray,
+                 bands: list[Band] | None = None) -> Fit:
+    """The unknowns from the readings in use (module docstring: identification, fit, intervals); `bands` the
+    band each size error's surface is held to (`held_bands`; none: every interval may be acted on)."""
     unknowns = model.unknowns
     k = len(unknowns)
+    bands = [NO_BAND] * k if bands is None else bands
     x0 = np.array([u.start for u in unknowns])
     rows = np.flatnonzero(used)
     identified, reasons = [True] * k, [""] * k
@@ -407,13 +495,31 @@ def fit_unknowns(model: ReadingModel, y: np.ndarray, sigma: np.ndarray, used: np
     weighted = start[rows] / sigma[rows, None]
     seen_by(unknowns, start[rows], sigma[rows], identified, reasons)
     unseparated = separable(unknowns, weighted, identified, reasons)
-    resolved(unknowns, weighted, identified, reasons)
+    resolved(unknowns, weighted, identified, reasons, bands)
     active = [j for j in range(k) if identified[j]]
-    x, converged = solved(model, x0, active, y[rows], sigma[rows], rows)
-    covariance, gradient, chi_square, dof, scaled, quantile = covariance_at(model, x, active, y[rows], sigma[rows],
-                                                                            rows)
-    return Fit(x, identified, reasons, covariance, gradient, chi_square, dof, scaled, quantile, unseparated,
-               converged)
+    while True:
+        x, converged = solved(model, x0, active, y[rows], sigma[rows], rows)
+        covariance, gradient, chi_square, dof, scaled, quantile, lost = covariance_at(model, x, active, y[rows],
+                                                                                      sigma[rows], rows)
+        # rule 4 on the interval as fitted: the least actionable size error (the one the readings lost first, where
+        # a combination went unseen at the solution) is set aside and the rest fitted again without it
+        widths = 2.0 * quantile * np.sqrt(np.abs(np.diag(covariance)))
+        widths[lost >= SHARE_IN_NULL] = math.inf
+        wide = [(too_wide_share(widths[j], bands[j]), lost[j], j) for j in active
+                if unknowns[j].kind == "size" and not widths[j] <= bands[j].width_mm]
+        if not wide:
+            return Fit(x, identified, reasons, covariance, gradient, chi_square, dof, scaled, quantile, unseparated,
+                       converged)
+        *_, worst = max(wide)
+        identified[worst] = False
+        reasons[worst] = too_wide_reason(unknowns[worst], float(widths[worst]), bands[worst], before_fit=False,
+                                         scattered=scaled)
+        active.remove(worst)
+
+
+def too_wide_share(width_mm: float, band: Band) -> float:
+    """How many bands wide an interval is (inf where it has no bound)."""
+    return float(width_mm / band.width_mm) if math.isfinite(width_mm) else math.inf
 
 
 def seen_by(unknowns: list[Unknown], jacobian: np.ndarray, sigma: np.ndarray, identified: list[bool],
@@ -460,27 +566,34 @@ def separable(unknowns: list[Unknown], weighted: np.ndarray, identified: list[bo
             "more heights along each surface would separate them"] if len(members) > 1 else []
 
 
-def resolved(unknowns: list[Unknown], weighted: np.ndarray, identified: list[bool], reasons: list[str]) -> None:
-    """Rule 3: a factor whose 95 % interval, at its recalled value and the stated uncertainties (the weighted
-    Jacobian at the start, correlations with the other unknowns included), would reach 0 is not resolved from
-    no push-off at all; the least resolved one is set aside and the rest judged again. Decided before the fit,
-    on the readings' places and uncertainties alone, so the noise of one part never decides it."""
+def resolved(unknowns: list[Unknown], weighted: np.ndarray, identified: list[bool], reasons: list[str],
+             bands: list[Band]) -> None:
+    """Rules 3 and 4 before the fit: a factor whose 95 % interval, at its recalled value and the stated
+    uncertainties (the weighted Jacobian at the start, correlations with the other unknowns included), would
+    reach 0 is not resolved from no push-off at all; a size error whose interval would be wider than its band
+    cannot be acted on. The least resolved one (factors first, as share of the value; then size errors, as
+    bands) is set aside and the rest judged again. Decided on the readings' places and uncertainties alone."""
     z95 = stats.norm.ppf(0.5 + COVERAGE / 2)
     while True:
         active = [j for j in range(len(unknowns)) if identified[j]]
         if not active:
             return
         _, singular, vt = np.linalg.svd(weighted[:, active], full_matrices=False)
-        half = z95 * np.sqrt(np.diag((vt.T / singular**2) @ vt))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            half = z95 * np.sqrt(np.diag((vt.T / singular**2) @ vt))
         starts = np.array([unknowns[j].start for j in active])
-        wide = [(half[i] / starts[i], j) for i, j in enumerate(active)
+        wide = [(1, half[i] / starts[i], j) for i, j in enumerate(active)
                 if unknowns[j].kind != "size" and half[i] >= starts[i]]
+        wide = wide or [(0, too_wide_share(2.0 * half[i], bands[j]), j) for i, j in enumerate(active)
+                        if unknowns[j].kind == "size" and not 2.0 * half[i] <= bands[j].width_mm]
         if not wide:
             return
-        share, worst = max(wide)
+        factor, share, worst = max(wide)
         identified[worst] = False
         reasons[worst] = (f"even at its recalled value its 95 % interval from these readings would be +/-"
-                          f"{share:.2g} of it and reach 0: the readings cannot tell its push-off from none")
+                          f"{share:.2g} of it and reach 0: the readings cannot tell its push-off from none"
+                          if factor else too_wide_reason(unknowns[worst], float(2.0 * half[active.index(worst)]),
+                                                         bands[worst], before_fit=True))
 
 
 def solved(model: ReadingModel, x0: np.ndarray, active: list[int], y: np.ndarray, sigma: np.ndarray,
@@ -517,8 +630,11 @@ def solved(model: ReadingModel, x0: np.ndarray, active: list[int], y: np.ndarray
 
 def covariance_at(model: ReadingModel, x: np.ndarray, active: list[int], y: np.ndarray, sigma: np.ndarray,
                   rows: np.ndarray):
-    """(covariance (k, k), mass gradient (k,), chi-square, degrees of freedom, scaled, quantile) at x."""
+    """(covariance (k, k), mass gradient (k,), chi-square, degrees of freedom, scaled, quantile, lost (k,)) at x;
+    lost: each unknown's share in a combination the readings no longer see at x (singular value below
+    SEPARABLE_RATIO of the largest), whose interval is then unbounded."""
     k = len(model.unknowns)
+    lost = np.zeros(k)
     values, _ = model(x)
     r = (y - values[rows]) / sigma
     chi_square = float(r @ r)
@@ -527,14 +643,17 @@ def covariance_at(model: ReadingModel, x: np.ndarray, active: list[int], y: np.n
     scaled = bool(dof > 0 and chi_square > stats.chi2.ppf(COVERAGE, dof))
     quantile = float(stats.t.ppf(0.5 + COVERAGE / 2, dof) if scaled else stats.norm.ppf(0.5 + COVERAGE / 2))
     if not active:
-        return covariance, gradient, chi_square, dof, scaled, quantile
+        return covariance, gradient, chi_square, dof, scaled, quantile, lost
     jacobian, mass_gradient = model.jacobian(x, active)
     weighted = jacobian[rows] / sigma[:, None]
     _, singular, vt = np.linalg.svd(weighted, full_matrices=False)
-    inner = (vt.T / singular**2) @ vt                    # (J^T J)^-1 through the SVD
+    with np.errstate(divide="ignore", invalid="ignore"):     # a direction the readings lost: inf, judged by rule 4
+        inner = (vt.T / singular**2) @ vt                    # (J^T J)^-1 through the SVD
     covariance[np.ix_(active, active)] = (chi_square / dof if scaled else 1.0) * inner
     gradient[active] = mass_gradient
-    return covariance, gradient, chi_square, dof, scaled, quantile
+    gone = vt[singular < SEPARABLE_RATIO * singular.max()]
+    lost[active] = np.abs(gone).max(axis=0) if len(gone) else 0.0
+    return covariance, gradient, chi_square, dof, scaled, quantile, lost
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -553,7 +672,7 @@ def explain(job, process, measured: Measured, fitted_per: str = "tool", memo: di
     sigma, used, notes = reading_weights(readings, uncalibrated, job)
     model = ReadingModel(job, process, readings, unknowns, fitted_per, uncalibrated, memo, settings)
     y = np.array([r.value_mm for r in readings])
-    fit = fit_unknowns(model, y, sigma, used)
+    fit = fit_unknowns(model, y, sigma, used, held_bands(job, uncalibrated, unknowns))
     x0 = np.array([u.start for u in unknowns])
     before, after = model(x0)[0], model(fit.x)[0]
     lost = [r.key for r, b, a in zip(readings, before, after) if not (math.isfinite(b) and math.isfinite(a))]
@@ -644,7 +763,9 @@ def reading_weights(readings: list[Reading], pred: Prediction, job) -> tuple[np.
 
 
 def reading_notes(readings: list[Reading], used: np.ndarray, pred: Prediction) -> list[str]:
-    """Per reading: a note where no pass of this job finishes the surface it is on."""
+    """Per reading: a note where no pass of this job finishes the surface it is on (a face height: where no
+    pass finishes the boundary within RELEASE_REACH_MM of the drawn face at its radius, whichever pass's
+    surface that is, as an OD pass runs on down a shoulder)."""
     d = pred.deviation
     notes = []
     for r, u in zip(readings, used):
@@ -655,6 +776,11 @@ def reading_notes(readings: list[Reading], used: np.ndarray, pred: Prediction) -
             wanted = {"od", "id"} if r.kind == "wall" else {r.surface}
             if not finished & wanted:
                 note = "on a surface no pass of this job finishes (it checks the blank)"
+        elif r.kind == "face":
+            near = np.flatnonzero(np.hypot(d.points_rz[:, 0] - r.at_mm, d.points_rz[:, 1] - r.nominal_mm)
+                                  <= RELEASE_REACH_MM)
+            if not any(d.finished_by[i] for i in near):
+                note = "on a face no pass of this job finishes (it checks the blank)"
         notes.append(note)
     return notes
 

@@ -35,11 +35,11 @@ standard uncertainty, one sigma), how it was taken, and the drawn value at the s
     lobes = 3                    # optional
 
 Where no uncertainty is given, the instrument's usual one is taken (`DEFAULT_UNCERTAINTY`, common practice;
-no published source) and the reading says so. Heights and radii must lie on the part, on a surface it has
-there (an OD or bore within 60 degrees of the axis, a face within 60 degrees of square to it); values must be
-near the drawn ones (a first article is off by micrometres to tenths): a diameter that is the drawn one
-divided by 25.4 is taken for inches in a millimetre file, and the like. Every problem is an `InputError` naming
-the measurement file and the entry.
+no published source) and the reading says so. Heights and radii must lie on the part (its ends included), on a
+surface it has there (an OD or bore within 60 degrees of the axis, a face within 60 degrees of square to it);
+values must be near the drawn ones (a first article is off by micrometres to tenths): a diameter that is the
+drawn one divided by 25.4 is taken for inches in a millimetre file, and the like. Every problem is an
+`InputError` naming the measurement file and the entry.
 """
 
 from __future__ import annotations
@@ -89,6 +89,7 @@ COARSEST_MM = 0.05          # a gauge coarser than this cannot see push-off (mic
 MOST_ROUNDNESS_UM = 500.0   # roundness beyond this is no jaw mark on a turned part (or it is not in um)
 MASS_RATIO = (0.5, 2.0)     # a first article weighs about its drawn mass; outside this the entry is refused
 DENSITY_SHARE = 0.1         # a measured density within 10 % of the material's
+END_REACH_MM = POLYGON_CHORD_MM   # a height this near an end of the part is a reading at that end
 
 
 @dataclass(frozen=True)
@@ -214,13 +215,15 @@ def _uncertainty(entry: dict, key: str, factor: float, default: tuple[float, str
 
 
 def _height(entry: dict, key: str, polygon, factor: float) -> float:
-    """The entry's z [mm], inside the part's axial extent."""
+    """The entry's z [mm] on the part's axial extent, its ends included: a reading at an end (within
+    END_REACH_MM, the chord the drawn outline is kept to, so a z converted from inches still counts) is taken
+    END_REACH_MM inside it, where a gauge's line still crosses the part's boundary."""
     z = required_number(entry, "z", key, "the height along the axis where it was measured") * factor
     low, high = float(polygon[:, 1].min()), float(polygon[:, 1].max())
-    if not low < z < high:
+    if not low - END_REACH_MM <= z <= high + END_REACH_MM:
         raise InputError(f"{key}.z", f"{z / factor:g} lies outside the part, which runs from z = {low / factor:g} "
                                      f"to {high / factor:g}")
-    return z
+    return min(max(z, low + END_REACH_MM), high - END_REACH_MM)
 
 
 def _surface_at(entry: dict, key: str, polygon, z: float, factor: float) -> tuple[str, float]:
@@ -286,8 +289,9 @@ def _wall(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
 def _face(entry: dict, key: str, polygon, factor: float, units: str) -> Reading:
     r = required_number(entry, "r", key, "the radius at which the face's height was measured") * factor
     r_max = float(polygon[:, 0].max())
-    if not 0.0 <= r < r_max:
+    if not 0.0 <= r <= r_max + END_REACH_MM:
         raise InputError(f"{key}.r", f"{r / factor:g} lies outside the part, which reaches r = {r_max / factor:g}")
+    r = min(r, r_max - END_REACH_MM)        # at the rim, as a height at an end (`_height`)
     value = required_number(entry, "value", key, "the face's height above the job's z = 0") * factor
     found = nearest_face(polygon, r, value)
     if found is None or abs(found[0] - value) > FACE_SEARCH_MM or abs(found[1]) < MIN_RADIAL_NORMAL:

@@ -3,7 +3,8 @@
 Takes a `first_article.FirstArticle` (and the remedy search's `TuneResult` for the next part, if run); gives the
 text and the dict of the first-article contract (factors, size_errors, mass, residual_rms_um) with the
 readings, profiles, the mass split and the next part's options beside it. Lengths mm (readings), um (errors),
-mass g. Formatting only: the figures come from `deflect.decisions.first_article`.
+mass g, whatever the job's units; the next part's changes in the job's units (an inch job's report says so in its
+first line). Formatting only: the figures come from `deflect.decisions.first_article`.
 """
 
 from __future__ import annotations
@@ -15,7 +16,7 @@ import numpy as np
 from deflect.decisions.first_article import Estimate, FirstArticle, usual_suspects
 from deflect.job.calibration import Calibration
 from deflect.output.tables import Grid, Text, blocks_text, column_grid
-from deflect.output.tune_report import option_words, tune_payload
+from deflect.output.tune_report import change_words, tune_payload
 
 SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "wall": "wall"}
 WHAT = {("diameter", "od"): "OD diameter", ("diameter", "id"): "ID diameter", ("wall", "wall"): "wall",
@@ -144,7 +145,30 @@ def profile_lines(result: FirstArticle) -> list[Grid | Text]:
     return blocks
 
 
-def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> list[str]:
+AIMED_CHANGES = ("offset", "compensate")   # the changes that place a surface in its band, and so rest on its size
+
+
+def unsized_passes(result: FirstArticle) -> list[str]:
+    """The finishing passes whose size error the first article did not identify (their surface's size is not
+    known from it: an offset aimed at its band rests on the surface as programmed)."""
+    return [e.unknown.name for e in result.estimates if e.unknown.kind == "size" and not e.identified]
+
+
+def aimed_words(outcome, surface_of: dict, units: str, unsized: list[str]) -> str:
+    """An option's changes in words; an offset (or compensated contour) on a pass whose size error is not
+    identified says that it aims by the predicted push-off alone."""
+    words = []
+    for c in outcome.changes:
+        text = change_words(c, surface_of, units)
+        if c.key in AIMED_CHANGES and c.pass_name in unsized:
+            text += (" [NOT from a measured size: this surface's size error was not identified, so this aims by "
+                     "the predicted push-off alone, the surface taken as programmed; measure its size on its straight "
+                     "stretch before setting it]")
+        words.append(text)
+    return "; ".join(words) or "as programmed"
+
+
+def next_part_lines(remedies, surface_of: dict, units: str, searched: bool, unsized: list[str] = ()) -> list[str]:
     if remedies is None:
         return ["no [tolerance] in the job: nothing to aim the next part at"]
     lines = wrapped(f"as programmed, with the calibration: cycle {remedies.current.cycle_time_s:.1f} s, most "
@@ -154,7 +178,7 @@ def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> l
         lines.append("the wear offsets that centre every finished surface in its band (no time lost):")
     for rank, o in enumerate(remedies.options[:OPTIONS_SHOWN], 1):
         verdict = "meets" if o.meets else "does not meet"
-        words = option_words(o, surface_of, units)
+        words = aimed_words(o, surface_of, units, list(unsized))
         lines += wrapped(f"{rank}. ({verdict}, cycle {o.cycle_time_s:.1f} s) {words}", WIDTH,
                          subsequent_indent="   ")
         if o.broken:
@@ -169,10 +193,21 @@ def next_part_lines(remedies, surface_of: dict, units: str, searched: bool) -> l
     return lines
 
 
+def explain_units_note(units: str) -> str:
+    """The line an inch job's explain report opens with, as every report of an inch job does (`units_note`),
+    true for what it prints: the readings, profiles and mass in mm, g and um, the next part's changes in inches
+    (the job's own units, as they are written into the job and keyed into the control). "" for a mm job."""
+    if units != "inch":
+        return ""
+    return ("(an inch job: its readings and profiles are printed in mm below, 1 in = 25.4 mm, errors and residuals "
+            "in um; the next part's changes are in inches, as the job and the control take them; cutting speeds "
+            "are m/min in either unit)\n")
+
+
 def explain_report(result: FirstArticle, remedies=None, surface_of: dict | None = None, units: str = "mm",
                    searched: bool = False) -> str:
     """The whole report as the terminal prints it."""
-    return (f"First article: {result.title}\nmeasured part: {result.measured_path}\n\n"
+    return (explain_units_note(units) + f"First article: {result.title}\nmeasured part: {result.measured_path}\n\n"
             + blocks_text(explain_blocks(result, remedies, surface_of, units, searched)))
 
 
@@ -184,7 +219,7 @@ def explain_blocks(result: FirstArticle, remedies=None, surface_of: dict | None 
               Text((*wrapped(EXPLAINS, WIDTH), *wrapped(f"fit: {fit_words(result)}", WIDTH),
                     f"residual {result.residual_rms_um:.2f} um rms (measured - calibrated)")),
               readings_table(result), *mass_lines(result), *profile_lines(result),
-              Text(tuple(next_part_lines(remedies, surface_of or {}, units, searched)),
+              Text(tuple(next_part_lines(remedies, surface_of or {}, units, searched, unsized_passes(result))),
                    title="Next part (with the calibrated constants)")]
     if result.notes:
         blocks.append(Text(tuple(textwrap.fill(n, WIDTH, subsequent_indent="  ") for n in result.notes),
@@ -238,11 +273,23 @@ def explain_payload(result: FirstArticle, remedies=None, surface_of: dict | None
         "readings": readings,
         "profiles": [{"surface": p.surface, "z_mm": p.z_mm.tolist(), "uncalibrated_mm": p.uncalibrated_mm.tolist(),
                       "calibrated_mm": p.calibrated_mm.tolist()} for p in result.profiles],
-        "next_part": None if remedies is None else {"searched": searched,
-                                                     **tune_payload(remedies, surface_of or {}, units)},
+        "next_part": None if remedies is None else next_part_record(result, remedies, surface_of or {}, units,
+                                                                    searched),
         "calibration_file": saved,
         "notes": list(result.notes),
     }
+
+
+def next_part_record(result: FirstArticle, remedies, surface_of: dict, units: str, searched: bool) -> dict:
+    """`deflect tune --json`'s keys for the next part; an option's words, and `aimed_without_size`, name the passes
+    whose offset aims by the predicted push-off alone (their size error not identified)."""
+    unsized = unsized_passes(result)
+    record = {"searched": searched, **tune_payload(remedies, surface_of, units)}
+    for option, outcome in zip(record["options"], remedies.options):
+        option["in_words"] = aimed_words(outcome, surface_of, units, unsized)
+        option["aimed_without_size"] = sorted({c.pass_name for c in outcome.changes
+                                               if c.key in AIMED_CHANGES and c.pass_name in unsized})
+    return record
 
 
 # ---------------------------------------------------------------------------------------------------

@@ -143,10 +143,22 @@ def wall_records(walls) -> list[dict]:
              "note": w.note} for w in walls]
 
 
+def tune_units_note(units: str) -> str:
+    """The line an inch job's remedies open with, as every report of an inch job does (`tables.units_note`), true
+    for what they print: the drawing's sizes, margins and positions in mm and um, the changes to the program in
+    inches (the job's own units, as they are written into the job and keyed into the control). "" for a mm job."""
+    if units != "inch":
+        return ""
+    return ("(an inch job: the drawing's sizes and positions are printed in mm below, 1 in = 25.4 mm, deviations and "
+            "margins in um; the changes to the program are in inches, as the job and the control take them; cutting "
+            "speeds are m/min in either unit)\n")
+
+
 def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None,
                 rules_summary: str = "") -> str:
     """The whole report as the terminal prints it."""
-    return f"Remedies: {title}\n\n" + blocks_text(tune_blocks(result, surface_of, units, walls, rules_summary))
+    return (tune_units_note(units) + f"Remedies: {title}\n\n"
+            + blocks_text(tune_blocks(result, surface_of, units, walls, rules_summary)))
 
 
 OPTIONS_TITLE = "Options, ranked"
