@@ -89,10 +89,16 @@ def gain_by_surface_g(machined_rz, nominal_rz, points_rz, normals, surfaces: lis
 
 
 def _farthest(region, nominal: Polygon) -> float:
-    """How far the region's corners lie from the drawn outline at most [mm] (0 for an empty region)."""
+    """How far the region's corners lie from the drawn outline at most [mm] (0 for an empty region). Each corner
+    is measured to its nearest edge of the outline found through an R-tree of the edges (shapely's STRtree), not
+    to every edge: the layers carry thousands of corners, and `tune` splits the gain of every plan it predicts."""
     if region.is_empty:
         return 0.0
-    return float(shapely.distance(shapely.points(shapely.get_coordinates(region)), nominal.exterior).max())
+    ring = shapely.get_coordinates(nominal.exterior)
+    edges = shapely.linestrings(np.stack([ring[:-1], ring[1:]], axis=1))
+    _, distance = shapely.STRtree(edges).query_nearest(shapely.points(shapely.get_coordinates(region)),
+                                                         return_distance=True, all_matches=False)
+    return float(distance.max())
 
 
 def surface_changes(points, normals, kinds, reach_mm: float) -> MultiLineString | None:
