@@ -334,7 +334,8 @@ def predict(job_file, as_json, csv_dir, plot_dir, old_plot_dir, dxf_file, quiet,
         if html_temp:
             from deflect.output.html_chapters import predict_chapter
             write_html(html_temp, pred.title, "machining prediction", [job_file],
-                       [predict_chapter(pred, judged.checks, judged.warnings, rules)])
+                       [predict_chapter(pred, judged.checks, judged.warnings, rules)],
+                       units_line=units_note(job.units))
         written = outputs.commit()
     if as_json:
         payload = {**prediction_payload(pred, judged.checks, judged.warnings), "rules": rules_payload(rules)}
@@ -442,7 +443,8 @@ def clamp(job_file, as_json, plot_file, plot_at, calibration_file, html_file):
             from deflect.output.figures import released_shape_plot
             released_shape_plot(profile, job.title, figure)
         if html_temp:
-            write_html(html_temp, study.title, "work holding", [job_file], [clamp_chapter_of(study)])
+            write_html(html_temp, study.title, "work holding", [job_file], [clamp_chapter_of(study)],
+                       units_line=units_note(job.units))
         outputs.commit()
     if as_json:
         payload = clamp_payload(study)
@@ -485,7 +487,7 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_f
     from deflect.machining.targets import process_from_job
     from deflect.output.files import Outputs
     from deflect.output.rules_report import rules_payload, rules_summary
-    from deflect.output.tune_report import tune_payload, tune_report
+    from deflect.output.tune_report import tune_payload, tune_report, tune_units_note
 
     check_apply(job_file, apply_number, out_file)
     job = read_calibrated_job(job_file, calibration_file)
@@ -507,7 +509,8 @@ def tune(job_file, as_json, contour_dir, design, quiet, calibration_file, html_f
         if html_temp:
             from deflect.output.html_chapters import tune_chapter
             write_html(html_temp, job.title, "remedies", [job_file],
-                       [tune_chapter(result, surface_of, job.units, walls, rules)])
+                       [tune_chapter(result, surface_of, job.units, walls, rules)],
+                       units_line=tune_units_note(job.units))
         written = outputs.commit()
     if as_json:
         payload = {**tune_payload(result, surface_of, job.units, walls), "rules": rules_payload(rules)}
@@ -568,7 +571,8 @@ def chatter(job_file, pass_name, as_json, figures_dir, calibration_file, html_fi
                 raise InputError("--figures", f"cannot write into {figures_dir}: {exc.strerror or exc}") from None
         if html_temp:
             from deflect.output.html_chapters import chatter_chapter
-            write_html(html_temp, study.title, "chatter check", [job_file], [chatter_chapter(study)])
+            write_html(html_temp, study.title, "chatter check", [job_file], [chatter_chapter(study)],
+                       units_line=units_note(job.units))
         written = outputs.commit()
     if as_json:
         payload = chatter_payload(study)
@@ -686,7 +690,8 @@ def rules(job_file, as_json, html_file):
         result = check_rules(job, process)
         if html_temp:
             from deflect.output.html_chapters import rules_chapter
-            write_html(html_temp, job.title, "design rules", [job_file], [rules_chapter(result)])
+            write_html(html_temp, job.title, "design rules", [job_file], [rules_chapter(result)],
+                       units_line=units_note(job.units))
         written = outputs.commit()
     if as_json:
         emit_json(rules_payload(result))
@@ -779,7 +784,7 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
     from deflect.job.reader import read_job
     from deflect.machining.simulate import kept_workers
     from deflect.machining.targets import process_from_job
-    from deflect.output.explain_report import explain_payload, explain_report
+    from deflect.output.explain_report import explain_payload, explain_report, explain_units_note
     from deflect.output.figures import first_article_plot
     from deflect.output.files import Outputs
 
@@ -813,7 +818,8 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
         if html_temp:
             from deflect.output.html_chapters import explain_chapter
             write_html(html_temp, result.title, "first article explained", [job_file, measured_file],
-                       [explain_chapter(result, remedies, surface_of, job.units, search)])
+                       [explain_chapter(result, remedies, surface_of, job.units, search)],
+                       units_line=explain_units_note(job.units))
         written = outputs.commit()
     if as_json:
         emit_json(explain_payload(result, remedies, surface_of, job.units, search,
@@ -828,16 +834,18 @@ def explain(job_file, measured_file, as_json, save_file, figure_dir, per_pass, s
 # the HTML report, a remedy written into a job
 
 def write_html(path, title: str, what: str, job_files: list, chapters: list, notes=(), remarks=(),
-               key: str = "--html") -> None:
+               key: str = "--html", units_line: str = "") -> None:
     """The chapters as one HTML report (`deflect.output.html_report`), written to `path`: the staging place
-    `Outputs.file` gave for the option `key`, moved into place with the command's other files."""
+    `Outputs.file` gave for the option `key`, moved into place with the command's other files. `units_line`: the
+    line an inch job's terminal report opens with, said first at the top of the page as well ("" for a mm job)."""
     from pathlib import Path
 
     from deflect import __version__
     from deflect.output.html_report import JobSource, Report, render, report_date
 
     jobs = tuple(JobSource(Path(f).name, Path(f).read_text(encoding="utf-8", errors="replace")) for f in job_files)
-    report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), tuple(notes), tuple(remarks))
+    notes = ((units_line.strip(),) if units_line else ()) + tuple(notes)
+    report = Report(title, what, jobs, tuple(chapters), __version__, report_date(), notes, tuple(remarks))
     try:
         Path(path).write_text(render(report), encoding="utf-8")
     except OSError as exc:
@@ -985,7 +993,7 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     from deflect.output.html_chapters import chatter_chapter, predict_chapter, rules_chapter, tune_chapter
     from deflect.output.predict_json import prediction_payload
     from deflect.output.rules_report import rules_payload
-    from deflect.output.tune_report import tune_payload
+    from deflect.output.tune_report import tune_payload, tune_units_note
 
     first_article = explained(job_file, measured_file) if measured_file else None
     fitted = first_article[2] if first_article else None
@@ -994,7 +1002,8 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
                "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
-    notes, remarks = [], []
+    # an inch job's report says where its lengths are mm and where inches (the remedies' changes), as `tune` does
+    notes, remarks = [tune_units_note(job.units).strip()] if job.units == "inch" else [], []
     if fitted is not None:
         notes.append(calibrated_report_note(fitted.calibration, Path(measured_file).name, fitted.uncalibrated))
     elif job.calibration is not None:
@@ -1073,7 +1082,7 @@ def compare(job_a, job_b, as_json, html_file, calibration_file, quiet):
             a, b = comparison.a.prediction, comparison.b.prediction
             title = a.title if a.title == b.title else f"{a.title} against {b.title}"
             write_html(html_temp, title, "comparison of two jobs", [job_a, job_b], [compare_chapter(comparison)],
-                       (part_words(comparison),))
+                       (part_words(comparison),), units_line=units_note("inch" if "inch" in units else "mm"))
         written = outputs.commit()
     if as_json:
         emit_json(compare_payload(comparison))

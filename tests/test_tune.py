@@ -23,6 +23,7 @@ two tools and an h8 OD; the shipped housing (data/examples/housing.toml) is tune
 """
 
 import copy
+import html
 import itertools
 import json
 import math
@@ -711,15 +712,23 @@ def test_inch_job_gets_its_changes_in_inches(folder, run, request):
 
 def test_an_inch_job_s_remedies_open_with_the_unit_of_each_line(folder):
     """Every report of an inch job opens with a line saying in which unit it prints (issue 10, item 7); the
-    remedies print the drawing's sizes in mm and the changes to the program in inches, and say both. Before,
-    `tune` of an inch job opened with no such line."""
-    code, out, err = run_cli(["tune", str(write_job(folder, "sleeve-inch-text", in_inches(sleeve()))), "--quiet"])
+    remedies print the drawing's sizes in mm and the changes to the program in inches, and say both, on the
+    terminal and at the top of the HTML page, as `predict`'s page says its own line. Before, `tune` of an inch
+    job opened with no such line, and no HTML page of an inch job had one."""
+    job = write_job(folder, "sleeve-inch-text", in_inches(sleeve()))
+    code, out, err = run_cli(["tune", str(job), "--quiet", "--html", str(folder / "inch-tune.html")])
     assert code == 0, err
     first, second = out.splitlines()[:2]
     assert first.startswith("(an inch job: the drawing's sizes and positions are printed in mm below")
     assert "the changes to the program are in inches" in first
     assert second.startswith("Remedies: ")
     assert " in/rev" in out and "OD 40 " in out      # a change in inches, the drawn 40 mm diameter in mm
+    code, predicted, err = run_cli(["predict", str(job), "--quiet", "--html", str(folder / "inch-predict.html")])
+    assert code == 0, err
+    for page, line in (("inch-tune.html", first), ("inch-predict.html", predicted.splitlines()[0])):
+        assert line.startswith("(an inch job")
+        notices = re.findall(r'<p class="notice">(.*?)</p>', (folder / page).read_text(encoding="utf-8"), re.S)
+        assert notices and html.unescape(notices[0]) == line
 
 
 # ---------------------------------------------------------------------------------------------------
