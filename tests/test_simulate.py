@@ -660,3 +660,32 @@ def test_a_path_unchanged_keeps_its_values():
     twin = straight_path(path.points_rz.copy())
     assert resampled(values, path, path) is values
     assert resampled(values, path, twin) is values
+
+
+# ---------------------------------------------------------------------------------------------------
+# a part cut under: the headline says how deep
+
+def test_a_surface_cut_under_the_drawing_shows_in_the_headline(tmp_path):
+    """A finishing pass with a wear offset of -0.05 mm (a side, along the outward normal) cuts the OD 50 um
+    under, less its micrometres of push-off. The most material left is then the 0 of the faces no pass
+    touches, and the headline said nothing else; it now gives the depth cut under and where."""
+    offset_mm = -0.05
+    tables = copy.deepcopy(OD_SLEEVE)
+    tables["pass"][0]["offset"] = offset_mm
+    job = write_job(tmp_path, "under", tables)
+    code, out, err = run_cli(["predict", str(job), "--json", "--quiet"])
+    assert code == 0, err
+    predicted = json.loads(out)["predicted"]
+    finished_od = [d for d in json.loads(out)["deviation"] if d["finished_by"] == "finish OD" and not d["corner"]]
+    push_off_mm = max(s["deflection_mm"] for s in json.loads(out)["passes"][0]["stations"])
+    assert -offset_mm - push_off_mm - 1e-6 <= predicted["most_cut_below_mm"] <= -offset_mm + 1e-6
+    assert predicted["most_cut_below_mm"] == pytest.approx(-min(d["deviation_mm"] for d in finished_od), abs=1e-6)
+    assert predicted["most_cut_below_at"]["r_mm"] == pytest.approx(20.0, abs=1e-6)
+    assert predicted["most_material_left_mm"] < 1e-6            # nowhere is material left beyond the drawing
+    code, text, _ = run_cli(["predict", str(job), "--quiet"])
+    line = next(row for row in text.splitlines() if row.startswith("most cut below the drawing"))
+    assert f"{predicted['most_cut_below_mm']:.3f} mm a side, at r 20.00" in line
+    # as programmed (no offset) nothing is cut under, and the headline has no such line
+    code, out, _ = run_cli(["predict", str(write_job(tmp_path, "on-size", OD_SLEEVE)), "--json", "--quiet"])
+    assert json.loads(out)["predicted"]["most_cut_below_mm"] == 0.0
+    assert json.loads(out)["predicted"]["most_cut_below_at"] is None

@@ -124,3 +124,5 @@ class Prediction:
     warnings: list[str] = field(default_factory=list)
     lobes: int = 0                            # with [holding]: lobes the jaws leave (0: none modelled)
     max_deviation_at_rz: tuple[float, float] | None = None   # where max_deviation_mm is left
+    most_cut_below_mm: float = 0.0            # the deepest a finished surface is cut below the drawing, a side
+    most_cut_below_at_rz: tuple[float, float] | None = None  # where (None: nowhere below it)

@@ -907,6 +907,7 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
                         "barely takes a chip (see the 'rubbing' column)")
     most = int(np.argmax(deviation.deviation_mm))
     max_dev = float(deviation.deviation_mm[most])
+    below_mm, below_at = cut_below(deviation)
     gains = [m - nominal.mass_g for m in range_masses]
     return Prediction(
         title=job.title, material=material.name, force_spread=spread,
@@ -920,4 +921,20 @@ def simulate(job, process: Process, settings: SimulationSettings = SimulationSet
         passes=passes, deviation=deviation, surfaces=checks, wall=wall_checks(deviation),
         machined_rz=machined, nominal_rz=nominal_rz, stock_rz=process.stock_rz,
         mass_gain_by_surface_g=by_surface, warnings=warnings, lobes=lobes,
-        max_deviation_at_rz=tuple(map(float, deviation.points_rz[most])))
+        max_deviation_at_rz=tuple(map(float, deviation.points_rz[most])),
+        most_cut_below_mm=below_mm, most_cut_below_at_rz=below_at)
+
+
+def cut_below(deviation: SurfaceDeviation) -> tuple[float, tuple[float, float] | None]:
+    """How deep a finished surface is cut below the drawing at most, a side [mm] (0 where none is), and where:
+    over the points a pass finished, the points `set_apart` names left out. The most material left is the
+    other end of the same readings, but a part cut under everywhere shows there only as the 0 of a face no pass
+    touched, so the headline says this one too."""
+    finished = np.array([s != "unmachined" for s in deviation.surface], bool) & ~set_apart(deviation)
+    if not finished.any():
+        return 0.0, None
+    own = np.flatnonzero(finished)
+    k = int(own[np.argmin(deviation.deviation_mm[own])])
+    if deviation.deviation_mm[k] >= 0.0:
+        return 0.0, None
+    return float(-deviation.deviation_mm[k]), tuple(map(float, deviation.points_rz[k]))

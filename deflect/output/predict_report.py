@@ -38,6 +38,10 @@ def where_text(rz: tuple[float, float] | None) -> str:
     return "" if rz is None else f", at r {rz[0]:.2f}, z {rz[1]:.2f} mm"
 
 
+CUT_BELOW_SHOWN_MM = 0.0005   # a finished surface cut below the drawing by this much shows in the headline (0.001 mm
+                              # as printed)
+
+
 def headline(pred: Prediction) -> Grid:
     """Masses, most material left, cycle time and power; each uncertain figure with its range."""
     gain = pred.mass_gain_g
@@ -50,6 +54,9 @@ def headline(pred: Prediction) -> Grid:
         ("mass gain", f"{gain.value:+.3f} g, {gain_pct:+.2f} % {spread_text(gain, 'g', 3, '+')}"),
         ("most material left", f"{pred.max_deviation_mm.value:.3f} mm a side "
                                f"{spread_text(pred.max_deviation_mm, 'mm', 3)}{where_text(pred.max_deviation_at_rz)}"),
+        *([("most cut below the drawing", f"{pred.most_cut_below_mm:.3f} mm a side"
+                                         f"{where_text(pred.most_cut_below_at_rz)}")]
+          if pred.most_cut_below_mm >= CUT_BELOW_SHOWN_MM else []),
         ("axial inertia", f"{pred.nominal_inertia_kg_mm2:.4g} kg mm2 nominal, "
                           f"{pred.predicted_inertia_kg_mm2:.4g} kg mm2 predicted"),
         ("cycle time (cutting)", duration_text(pred.cycle_time_s)),
