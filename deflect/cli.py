@@ -263,10 +263,11 @@ def run_prediction(job_file: str, show_progress: bool, calibration_file: str | N
             if show_progress:
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
-        pred = simulate(job, process, progress=progress)
+        memo: dict = {}                     # the cut paths, laid out once for the three of them
+        pred = simulate(job, process, progress=progress, memo=memo)
         # the finishing passes' chatter, checked where each meets the most compliant wall and its widest chip
-        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics))
-        return pred, verdict(job, process, pred, tolerances), check_rules(job, process), job
+        pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics, memo))
+        return pred, verdict(job, process, pred, tolerances, memo), check_rules(job, process), job
     except (InputError, ModelError) as exc:
         exc.file = exc.file or job_file
         raise

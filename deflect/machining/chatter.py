@@ -489,7 +489,7 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
     nominal_rz = job.section.polygon(POLYGON_CHORD_MM)
     paths, parts = laid_out(process, nominal_rz, STATION_SPACING_MM, memo)
     results = {result.name: result for result in prediction.passes}
-    tasks, wanted = [], []
+    tasks, wanted = {}, []                 # tasks: {name: station_response's arguments}, each station once
     for i, p in enumerate(process.passes):
         if p.allowance_mm != 0.0 or p.name not in results:
             continue
@@ -507,10 +507,10 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
         for k, where in stations:
             name = (parts[i][j].tobytes(), paths[i][j].points_rz.tobytes(), k, job.material.density_g_cm3)
             checked.append((k, where, float(met[k]), name))
-            if name not in memo and all(name != queued for queued, _ in tasks):
-                tasks.append((name, (job, parts[i][j], paths[i][j], p, k)))
+            if name not in memo:
+                tasks[name] = (job, parts[i][j], paths[i][j], p, k)
         wanted.append((p, paths[i][j], checked))
-    for (name, _), response in zip(tasks, parallel_map(station_response, [task for _, task in tasks])):
+    for name, response in zip(tasks, parallel_map(station_response, list(tasks.values()))):
         memo[name] = response
     if not wanted:
         return []
@@ -518,9 +518,9 @@ def prediction_warnings(job, process, prediction, dynamics: Dynamics, memo: dict
     corrections = tap_corrections(finished.modes if finished else [], dynamics)[0]
     warnings = []
     for p, path, checked in wanted:
-        verdicts = [station_verdict(job, process, p, path, k, depth, memo[name], corrections) + (where,)
+        verdicts = [(station_verdict(job, process, p, path, k, depth, memo[name], corrections), k, depth, where)
                     for k, where, depth, name in checked]
-        margin, k, depth, rpm, limit_depth, where = min(verdicts, key=lambda verdict: verdict[0])
+        (margin, rpm, limit_depth), k, depth, where = min(verdicts, key=lambda verdict: verdict[0][0])
         if not margin > 1.0:
             r, z = map(float, path.points_rz[k])
             warnings.append(chatter_warning(p.name, where, r, z, depth, rpm, limit_depth, margin))
@@ -537,16 +537,16 @@ def planned_deepest(part_rz: np.ndarray, path, p, memo: dict) -> int:
 
 
 def station_verdict(job, process, p, path, k: int, depth_mm: float, response: PointResponse,
-                    corrections: Corrections) -> tuple[float, int, float, float, float]:
-    """(margin, station, depth [mm], spindle speed [1/min], largest stable depth [mm] or 0 when stable) of the
-    cut at station k at the pass's own speed. Only a station that chatters needs its limit depth (the lobes
-    over the speed range and the depths above, which `evaluate_station` adds, are not warned about)."""
+                    corrections: Corrections) -> tuple[float, float, float]:
+    """(margin, spindle speed [1/min], largest stable depth [mm] or 0 when stable) of the cut at station k at the
+    pass's own speed. Only a station that chatters needs its limit depth (the lobes over the speed range and the
+    depths above, which `evaluate_station` adds, are not warned about)."""
     cut = cut_response(job, process, p, response, corrections, feed_sign_at(path, k))
     rpm = float(spindle_speed_rpm(p.speed_m_min, 2.0 * path.points_rz[k, 0], process.machine.max_rpm))
     coefficient, branches = cut.branches(depth_mm)
     margin = float(limit_at_speeds(branches, [rpm])[0][0]) / coefficient
     limit_depth = 0.0 if margin > 1.0 else (stability_change_mm(cut, rpm, depth_mm, going_up=False) or 0.0)
-    return margin, k, depth_mm, rpm, limit_depth
+    return margin, rpm, limit_depth
 
 
 def chatter_warning(pass_name: str, where: str, r_mm: float, z_mm: float, depth_mm: float, rpm: float,
