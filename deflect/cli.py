@@ -1004,7 +1004,8 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
                "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
     # an inch job's report says where its lengths are mm and where inches (the remedies' changes), as `tune` does
-    notes, remarks = [tune_units_note(job.units).strip()] if job.units == "inch" else [], []
+    units_line = tune_units_note(job.units).strip()
+    notes, remarks = ([units_line] if units_line else []), []
     if fitted is not None:
         notes.append(calibrated_report_note(fitted.calibration, Path(measured_file).name, fitted.uncalibrated))
     elif job.calibration is not None:

@@ -15,7 +15,7 @@ import numpy as np
 
 from deflect.decisions.first_article import Estimate, FirstArticle, usual_suspects
 from deflect.job.calibration import Calibration
-from deflect.output.tables import Grid, Text, blocks_text, column_grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid, units_note
 from deflect.output.tune_report import change_words, tune_payload
 
 SURFACE_NAMES = {"od": "OD", "id": "ID", "face": "face", "wall": "wall"}
@@ -197,11 +197,8 @@ def explain_units_note(units: str) -> str:
     """The line an inch job's explain report opens with, as every report of an inch job does (`units_note`),
     true for what it prints: the readings, profiles and mass in mm, g and um, the next part's changes in inches
     (the job's own units, as they are written into the job and keyed into the control). "" for a mm job."""
-    if units != "inch":
-        return ""
-    return ("(an inch job: its readings and profiles are printed in mm below, 1 in = 25.4 mm, errors and residuals "
-            "in um; the next part's changes are in inches, as the job and the control take them; cutting speeds "
-            "are m/min in either unit)\n")
+    return units_note(units, "its readings and profiles are", "errors and residuals in um",
+                      "the next part's changes are")
 
 
 def explain_report(result: FirstArticle, remedies=None, surface_of: dict | None = None, units: str = "mm",

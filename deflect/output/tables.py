@@ -13,12 +13,16 @@ from dataclasses import dataclass
 from deflect.job.reader import MM_PER_INCH
 
 
-def units_note(units: str) -> str:
-    """The line an inch job's report opens with: its lengths are printed in mm ("" for a mm job)."""
+def units_note(units: str, in_mm: str = "its lengths are", also: str = "feeds in mm/rev",
+               in_inches: str = "") -> str:
+    """The line an inch job's report opens with, true for what that report prints ("" for a mm job): what is
+    printed in mm (`in_mm`, with `also` beside it), and what in inches, as the job and the control take them
+    (`in_inches`: the changes a report writes into the job; none by default)."""
     if units != "inch":
         return ""
-    return ("(an inch job: its lengths are printed in mm below, 1 in = 25.4 mm, feeds in mm/rev; cutting speeds "
-            "are m/min in either unit)\n")
+    inches = f"; {in_inches} in inches, as the job and the control take them" if in_inches else ""
+    return (f"(an inch job: {in_mm} printed in mm below, 1 in = 25.4 mm, {also}{inches}; cutting speeds are m/min in "
+            "either unit)\n")
 
 
 def table(rows: list[tuple[str, str]], title: str = "") -> str:

@@ -12,7 +12,7 @@ from deflect.decisions.tune import Change, Outcome, TuneResult
 from deflect.job.reader import MM_PER_INCH
 from deflect.output.predict_json import feature_record
 from deflect.output.predict_report import duration_text, feature_table
-from deflect.output.tables import Grid, Text, blocks_text, column_grid
+from deflect.output.tables import Grid, Text, blocks_text, column_grid, units_note
 
 LENGTH_KEYS = ("feed", "allowance", "offset", "depth")
 CAUTION = ("Caution: the options are predictions; prove a changed program out (dry run, single block) and measure "
@@ -147,11 +147,8 @@ def tune_units_note(units: str) -> str:
     """The line an inch job's remedies open with, as every report of an inch job does (`tables.units_note`), true
     for what they print: the drawing's sizes, margins and positions in mm and um, the changes to the program in
     inches (the job's own units, as they are written into the job and keyed into the control). "" for a mm job."""
-    if units != "inch":
-        return ""
-    return ("(an inch job: the drawing's sizes and positions are printed in mm below, 1 in = 25.4 mm, deviations and "
-            "margins in um; the changes to the program are in inches, as the job and the control take them; cutting "
-            "speeds are m/min in either unit)\n")
+    return units_note(units, "the drawing's sizes and positions are", "deviations and margins in um",
+                      "the changes to the program are")
 
 
 def tune_report(result: TuneResult, surface_of: dict, units: str, title: str, walls=None,
