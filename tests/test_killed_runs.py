@@ -3,8 +3,12 @@
 `deflect predict` computes the key stations' shell models in worker processes. A run ended by SIGTERM or
 SIGKILL cannot shut its pool down; its workers used to stay alive under init. Here the command is started
 on a job that keeps its workers busy for a while (the demo housing with its roughing passes at 0.3 mm a
-cut: eleven cuts), its worker processes are found in /proc while they run, the command is killed, and none of
-them may be left a few seconds later (a zombie, dead but not yet reaped by init, counts as gone).
+cut: eleven cuts), its worker processes are found while they run, the command is killed, and none of them may be
+left a few seconds later (a zombie, dead but not yet reaped by init, counts as gone).
+
+The processes are listed through Linux's process file system (proc(5), the Linux man-pages project: each
+process's `stat` file gives its state, 3rd field, and its parent, 4th), which the standard library has no
+portable way to read; elsewhere the test is skipped.
 """
 
 import os
@@ -20,13 +24,14 @@ HOUSING = Path(__file__).resolve().parents[1] / "data" / "examples" / "housing.t
 FIND_WORKERS_S = 60.0     # the workers start after the cut paths are laid out (about a second here)
 WORKING_S = 0.3           # let them take up their first key stations before the kill
 GONE_WITHIN_S = 10.0      # a worker checks for its parent every 0.5 s; on Linux the kernel ends it at once
+PROCESSES = Path("/proc")  # Linux's process file system, proc(5): one folder per process, named by its id
 
 
 def children_of(pid: int) -> set[int]:
-    """Processes whose parent is pid, from /proc/*/stat (the parent is the 4th field, after the name in
-    brackets, which may itself hold spaces)."""
+    """Processes whose parent is pid, from each process's `stat` file in PROCESSES (the parent is the 4th field,
+    after the name in brackets, which may itself hold spaces)."""
     found = set()
-    for entry in Path("/proc").iterdir():
+    for entry in PROCESSES.iterdir():
         if not entry.name.isdigit():
             continue
         try:
@@ -42,7 +47,7 @@ def children_of(pid: int) -> set[int]:
 def running(pid: int) -> bool:
     """The process exists and is not a zombie."""
     try:
-        stat = Path(f"/proc/{pid}/stat").read_text()
+        stat = (PROCESSES / str(pid) / "stat").read_text()
     except OSError:
         return False
     return stat[stat.rindex(")") + 2:].split()[0] != "Z"
@@ -56,7 +61,7 @@ def long_job(folder: Path) -> Path:
     return job
 
 
-@pytest.mark.skipif(not Path("/proc/self/stat").exists(), reason="needs /proc to list the workers")
+@pytest.mark.skipif(not sys.platform.startswith("linux"), reason="lists the workers through Linux's proc(5)")
 @pytest.mark.skipif((os.cpu_count() or 1) < 2, reason="one core: the prediction starts no workers")
 @pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGKILL], ids=["SIGTERM", "SIGKILL"])
 def test_killed_prediction_leaves_no_worker(sig, tmp_path):
