@@ -235,7 +235,8 @@ def state_calibration(job, payload: dict | None = None) -> None:
         payload["calibration"] = calibration_record(job.calibration)
 
 
-def run_prediction(job_file: str, show_progress: bool, calibration_file: str | None = None, calibration=None):
+def run_prediction(job_file: str, show_progress: bool, calibration_file: str | None = None, calibration=None,
+                   memo: dict | None = None):
     """Read, check and simulate a machining job (shared by `predict` and `demo`): the prediction, its
     verdict (toleranced features, empty without [tolerance]; the grip check; their warnings), the design rules'
     findings and the job (with the calibration of `--calibration` or [job] calibration, if any; `calibration`,
@@ -263,7 +264,7 @@ def run_prediction(job_file: str, show_progress: bool, calibration_file: str | N
             if show_progress:
                 click.echo(f"  machined: {pass_name}, cut {cut + 1}", err=True)
 
-        memo: dict = {}                     # the cut paths, laid out once for the three of them
+        memo = {} if memo is None else memo   # the cut paths, laid out once for the three of them
         pred = simulate(job, process, progress=progress, memo=memo)
         # the finishing passes' chatter, checked where each meets the most compliant wall and its widest chip
         pred = replace(pred, warnings=pred.warnings + prediction_warnings(job, process, pred, dynamics, memo))
@@ -586,7 +587,7 @@ def chatter(job_file, pass_name, as_json, figures_dir, calibration_file, html_fi
             out(f"wrote {path}")
 
 
-def searched_with_progress(job, hidden: bool):
+def searched_with_progress(job, hidden: bool, memo: dict | None = None):
     """The remedy search (`deflect.decisions.tune`) with a progress bar on stderr, its options marked for
     chatter (`deflect.decisions.chatter_free`: a limit with a given damping, else a note)."""
     from deflect.decisions.chatter_free import marked_for_chatter
@@ -594,7 +595,7 @@ def searched_with_progress(job, hidden: bool):
 
     with click.progressbar(length=SEARCH_STEPS_SHOWN, label="searching remedies", file=sys.stderr,
                            show_eta=False, hidden=hidden) as bar:
-        result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN))
+        result = search_remedies(job, progress=short_of_the_end(bar, SEARCH_STEPS_SHOWN), memo=memo)
         result = marked_for_chatter(job, result)
         bar.update(SEARCH_STEPS_SHOWN - bar.pos)
     return result
@@ -862,9 +863,10 @@ def clamp_chapter_of(study):
     return clamp_chapter(study, released_profile(study.given, index) if index is not None else None)
 
 
-def explained(job_file: str, measured_file: str):
+def explained(job_file: str, measured_file: str, memo: dict):
     """The first article's chapter, JSON and result (with its calibration) for `deflect report --measured`
-    (`deflect explain` without --search: the next part's wear offsets with the calibrated constants)."""
+    (`deflect explain` without --search: the next part's wear offsets with the calibrated constants); memo: the
+    report's, whose prediction and remedies then reuse the key stations the fit computed."""
     from datetime import date
 
     from deflect.decisions.first_article import explain as explain_first_article
@@ -881,7 +883,6 @@ def explained(job_file: str, measured_file: str):
     measured = read_measured(measured_file, job)
     require_cutting_constants(job.material)
     process = process_from_job(job)
-    memo: dict = {}
     with kept_workers():
         result = explain_first_article(job, process, measured, "tool", memo, date=date.today().isoformat())
         remedies = next_part(job, result.calibration, memo, False, None)
@@ -996,10 +997,11 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     from deflect.output.rules_report import rules_payload
     from deflect.output.tune_report import tune_payload, tune_units_note
 
-    first_article = explained(job_file, measured_file) if measured_file else None
+    memo: dict = {}      # key stations and cut paths, computed once for the first article, prediction and remedies
+    first_article = explained(job_file, measured_file, memo) if measured_file else None
     fitted = first_article[2] if first_article else None
     pred, judged, rules, job = run_prediction(job_file, show_progress=not quiet,
-                                              calibration=fitted.calibration if fitted else None)
+                                              calibration=fitted.calibration if fitted else None, memo=memo)
     chapters = [predict_chapter(pred, judged.checks, judged.warnings, rules), rules_chapter(rules, False)]
     payload = {"title": pred.title, "predict": prediction_payload(pred, judged.checks, judged.warnings),
                "rules": rules_payload(rules), "explain": None, "clamp": None, "chatter": None, "tune": None}
@@ -1030,7 +1032,7 @@ def report_parts(job_file: str, measured_file: str | None, quiet: bool):
     if "tolerance" in job.tables:
         require_cutting_constants(job.material)
         surface_of = {p.name: p.surface for p in process_from_job(job).passes}
-        result = searched_with_progress(job, hidden=quiet)
+        result = searched_with_progress(job, hidden=quiet, memo=memo)
         chapters.append(tune_chapter(result, surface_of, job.units))
         payload["tune"] = tune_payload(result, surface_of, job.units)
     else:
