@@ -77,7 +77,7 @@ def gain_by_surface_g(machined_rz, nominal_rz, points_rz, normals, surfaces: lis
     if not np.any(own):
         return lines
     points, normals, kinds = np.asarray(points_rz)[own], np.asarray(normals)[own], kinds[own]
-    reach_mm = max(_farthest(rest_beyond, nominal), _farthest(rest_below, nominal)) + CUT_MARGIN_MM
+    reach_mm = _farthest([rest_beyond, rest_below], nominal) + CUT_MARGIN_MM
     cuts = surface_changes(points, normals, kinds, reach_mm)
     nearest = cKDTree(points)
     for sign, region in ((1.0, rest_beyond), (-1.0, rest_below)):
@@ -88,16 +88,17 @@ def gain_by_surface_g(machined_rz, nominal_rz, points_rz, normals, surfaces: lis
     return lines
 
 
-def _farthest(region, nominal: Polygon) -> float:
-    """How far the region's corners lie from the drawn outline at most [mm] (0 for an empty region). Each corner
+def _farthest(regions: list, nominal: Polygon) -> float:
+    """How far the regions' corners lie from the drawn outline at most [mm] (0 for empty regions). Each corner
     is measured to its nearest edge of the outline found through an R-tree of the edges (shapely's STRtree), not
     to every edge: the layers carry thousands of corners, and `tune` splits the gain of every plan it predicts."""
-    if region.is_empty:
+    corners = shapely.get_coordinates(regions)
+    if not len(corners):
         return 0.0
     ring = shapely.get_coordinates(nominal.exterior)
     edges = shapely.linestrings(np.stack([ring[:-1], ring[1:]], axis=1))
-    _, distance = shapely.STRtree(edges).query_nearest(shapely.points(shapely.get_coordinates(region)),
-                                                         return_distance=True, all_matches=False)
+    _, distance = shapely.STRtree(edges).query_nearest(shapely.points(corners), return_distance=True,
+                                                         all_matches=False)
     return float(distance.max())
 
 
