@@ -28,6 +28,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from synthetic_parts import measure, measured_toml  # noqa: E402
 from test_first_article import HOUSING, HOUSING_JOB, SLEEVE  # noqa: E402
 from test_simulate import OD_SLEEVE, run_cli, write_job  # noqa: E402
+from test_tune import in_inches  # noqa: E402
 
 from deflect.decisions import first_article  # noqa: E402
 from deflect.decisions.first_article import explain  # noqa: E402
@@ -38,7 +39,6 @@ from deflect.job.reader import read_job  # noqa: E402
 from deflect.machining.simulate import kept_workers, simulate  # noqa: E402
 from deflect.machining.targets import process_from_job  # noqa: E402
 
-MM_PER_INCH = 25.4
 IT8_30_TO_50_UM = 39.0          # ISO 286-1:2010 Table 1, IT8, nominal sizes over 30 up to 50 mm
 IT8_18_TO_30_UM = 33.0          # ... over 18 up to 30 mm
 RIM_FILLET_R = 24.9             # inside the 0.2 mm fillet where the housing's rim meets its OD (r 24.8 to 25)
@@ -177,14 +177,7 @@ def inch_sleeve(tmp_path) -> tuple[Path, Path]:
     """The OD sleeve of the simulation tests with a tolerance, written in inches, and its first article in mm
     and in inches."""
     mm = {**copy.deepcopy(OD_SLEEVE), "tolerance": {"od": "h8"}}
-    inch = copy.deepcopy(mm)
-    inch["job"]["units"] = "inch"
-    inch["part"]["outline"] = [[r / MM_PER_INCH, z / MM_PER_INCH] for r, z in mm["part"]["outline"]]
-    inch["stock"]["outline"] = [[r / MM_PER_INCH, z / MM_PER_INCH] for r, z in mm["stock"]["outline"]]
-    inch["held"] = [{"r": [0.0, 100.0 / MM_PER_INCH], "z": [0.0, 5.0 / MM_PER_INCH]}]
-    inch["tool"] = [{**mm["tool"][0], "nose_radius": 0.4 / MM_PER_INCH}]
-    inch["pass"] = [{**mm["pass"][0], "feed": 0.1 / MM_PER_INCH, "z": [40.0 / MM_PER_INCH, 6.0 / MM_PER_INCH]}]
-    jobs = {units: write_job(tmp_path, units, tables) for units, tables in (("inch", inch), ("mm", mm))}
+    jobs = {units: write_job(tmp_path, units, tables) for units, tables in (("inch", in_inches(mm)), ("mm", mm))}
     measured = tmp_path / "first-article.toml"
     measured.write_text(measured_toml({"measured": {"units": "mm", "diameter": [
         {"surface": "od", "z": 20.0, "value": 40.012}, {"surface": "od", "z": 35.0, "value": 40.016}]}}))

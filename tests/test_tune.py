@@ -118,8 +118,10 @@ def in_inches(tables: dict) -> dict:
         if "bar" in t:
             t["bar"] = scale_keys(t["bar"], ("diameter", "overhang"))
     out["pass"] = [scale_keys(p, ("allowance", "feed", "z", "r", "depth", "offset")) for p in out["pass"]]
-    tolerance = scale_keys(out["tolerance"], ("wall",))
-    out["tolerance"] = {k: scale_keys(v, ("plus", "minus")) if isinstance(v, dict) else v for k, v in tolerance.items()}
+    if "tolerance" in out:
+        tolerance = scale_keys(out["tolerance"], ("wall",))
+        out["tolerance"] = {k: scale_keys(v, ("plus", "minus")) if isinstance(v, dict) else v
+                            for k, v in tolerance.items()}
     return out
 
 

@@ -15,6 +15,7 @@ import pytest
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from test_simulate import OD_SLEEVE, run_cli, write_job  # noqa: E402
+from test_tune import in_inches  # noqa: E402
 
 from deflect.output.tune_report import number_text  # noqa: E402
 
@@ -87,14 +88,8 @@ def test_an_inch_report_says_its_lengths_are_in_mm(tmp_path):
 @pytest.mark.parametrize("command", ["rules", "chatter", "compare"])
 def test_every_report_of_an_inch_job_says_its_lengths_are_in_mm(tmp_path, command):
     """rules, chatter and compare print lengths in mm as the other reports do, and say so first."""
-    inch = copy.deepcopy(OD_SLEEVE)
-    inch["job"]["units"] = "inch"
-    inch["part"]["outline"] = [[r / MM_PER_INCH, z / MM_PER_INCH] for r, z in inch["part"]["outline"]]
-    inch["stock"]["outline"] = [[r / MM_PER_INCH, z / MM_PER_INCH] for r, z in inch["stock"]["outline"]]
-    inch["held"] = [{"r": [0.0, 100.0 / MM_PER_INCH], "z": [0.0, 5.0 / MM_PER_INCH]}]
-    inch["tool"] = [{**inch["tool"][0], "nose_radius": 0.4 / MM_PER_INCH}]
-    inch["pass"] = [{**inch["pass"][0], "feed": 0.1 / MM_PER_INCH, "z": [40.0 / MM_PER_INCH, 6.0 / MM_PER_INCH]}]
-    paths = {units: write_job(tmp_path, units, tables) for units, tables in (("inch", inch), ("mm", OD_SLEEVE))}
+    paths = {units: write_job(tmp_path, units, tables)
+             for units, tables in (("inch", in_inches(OD_SLEEVE)), ("mm", OD_SLEEVE))}
     for units, path in paths.items():
         args = [command, str(path)] + ([str(paths["mm"])] if command == "compare" else []) + ["--quiet"] * (
             command == "compare")
