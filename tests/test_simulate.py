@@ -675,9 +675,10 @@ def test_a_surface_cut_under_the_drawing_shows_in_the_headline(tmp_path):
     job = write_job(tmp_path, "under", tables)
     code, out, err = run_cli(["predict", str(job), "--json", "--quiet"])
     assert code == 0, err
-    predicted = json.loads(out)["predicted"]
-    finished_od = [d for d in json.loads(out)["deviation"] if d["finished_by"] == "finish OD" and not d["corner"]]
-    push_off_mm = max(s["deflection_mm"] for s in json.loads(out)["passes"][0]["stations"])
+    payload = json.loads(out)
+    predicted = payload["predicted"]
+    finished_od = [d for d in payload["deviation"] if d["finished_by"] == "finish OD" and not d["corner"]]
+    push_off_mm = max(s["deflection_mm"] for s in payload["passes"][0]["stations"])
     assert -offset_mm - push_off_mm - 1e-6 <= predicted["most_cut_below_mm"] <= -offset_mm + 1e-6
     assert predicted["most_cut_below_mm"] == pytest.approx(-min(d["deviation_mm"] for d in finished_od), abs=1e-6)
     assert predicted["most_cut_below_at"]["r_mm"] == pytest.approx(20.0, abs=1e-6)
@@ -687,5 +688,5 @@ def test_a_surface_cut_under_the_drawing_shows_in_the_headline(tmp_path):
     assert f"{predicted['most_cut_below_mm']:.3f} mm a side, at r 20.00" in line
     # as programmed (no offset) nothing is cut under, and the headline has no such line
     code, out, _ = run_cli(["predict", str(write_job(tmp_path, "on-size", OD_SLEEVE)), "--json", "--quiet"])
-    assert json.loads(out)["predicted"]["most_cut_below_mm"] == 0.0
-    assert json.loads(out)["predicted"]["most_cut_below_at"] is None
+    on_size = json.loads(out)["predicted"]
+    assert on_size["most_cut_below_mm"] == 0.0 and on_size["most_cut_below_at"] is None
