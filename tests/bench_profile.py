@@ -3,7 +3,7 @@
 The profile that bounds the speed of `predict` (issue 16): for the demo (or the job given), CPU seconds of
   * start-up: importing what `predict` imports, in fresh child processes, less a bare interpreter's start;
   * each stage of the command in one process, as `cli.run_prediction` and `predict --json` run them: reading the
-    job, laying out the process, the simulation, the chatter check of the finishing passes, the drawing check,
+    job and its process, the simulation, the chatter check of the finishing passes, the drawing check,
     the design rules, the JSON;
   * inside the simulation: the key stations' wall models (their count, and per model the mid-surface, the
     harmonic sum and the rest: element matrices, cutting the part to the tool, placing the load).
@@ -97,12 +97,13 @@ def stages(job_file: Path) -> dict[str, float]:
         return value
 
     job = step("read the job", read_job, str(job_file))
-    process = step("lay out the process", process_from_job, job)
-    pred = step("simulation", simulate.simulate, job, process)
+    process = step("read the process (passes, targets)", process_from_job, job)
+    memo: dict = {}                            # shared by the three as `cli.run_prediction` shares it
+    pred = step("simulation", lambda: simulate.simulate(job, process, memo=memo))
     dynamics = dynamics_from_job(job.tables)
-    warnings = step("chatter check", chatter.prediction_warnings, job, process, pred, dynamics)
+    warnings = step("chatter check", chatter.prediction_warnings, job, process, pred, dynamics, memo)
     tolerances = tolerance_from_table(job.tables["tolerance"]) if "tolerance" in job.tables else None
-    judged = step("drawing check", verdict, job, process, pred, tolerances)
+    judged = step("drawing check", verdict, job, process, pred, tolerances, memo)
     step("design rules", check_rules, job, process)
     step("JSON", lambda: json.dumps(prediction_payload(pred, judged.checks, judged.warnings + warnings), indent=2))
     out["  the key stations' wall models"] = watch.seconds.get("key stations", 0.0)
